@@ -1,0 +1,22 @@
+"""Shared fixtures."""
+from __future__ import annotations
+
+import os
+import shutil
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = ROOT / "examples"
+
+
+@pytest.fixture
+def ngspice() -> str:
+    """Path of the ngspice binary; skips when missing, except under CI, where it must be installed."""
+    path = shutil.which("ngspice")
+    if path is None:
+        if os.environ.get("CI"):
+            pytest.fail("ngspice is required under CI (.ci/run installs it with apt-get)")
+        pytest.skip("ngspice not installed (apt-get install -y ngspice)")
+    return path

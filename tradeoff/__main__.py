@@ -1,0 +1,4 @@
+"""Allow `python -m tradeoff`."""
+from tradeoff.cli import main
+
+main()
