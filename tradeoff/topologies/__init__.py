@@ -1,0 +1,1 @@
+"""Timing topologies: one module each, all behind `tradeoff.topologies.base.Topology`."""

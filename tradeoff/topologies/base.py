@@ -1,0 +1,358 @@
+"""The one interface every timing topology implements, and what is built on it once.
+
+A topology subclass implements the physics (`uncertain`, `delay`), the parts (`bom`,
+`standby`, `rails`), its design rules (`checks`) and what the optimiser chooses from
+(`roles`, `selection`). Corner search, Monte Carlo, yield, feasibility against the brief
+and the result object are written here, once, for all of them.
+"""
+from __future__ import annotations
+
+import math
+from abc import ABC, abstractmethod
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping
+
+import numpy as np
+
+from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, worst_case
+
+if TYPE_CHECKING:  # pragma: no cover - typing only
+    from tradeoff.brief import Brief
+    from tradeoff.catalog import Catalog, Part
+    from tradeoff.selection import SelectionModel
+
+__all__ = [
+    "Role", "Design", "BomLine", "Standby", "Finding", "Waveform", "Evaluation", "Topology",
+    "ENVIRONMENT", "NOMINAL_AMBIENT_C",
+]
+
+ENVIRONMENT = ("ambient_c", "supply_v")
+"""Names of the environment quantities every delay model receives: ambient [degC], supply [V]."""
+
+NOMINAL_AMBIENT_C = 25.0
+"""Ambient used for the nominal delay when the brief's range includes it [degC]; else the range's midpoint."""
+
+
+@dataclass(frozen=True)
+class Role:
+    """A component value the optimiser picks.
+
+    kind: 'resistor' or 'capacitor'; categories: catalog categories allowed (e.g. ('capacitor',));
+    dielectrics: for capacitors, which dielectrics ('electrolytic', 'film', 'ceramic') may fill it;
+    lo, hi: allowed value range [ohm] or [F]; description in the designer's words.
+    """
+
+    name: str
+    kind: Literal["resistor", "capacitor"]
+    lo: float
+    hi: float
+    description: str
+    dielectrics: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Design:
+    """A concrete design: topology id, component values [SI], discrete options, part overrides.
+
+    values: role -> value [ohm, F]; options: e.g. {'darlington': 'darlington-npn-small', 'stage': 14};
+    overrides: part id -> {param: SI value} replacing catalog parameters (for reference checks
+    against one specific transistor or capacitor); pairs: role -> the two standard values whose
+    series combination makes the role's value, when series pairs are used.
+    """
+
+    topology: str
+    values: Mapping[str, float] = field(default_factory=dict)
+    options: Mapping[str, Any] = field(default_factory=dict)
+    overrides: Mapping[str, Mapping[str, float]] = field(default_factory=dict)
+    pairs: Mapping[str, tuple[float, float]] = field(default_factory=dict)
+
+    def key(self) -> tuple:
+        """Hashable identity used to tell designs apart (alternatives, no-good cuts)."""
+        return (self.topology, tuple(sorted(self.values.items())), tuple(sorted(self.options.items())),
+                tuple(sorted(self.pairs.items())))
+
+
+@dataclass(frozen=True)
+class BomLine:
+    """One bill-of-materials line: reference designators, part class id, value text, quantity, unit cost [EUR]."""
+
+    refs: str
+    part: str
+    value: str
+    quantity: int
+    unit_cost: float
+    note: str = ""
+
+    @property
+    def cost(self) -> float:
+        """Line cost [EUR, indicative]."""
+        return self.quantity * self.unit_cost
+
+
+@dataclass(frozen=True)
+class Standby:
+    """Supply current while timing and after the timeout, at nominal supply [A]."""
+
+    during_a: float
+    after_a: float
+
+
+@dataclass(frozen=True)
+class Finding:
+    """A design-rule result. severity 'violation' makes the design infeasible; 'warning' is reported."""
+
+    severity: Literal["info", "warning", "violation"]
+    code: str
+    message: str
+
+
+@dataclass(frozen=True)
+class Waveform:
+    """Control signal against time for plots: time [s], signal [unit], the level where the delay ends."""
+
+    time_s: np.ndarray
+    signal: np.ndarray
+    signal_label: str
+    unit: str
+    threshold: float
+    threshold_label: str
+
+
+def _finite_or_none(value: float) -> float | None:
+    return float(value) if math.isfinite(value) else None
+
+
+@dataclass
+class Evaluation:
+    """Everything the tool says about one design against one brief."""
+
+    topology: str
+    design: Design
+    nominal_s: float
+    worst: WorstCase
+    mc: MonteCarlo
+    standby: Standby
+    rails: int
+    bom: list[BomLine]
+    findings: list[Finding]
+    band: tuple[float, float]
+    coverage: float
+    supply_v: float
+    adapter_no_load_w: float | None
+    effort: float
+    reasons: list[str] = field(default_factory=list)
+
+    @property
+    def placements(self) -> int:
+        """Parts placed on the board."""
+        return sum(line.quantity for line in self.bom)
+
+    @property
+    def lines(self) -> int:
+        """Distinct bill-of-materials lines."""
+        return len(self.bom)
+
+    @property
+    def cost(self) -> float:
+        """Indicative BOM cost [EUR]."""
+        return float(sum(line.cost for line in self.bom))
+
+    @property
+    def feasible(self) -> bool:
+        """True when the design meets the brief at every corner and breaks no design rule."""
+        return not self.reasons
+
+    @property
+    def spread_frac(self) -> float:
+        """Worst-case relative spread of the delay: (max - min) / nominal (inf if some unit never times out)."""
+        return (self.worst.max_s - self.worst.min_s) / self.nominal_s
+
+    @property
+    def after_w(self) -> float:
+        """Circuit power after the timeout at nominal supply [W], without the adapter's own draw."""
+        return self.standby.after_a * self.supply_v
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready result (SI units in key suffixes; never NaN or infinity: null with a reason)."""
+        pct = {f"p{100 * q:g}_s": _finite_or_none(v) for q, v in sorted(self.mc.percentiles.items())}
+        adapter = self.adapter_no_load_w
+        return {
+            "topology": self.topology,
+            "values": dict(self.design.values),
+            "options": {k: (v if isinstance(v, (int, float, str)) else str(v)) for k, v in self.design.options.items()},
+            "delay": {
+                "nominal_s": _finite_or_none(self.nominal_s),
+                "worst_min_s": _finite_or_none(self.worst.min_s),
+                "worst_max_s": _finite_or_none(self.worst.max_s),
+                "band_s": list(self.band),
+                "corner_method": self.worst.method,
+                "worst_min_corner": self.worst.at_min,
+                "worst_max_corner": self.worst.at_max,
+                "percentiles": pct,
+                "coverage": self.coverage,
+                "mean_s": _finite_or_none(self.mc.mean_s),
+                "std_s": _finite_or_none(self.mc.std_s),
+                "yield": self.mc.yield_frac,
+                "yield_ci95": list(self.mc.yield_ci),
+                "never_ends_frac": self.mc.never_ends_frac,
+                "samples": self.mc.samples,
+                "seed": self.mc.seed,
+            },
+            "standby": {
+                "during_a": self.standby.during_a,
+                "after_a": self.standby.after_a,
+                "after_w": self.after_w,
+                "after_w_with_adapter": None if adapter is None else self.after_w + adapter,
+            },
+            "rails": self.rails,
+            "parts": {"placements": self.placements, "lines": self.lines},
+            "cost": self.cost,
+            "effort": self.effort,
+            "warnings": [f.message for f in self.findings if f.severity != "info"],
+            "findings": [{"severity": f.severity, "code": f.code, "message": f.message} for f in self.findings],
+            "feasible": self.feasible,
+            "reasons": list(self.reasons),
+        }
+
+
+class Topology(ABC):
+    """Base of every timing topology. Subclasses set `id` and implement the abstract methods.
+
+    Constructed with the brief, the merged catalog and the topology's own catalog entry
+    (category 'topology'), whose parameters (effort, default part classes) the subclass reads.
+    """
+
+    id: ClassVar[str]
+
+    def __init__(self, brief: "Brief", catalog: "Catalog", entry: "Part"):
+        self.brief = brief
+        self.catalog = catalog
+        self.entry = entry
+
+    # ---- what a subclass implements -------------------------------------------------
+    @abstractmethod
+    def roles(self) -> list[Role]:
+        """The component values the optimiser picks, with their allowed ranges."""
+
+    @abstractmethod
+    def uncertain(self, design: Design) -> dict[str, Uncertain]:
+        """Every spread quantity of `design` except the environment (SI units)."""
+
+    @abstractmethod
+    def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Delay [s] for each sample in `x` (uncertain names plus 'ambient_c' [degC], 'supply_v' [V]).
+
+        Returns np.inf where a unit never times out; never NaN.
+        """
+
+    @abstractmethod
+    def bom(self, design: Design) -> list[BomLine]:
+        """Bill of materials of `design`."""
+
+    @abstractmethod
+    def standby(self, design: Design) -> Standby:
+        """Supply current during timing and after the timeout at nominal supply [A]."""
+
+    @abstractmethod
+    def checks(self, design: Design) -> list[Finding]:
+        """Design-rule checks (ratings, drive, chatter band, leakage versus charging current ...)."""
+
+    @abstractmethod
+    def selection(self) -> "SelectionModel":
+        """Candidate tables and links for the optimiser."""
+
+    # ---- defaults a subclass may override -------------------------------------------
+    def rails(self, design: Design) -> int:
+        """Supply rails the design needs (1: runs straight from the brief's supply)."""
+        return 1
+
+    def effort(self, design: Design) -> float:
+        """Engineering effort score, 0 (none) to 1 (firmware, programming step, ...), from the catalog entry."""
+        return self.entry.value("effort", "")
+
+    def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
+        """Control signal against time at the point `x`, for plots; None if the topology has none."""
+        return None
+
+    def spice(self, design: Design) -> str | None:
+        """SPICE netlist of `design` with a transient analysis and `.measure delay`; None if not available."""
+        return None
+
+    @property
+    def description(self) -> str:
+        """One-line description from the catalog entry."""
+        return self.entry.description
+
+    # ---- built once, here ------------------------------------------------------------
+    def environment(self) -> dict[str, Uncertain]:
+        """Ambient [degC] and supply [V] over the brief's ranges (uniform in Monte Carlo: a stated assumption)."""
+        amb, sup = self.brief.ambient, self.brief.supply
+        t_nom = NOMINAL_AMBIENT_C if amb.min_c <= NOMINAL_AMBIENT_C <= amb.max_c else (amb.min_c + amb.max_c) / 2
+        return {
+            "ambient_c": Uncertain(t_nom, amb.min_c, amb.max_c, unit="degC", note="brief: ambient range"),
+            "supply_v": Uncertain(sup.nominal_v, sup.min_v, sup.max_v, unit="V", note="brief: supply range"),
+        }
+
+    def quantities(self, design: Design) -> dict[str, Uncertain]:
+        """Environment plus the design's own spread quantities."""
+        return {**self.environment(), **self.uncertain(design)}
+
+    def nominal_point(self, design: Design) -> dict[str, float]:
+        """Every quantity at its nominal value."""
+        return {n: q.nominal for n, q in self.quantities(design).items()}
+
+    def nominal_delay(self, design: Design) -> float:
+        """Delay at every quantity's nominal value [s]."""
+        x = {n: np.array([v]) for n, v in self.nominal_point(design).items()}
+        return float(np.asarray(self.delay(design, x), dtype=float).reshape(-1)[0])
+
+    def worst_case(self, design: Design) -> WorstCase:
+        """Extreme delays over the corners [s]."""
+        return worst_case(lambda x: self.delay(design, x), self.quantities(design))
+
+    def monte_carlo(self, design: Design, samples: int | None = None, seed: int | None = None) -> MonteCarlo:
+        """Seeded, vectorised Monte Carlo of the delay with the brief's band and coverage."""
+        a = self.brief.analysis
+        return monte_carlo(
+            lambda x: self.delay(design, x), self.quantities(design),
+            samples=a.samples if samples is None else samples, seed=a.seed if seed is None else seed,
+            band=(self.brief.delay.min_s, self.brief.delay.max_s), coverage=a.coverage,
+        )
+
+    def evaluate(self, design: Design, samples: int | None = None, seed: int | None = None) -> Evaluation:
+        """Full verification of `design` against the brief: corners, Monte Carlo, limits, design rules."""
+        ev = Evaluation(
+            topology=self.id, design=design, nominal_s=self.nominal_delay(design),
+            worst=self.worst_case(design), mc=self.monte_carlo(design, samples, seed),
+            standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
+            findings=self.checks(design), band=(self.brief.delay.min_s, self.brief.delay.max_s),
+            coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
+            adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
+        )
+        ev.reasons = self._shortfalls(ev)
+        return ev
+
+    def _shortfalls(self, ev: Evaluation) -> list[str]:
+        """Why `ev` fails the brief, in the designer's terms with numbers; empty when it meets it."""
+        from tradeoff.units import format_quantity as fq
+
+        out = []
+        lo, hi = ev.band
+        if ev.worst.min_s < lo:
+            out.append(f"worst-case shortest delay {fq(ev.worst.min_s, 's')} is below the band's minimum {fq(lo, 's')}")
+        if not math.isfinite(ev.worst.max_s):
+            out.append("at some corners the unit never times out (the end condition is never reached)")
+        elif ev.worst.max_s > hi:
+            out.append(f"worst-case longest delay {fq(ev.worst.max_s, 's')} exceeds the band's maximum {fq(hi, 's')}")
+        lim = self.brief.limits
+        if lim.standby_after_a is not None and ev.standby.after_a > lim.standby_after_a:
+            out.append(f"standby current after the timeout {fq(ev.standby.after_a, 'A')} exceeds the limit "
+                       f"{fq(lim.standby_after_a, 'A')}")
+        if lim.rails is not None and ev.rails > lim.rails:
+            out.append(f"needs {ev.rails} supply rails; the limit is {lim.rails}")
+        if lim.parts is not None and ev.placements > lim.parts:
+            out.append(f"needs {ev.placements} parts; the limit is {lim.parts}")
+        if lim.cost is not None and ev.cost > lim.cost:
+            out.append(f"indicative cost {ev.cost:.2f} EUR exceeds the limit {lim.cost:.2f} EUR")
+        out.extend(f.message for f in ev.findings if f.severity == "violation")
+        return out
