@@ -15,6 +15,7 @@ __all__ = [
     "BriefError",
     "CatalogError",
     "DesignError",
+    "UnitParseError",
     "InfeasibleError",
     "SolverError",
     "SimulatorError",
@@ -74,6 +75,12 @@ class CatalogError(InputError):
 
 class DesignError(InputError):
     """A design file (topology plus chosen values) is malformed or names unknown parts."""
+
+
+class UnitParseError(TradeoffError, ValueError):
+    """A quantity or percentage string is malformed or has the wrong dimension (no location: callers add it)."""
+
+    exit_code = 2
 
 
 class InfeasibleError(TradeoffError, RuntimeError):

@@ -1,0 +1,267 @@
+"""Quantity and fraction parsing for input files, and the one formatter every display uses.
+
+Quantities (`"2.2 Mohm"`, `"47 µF"`, `"4 h"`, `"25 degC"`) are read with pint, through one
+registry created on first use (pint's import costs about half a second). Percentages and
+tolerances (`"±20 %"`) are read here, not by pint, which misreads `±` and rejects `+/-`.
+
+Accepted spellings, beyond pint's own unit names:
+- `Ω` (Greek omega or the ohm sign) and any capitalisation of `ohm` (`Ohm`, `OHM`);
+- `µ` (micro sign) and `μ` (Greek mu) for micro, as well as `u`;
+- `meg`, `Meg`, `MEG`, `megohm`, `Megohm` for megohm (`2.2meg`, `2.2 Meg`);
+- `°C` for degC; `−` (Unicode minus) for a minus sign; `/degC` in a coefficient reads as `/K`.
+
+Rejected on purpose, with a hint:
+- a bare number where a unit belongs (`"12"` for a voltage): only dimensionless fields take numbers;
+- a prefix separated from its unit (`"2.2M ohm"`: pint reads `M` as molar) or a prefix with no
+  unit (`"47k"`);
+- `mohm` (milliohm by the letter, almost always a mistyped megohm); write `milliohm` or `mΩ` when
+  a milliohm is really meant;
+- RKM codes (`4k7`, `2M2`, `4R7`): the hint gives the spelling to use instead;
+- NaN, infinity, and values that overflow a float.
+
+Results are SI floats in the coherent unit of the expected dimension (`"47 uF"` -> 4.7e-05
+[F], `"4 h"` -> 14400.0 [s]), except temperatures asked for in `degC`, returned as degrees
+Celsius (converted from K or degF without offset arithmetic).
+"""
+from __future__ import annotations
+
+import functools
+import math
+import re
+
+from tradeoff.errors import UnitParseError
+
+__all__ = ["UnitParseError", "parse_quantity", "parse_fraction", "format_quantity"]
+
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_QUANTITY_RE = re.compile(rf"^\s*({_NUMBER})\s*(.*?)\s*$")
+_PREFIX_LETTERS = "GMkmunpµ"
+_SPACED_PREFIX_RE = re.compile(rf"^([{_PREFIX_LETTERS}])\s+(\S.*)$")
+_RKM_RE = re.compile(r"^\s*(\d+)([RrkKMG])(\d+)\s*$")
+_RKM_PREFIX = {"R": "", "r": "", "k": "k", "K": "k", "M": "M", "G": "G"}
+_CELSIUS = ("degC", "°C", "celsius", "degree_Celsius")
+
+# Spelling fixes applied to the unit text before pint reads it, in this order.
+_UNIT_SPELLINGS = (
+    (re.compile(r"[ΩΩ]"), "ohm"),
+    (re.compile(r"ohms?\b", re.IGNORECASE), "ohm"),
+    (re.compile(r"[µμ]"), "u"),
+    (re.compile(r"[°º]\s*C\b"), "degC"),
+    (re.compile(r"[°º]\s*F\b"), "degF"),
+    (re.compile(r"^(?:meg|Meg|MEG)(?:ohm)?$"), "Mohm"),
+    (re.compile(r"/\s*(?:degC|celsius)\b"), "/K"),
+)
+
+# What a dimension is called in messages, and what a user may write for it.
+_DIMENSIONS = (
+    ("s", "a time", "'4 h', '90 min', '30 s'"),
+    ("V", "a voltage", "'12 V', '600 mV'"),
+    ("A", "a current", "'150 mA', '3 uA'"),
+    ("ohm", "a resistance", "'2.2 Mohm', '470 kΩ', '2.2meg'"),
+    ("F", "a capacitance", "'47 uF', '100 nF'"),
+    ("W", "a power", "'0.3 W', '250 mW'"),
+    ("K", "a temperature", "'25 degC', '-10 °C'"),
+    ("Hz", "a frequency", "'32.768 kHz', '1 MHz'"),
+    ("1/K", "a temperature coefficient", "'50 ppm/K', '-0.1 %/K'"),
+    ("J", "an energy", "'1 J'"),
+    ("C", "a charge", "'1 uC'"),
+    ("H", "an inductance", "'10 mH'"),
+    ("m", "a length (pint reads a bare 'm' as metre)", "'1 m'"),
+    ("kg", "a mass", "'1 g'"),
+    ("M", "a concentration (pint reads a bare 'M' as molar)", "'1 M'"),
+    ("dimensionless", "a plain number", "'10000', '50 ppm'"),
+)
+
+_SYMBOLS = {"ohm": "Ω", "degC": "°C"}
+_ENGINEERING_PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+
+
+@functools.lru_cache(maxsize=1)
+def _registry():
+    """The one pint registry, created on first use."""
+    import pint
+
+    return pint.UnitRegistry()
+
+
+def _normalise_unit(unit_text: str) -> str:
+    """Rewrite designer spellings (Ω, µ, meg, °C) into names pint knows."""
+    for pattern, replacement in _UNIT_SPELLINGS:
+        unit_text = pattern.sub(replacement, unit_text)
+    return unit_text
+
+
+def _pint_units(unit_text: str):
+    """Parse unit text with pint; None when pint cannot read it."""
+    try:
+        return _registry().parse_units(unit_text)
+    except Exception:  # pint's parser raises a zoo (AttributeError, TypeError, SyntaxError, ...)
+        return None
+
+
+@functools.lru_cache(maxsize=None)
+def _describe(unit: str) -> tuple[str, str]:
+    """(name, accepted spellings) of the dimension of `unit`, for messages."""
+    registry = _registry()
+    units = _pint_units(unit)
+    if units is None:
+        return f"a quantity in {unit}", f"'1 {unit}'"
+    wanted = registry.Quantity(1, units).dimensionality
+    for reference, name, examples in _DIMENSIONS:
+        if registry.Quantity(1, reference).dimensionality == wanted:
+            return name, examples
+    return f"a quantity in {unit}", f"'1 {unit}'"
+
+
+def _reject(text: object, unit: str, what: str) -> UnitParseError:
+    """Error saying what is wrong with `text` and what the field accepts."""
+    name, examples = _describe(unit)
+    return UnitParseError(f"{what}; expected {name} such as {examples}")
+
+
+def _spelling_problem(text: str, number: str, unit_text: str, unit: str) -> str | None:
+    """What is wrong with a spelling pint would misread, or None."""
+    symbol = _SYMBOLS.get(unit, unit)
+    rkm = _RKM_RE.match(text)
+    if rkm:
+        whole, letter, decimals = rkm.groups()
+        return (f"'{text.strip()}' is an RKM code, not accepted; "
+                f"write '{whole}.{decimals} {_RKM_PREFIX[letter]}ohm'")
+    spaced = _SPACED_PREFIX_RE.match(unit_text)
+    if spaced:
+        prefix, rest = spaced.groups()
+        return (f"'{text.strip()}' has a space between the prefix '{prefix}' and the unit '{rest}', "
+                f"so pint reads '{prefix}' as a unit of its own; write '{number} {prefix}{rest}'")
+    if len(unit_text) == 1 and unit_text in _PREFIX_LETTERS and unit_text != unit:
+        return f"'{text.strip()}' has the prefix '{unit_text}' but no unit; write '{number} {unit_text}{symbol}'"
+    if re.fullmatch(r"mohm", unit_text):
+        return (f"'{text.strip()}' reads as milliohm, almost surely a mistyped megohm; "
+                f"write '{number} Mohm' for megohm or '{number} milliohm' explicitly")
+    return None
+
+
+def parse_quantity(text: str | int | float, unit: str) -> float:
+    """Parse `text` (e.g. "2.2 Mohm") checked against the dimension of `unit` (e.g. "ohm").
+
+    Returns the value in the coherent SI unit of that dimension ([ohm], [F], [s], ...), or in
+    [degC] when `unit` is degC. A bare number (str or int/float) is accepted only when `unit`
+    is dimensionless. Raises UnitParseError saying what was expected and what was found.
+    """
+    expected = _pint_units(_normalise_unit(unit))
+    if expected is None:
+        raise ValueError(f"unit {unit!r} is not known to pint")  # a programming error, not user input
+    registry = _registry()
+    dimensionless = registry.Quantity(1, expected).dimensionality == registry.Quantity(1).dimensionality
+    if isinstance(text, bool) or not isinstance(text, (str, int, float)):
+        raise _reject(text, unit, f"got {type(text).__name__} {text!r}, not a quantity string")
+    if isinstance(text, (int, float)):
+        if not dimensionless:
+            raise _reject(text, unit, f"the bare number {text!r} has no unit")
+        text = repr(text)
+    raw = text
+    text = text.replace("\u2212", "-")
+    match = _QUANTITY_RE.match(text)
+    if not match:
+        raise _reject(raw, unit, f"'{raw.strip()}' does not start with a number")
+    number, unit_text = match.groups()
+    problem = _spelling_problem(text, number, unit_text, unit)
+    if problem:
+        raise _reject(raw, unit, problem)
+    magnitude = float(number)
+    if not math.isfinite(magnitude):
+        raise _reject(raw, unit, f"'{raw.strip()}' is too large to be a number")
+    if not unit_text and not dimensionless:
+        raise _reject(raw, unit, f"'{raw.strip()}' has no unit")
+    found = _pint_units(_normalise_unit(unit_text)) if unit_text else registry.dimensionless
+    if found is None:
+        raise _reject(raw, unit, f"'{unit_text}' in '{raw.strip()}' is not a unit pint knows")
+    quantity = registry.Quantity(magnitude, found)
+    wanted = registry.Quantity(1, expected)
+    if quantity.dimensionality != wanted.dimensionality:
+        found_name = _describe(str(found))[0] if unit_text else "a plain number"
+        raise _reject(raw, unit, f"'{raw.strip()}' is {found_name}")
+    try:
+        if unit in _CELSIUS:
+            value = float(quantity.to("degC").magnitude)
+        else:
+            value = float(quantity.to_base_units().magnitude)
+    except Exception as exc:  # offset units inside compound units cannot be converted
+        raise _reject(raw, unit, f"'{raw.strip()}' cannot be converted ({type(exc).__name__})") from None
+    if not math.isfinite(value):
+        raise _reject(raw, unit, f"'{raw.strip()}' overflows")
+    return value
+
+
+_FRACTION_RE = re.compile(rf"^\s*(±|\+/-|\+-)?\s*({_NUMBER})\s*(%?)\s*$")
+_FRACTION_ACCEPTED = "accepted: '20 %', '±20 %', '+/-20%', or a fraction below 1 such as 0.2"
+
+
+def parse_fraction(text: str | int | float) -> float:
+    """Parse a percentage or fraction into a fraction: "20 %", "±20 %", "+/-20%" and 0.2 give 0.2.
+
+    A bare number is a fraction and must lie in (-1, 1); a bare number of 1 or more (e.g. 20) is
+    rejected as ambiguous (20 % or 20 times?). `±`/`+/-` mark a symmetric tolerance and need a
+    non-negative number. Raises UnitParseError.
+    """
+    if isinstance(text, bool) or not isinstance(text, (str, int, float)):
+        raise UnitParseError(f"got {type(text).__name__} {text!r}, not a percentage; {_FRACTION_ACCEPTED}")
+    shown = text.strip() if isinstance(text, str) else repr(text)
+    match = _FRACTION_RE.match(repr(text) if isinstance(text, (int, float)) else text.replace("\u2212", "-"))
+    if not match:
+        raise UnitParseError(f"'{shown}' is not a percentage or fraction; {_FRACTION_ACCEPTED}")
+    plus_minus, number, percent = match.groups()
+    value = float(number)
+    if not math.isfinite(value):
+        raise UnitParseError(f"'{shown}' is too large to be a number; {_FRACTION_ACCEPTED}")
+    if plus_minus and value < 0:
+        raise UnitParseError(f"'{shown}' puts a sign after '±'; write '±{number.lstrip('+-')} %'")
+    if percent:
+        return value / 100.0
+    if abs(value) >= 1:
+        raise UnitParseError(f"the bare number '{shown}' is ambiguous; write '{number} %' for percent "
+                             f"or a fraction below 1 such as {value / 100:g}")
+    return value
+
+
+def _engineering(value: float, symbol: str, digits: int) -> str:
+    """`value` with an engineering prefix on `symbol`, `digits` significant digits."""
+    if value == 0:
+        return f"0 {symbol}"
+    exponent = max(-15, min(12, 3 * math.floor(math.log10(abs(value)) / 3)))
+    mantissa = float(f"{value / 10 ** exponent:.{digits}g}")
+    if abs(mantissa) >= 1000 and exponent < 12:
+        exponent += 3
+        mantissa = float(f"{value / 10 ** exponent:.{digits}g}")
+    return f"{mantissa:.{digits}g} {_ENGINEERING_PREFIXES[exponent]}{symbol}"
+
+
+def _rounded(value: float, digits: int) -> float:
+    """`value` rounded to `digits` significant digits."""
+    return float(f"{value:.{digits}g}")
+
+
+def format_quantity(value: float, unit: str, digits: int = 3) -> str:
+    """Display text for an SI `value` in `unit`: 2.2e6, "ohm" -> "2.2 MΩ"; 4.7e-5, "F" -> "47 µF".
+
+    Times ("s") below a minute use s/ms/µs, below an hour min, otherwise h (14400 -> "4 h");
+    "degC" prints "25 °C"; "%" takes a fraction (0.2 -> "20 %"); "" prints a plain number.
+    Raises ValueError for NaN or infinity, which must never reach a display.
+    """
+    if not math.isfinite(value):
+        raise ValueError(f"cannot display a non-finite value {value!r} {unit}")
+    value = float(value)
+    if unit == "s":
+        if abs(_rounded(value / 3600, digits)) >= 1:
+            return f"{_rounded(value / 3600, digits):g} h"
+        if abs(_rounded(value / 60, digits)) >= 1:
+            return f"{_rounded(value / 60, digits):g} min"
+        return _engineering(value, "s", digits)
+    if unit == "%":
+        return f"{_rounded(value * 100, digits):g} %"
+    if unit in _CELSIUS:
+        return f"{_rounded(value, digits):g} °C"
+    if unit in ("", "dimensionless", "1"):
+        if value.is_integer() and abs(value) < 1e15:
+            return str(int(value))
+        return f"{_rounded(value, digits):g}"
+    return _engineering(value, _SYMBOLS.get(unit, unit), digits)
