@@ -44,6 +44,46 @@ def cli():
     """
 
 
+@cli.command()
+@click.argument("brief", type=click.Path(dir_okay=False))
+@_translate_errors
+def check(brief):
+    """Validate BRIEF and print it normalised: every value with its unit and
+    whether it was given, a default or derived from other values.
+
+    Exits 2 listing every problem (FILE:LINE:COLUMN: key: what is wrong) when the
+    brief is malformed or contradictory.
+
+    Example:
+
+        tradeoff check examples/towel_rail_boost.yaml
+    """
+    from rich.console import Console
+    from rich.table import Table
+
+    from tradeoff.brief import load_brief
+
+    loaded = load_brief(brief)
+    console = Console()
+    heading = f"{loaded.title} ({brief})"
+    if console.is_terminal:
+        table = Table(title=heading, title_justify="left")
+        for column in ("key", "value", "origin", "note"):
+            table.add_column(column)
+        for value in loaded.values:
+            table.add_row(value.key, value.text, value.origin, value.note)
+        console.print(table)
+    else:
+        key_width = max(len(v.key) for v in loaded.values)
+        text_width = max(len(v.text) for v in loaded.values)
+        click.echo(heading)
+        for value in loaded.values:
+            note = f"  {value.note}" if value.note else ""
+            click.echo(f"{value.key:<{key_width}}  {value.text:<{text_width}}  {value.origin}{note}".rstrip())
+    for caution in loaded.cautions:
+        click.echo(f"CAUTION: {caution}")
+
+
 def main():
     """Console-script entry point."""
     cli(prog_name="tradeoff")

@@ -1,0 +1,748 @@
+"""The brief: the designer's requirement file, validated into a frozen object of SI floats.
+
+`load_brief(path_or_text)` reads YAML (always with the SafeLoader), checks every key, unit,
+range and contradiction, and raises one `BriefError` listing every problem as
+`FILE:LINE:COLUMN: key.path: what is wrong; what is accepted`. Quantities are strings with
+units (`"4 h"`, `"2.2 Mohm"`, see `tradeoff.units`); a bare number is accepted only where the
+field is dimensionless (weights, counts, cost). Percentages are `"20 %"`, `"±20 %"` or a
+fraction below 1 (`0.2`).
+
+YAML shape and defaults (every default is recorded; `tradeoff check` shows which were used):
+
+    title: text                                   required
+    delay:      nominal, and tolerance | min+max   nominal required unless min and max are given
+                                                   (then nominal = their midpoint); no tolerance and
+                                                   no min/max: tolerance ±10 %
+    ambient:    min, max                           0 degC .. 40 degC (indoor, common practice)
+    supply:     nominal, min, max, kind,           nominal required; kind unregulated; min/max:
+                no_load_power                      unregulated -10 % / +20 %, regulated ±5 % of
+                                                   nominal (common practice); no_load_power none
+    start:      power-on | button                  power-on
+    load:       relay: {coil_voltage, coil_resistance, must_operate, must_release}
+                       with switched: {voltage, current, mains}  (required with a relay)
+                or dc: {current}                   the timer's output drives the dc load itself,
+                                                   so `switched` is derived (supply voltage, the
+                                                   dc current, not mains) and may not be given
+                must_operate 75 %, must_release 10 % (common relay datasheet limits);
+                mains: true above 50 V (the extra-low-voltage limit of IEC 61140)
+    limits:     standby_after, rails, parts, cost  none
+    weights:    accuracy, standby, rails, parts,   1 each (>= 0, at least one above 0)
+                cost, effort
+    series:     resistor, electrolytic, film,      E24, E6, E12, E12; pairs false
+                ceramic, pairs
+    topologies: all | [name, ...]                  all
+    analysis:   samples, seed, coverage            20000, 1, 0.99
+
+Accepted ranges (outside them is almost surely a typo): delays 10 ms .. 7 days; ambient
+-55 degC .. 125 degC; supply 1 V .. 60 V (the timer runs from extra-low voltage: mains belongs
+under load.switched); no-load power 0 .. 10 W; coil 1 V .. 60 V and 1 ohm .. 100 kohm; dc
+load 1 uA .. 10 A; switched 1 V .. 440 V and 1 mA .. 32 A; standby limit 1 nA .. 1 A; rails
+1 .. 10; parts 1 .. 500; cost 0 .. 10000; weights 0 .. 100; samples 100 .. 10,000,000; seed
+0 .. 2**32-1; coverage strictly between 0.5 and 1.
+"""
+from __future__ import annotations
+
+import copy
+import difflib
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+import yaml
+from pydantic import BaseModel, ConfigDict, PrivateAttr, ValidationError
+
+from tradeoff import yamlpos
+from tradeoff.errors import BriefError, Problem, UnitParseError
+from tradeoff.units import format_quantity, parse_fraction, parse_quantity
+
+__all__ = [
+    "Brief", "Delay", "Ambient", "Supply", "Load", "Switched", "Limits", "Weights", "Series",
+    "Analysis", "BriefValue", "MAINS_CAUTIONS", "load_brief", "known_topologies",
+]
+
+SERIES_NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
+SeriesName = Literal["E3", "E6", "E12", "E24", "E48", "E96", "E192"]
+
+DAY_S = 86400.0
+ELV_LIMIT_V = 50.0  # IEC 61140 extra-low-voltage limit, AC
+MAINS_MIN_V = 100.0  # lowest public mains voltage in use (100 V, Japan), from memory
+SUPPLY_SPREAD = {"unregulated": (-0.10, 0.20), "regulated": (-0.05, 0.05)}  # common practice
+
+
+MAINS_CAUTIONS = (
+    "Mains voltage can kill and start fires: build and test it only with the supply disconnected.",
+    "Keep the appliance's own thermal protection; this timer is not a substitute for certified protective controls.",
+    "Rate the relay contacts with margin above the switched voltage and current (inrush included).",
+    "Keep creepage and clearance between mains and the low-voltage side as the applicable standard requires.",
+    "Follow local wiring codes; mains work may require a licensed electrician.",
+)
+
+
+class _Frozen(BaseModel):
+    model_config = ConfigDict(strict=True, extra="forbid", frozen=True)
+
+
+class Delay(_Frozen):
+    """Required timing band [s]."""
+
+    nominal_s: float
+    min_s: float
+    max_s: float
+
+
+class Ambient(_Frozen):
+    """Ambient temperature range [degC]."""
+
+    min_c: float
+    max_c: float
+
+
+class Supply(_Frozen):
+    """The timer's own supply [V]; `no_load_power_w` is the adapter's own draw [W] when known."""
+
+    nominal_v: float
+    min_v: float
+    max_v: float
+    kind: Literal["unregulated", "regulated"]
+    no_load_power_w: float | None
+
+
+class Switched(_Frozen):
+    """What finally gets switched: voltage [V], current [A], and whether it is mains."""
+
+    voltage_v: float
+    current_a: float
+    mains: bool
+
+
+class Load(_Frozen):
+    """What the timer's output drives: a relay coil or a dc load; `current_a` [A] is the output current."""
+
+    kind: Literal["relay", "dc"]
+    coil_voltage_v: float | None
+    coil_resistance_ohm: float | None
+    must_operate_frac: float | None
+    must_release_frac: float | None
+    current_a: float
+    switched: Switched
+
+
+class Limits(_Frozen):
+    """Hard limits; None where the brief sets none. standby_after_a [A], cost in catalog currency."""
+
+    standby_after_a: float | None
+    rails: int | None
+    parts: int | None
+    cost: float | None
+
+
+class Weights(_Frozen):
+    """Relative importance of each criterion (>= 0; ranking normalises)."""
+
+    accuracy: float
+    standby: float
+    rails: float
+    parts: float
+    cost: float
+    effort: float
+
+
+class Series(_Frozen):
+    """Preferred-number series allowed per component class, and whether series pairs are allowed."""
+
+    resistor: SeriesName
+    electrolytic: SeriesName
+    film: SeriesName
+    ceramic: SeriesName
+    pairs: bool
+
+
+class Analysis(_Frozen):
+    """Monte Carlo settings; coverage 0.99 means the 0.5 % and 99.5 % percentiles must lie in the band."""
+
+    samples: int
+    seed: int
+    coverage: float
+
+
+@dataclass(frozen=True)
+class BriefValue:
+    """One value of a normalised brief, for display: YAML key, SI value, unit, where it came from."""
+
+    key: str
+    value: object
+    unit: str
+    origin: Literal["given", "default", "derived"]
+    note: str = ""
+
+    @property
+    def text(self) -> str:
+        """The value with its unit, as shown to the user."""
+        if self.value is None:
+            return "none"
+        if isinstance(self.value, bool):
+            return "true" if self.value else "false"
+        if isinstance(self.value, (int, float)):
+            return format_quantity(self.value, self.unit)
+        if isinstance(self.value, tuple):
+            return ", ".join(self.value)
+        return str(self.value)
+
+
+class Brief(_Frozen):
+    """A validated brief: SI floats, temperatures in degC, fractions as fractions."""
+
+    title: str
+    delay: Delay
+    ambient: Ambient
+    supply: Supply
+    start: Literal["power-on", "button"]
+    load: Load
+    limits: Limits
+    weights: Weights
+    series: Series
+    topologies: tuple[str, ...]
+    analysis: Analysis
+    path: Path | None
+
+    _data: dict = PrivateAttr(default_factory=dict)
+    _source: str = PrivateAttr(default="<brief>")
+    _root: Any = PrivateAttr(default=None)
+    _values: tuple[BriefValue, ...] = PrivateAttr(default=())
+
+    @property
+    def values(self) -> tuple[BriefValue, ...]:
+        """Every value in YAML key order, with unit and origin (given, default or derived)."""
+        return self._values
+
+    @property
+    def cautions(self) -> tuple[str, ...]:
+        """Safety cautions every output must carry: the mains cautions when the switched load is mains."""
+        return MAINS_CAUTIONS if self.load.switched.mains else ()
+
+    def defaults(self) -> list[str]:
+        """YAML keys whose values were defaults."""
+        return [v.key for v in self._values if v.origin == "default"]
+
+    def to_dict(self) -> dict[str, Any]:
+        """Normalised brief: SI values under unit-suffixed keys, plain lists, path as text."""
+        return self.model_dump(mode="json")
+
+    def replace(self, changes: Mapping[str, object]) -> "Brief":
+        """A validated copy with dotted YAML keys changed ({"delay.nominal": "1 h"}); None removes a key.
+
+        Validation is the same as for a file, so errors read the same; a problem in a changed
+        value names the key and says it came from the change.
+        """
+        data = copy.deepcopy(self._data)
+        for dotted, value in changes.items():
+            *parents, last = dotted.split(".")
+            node = data
+            for part in parents:
+                if not isinstance(node.get(part), dict):
+                    node[part] = {}
+                node = node[part]
+            if value is None:
+                node.pop(last, None)
+            else:
+                node[last] = value
+        return _build(data, self._source, self.path, self._root, changed=frozenset(changes))
+
+
+def known_topologies() -> tuple[str, ...] | None:
+    """Registered topology ids, or None when nothing is registered yet (then any name is accepted).
+
+    Reads the topology registry; while its catalog module is not there yet, reads the ids in
+    catalogs/topologies.yaml directly.
+    """
+    try:
+        from tradeoff.topologies.registry import topology_ids
+    except ModuleNotFoundError:
+        pass
+    else:
+        try:
+            ids = topology_ids()
+        except ModuleNotFoundError as exc:  # the catalog loader is not written yet
+            if not (exc.name or "").startswith("tradeoff"):
+                raise
+        else:
+            return tuple(ids) or None
+    here = Path(__file__).resolve().parent
+    for candidate in (here / "catalogs" / "topologies.yaml", here.parent / "catalogs" / "topologies.yaml"):
+        if candidate.is_file():
+            data = yaml.safe_load(candidate.read_text(encoding="utf-8")) or {}
+            ids = [p.get("id") for p in data.get("parts", []) if isinstance(p, dict)]
+            return tuple(i for i in ids if isinstance(i, str)) or None
+    return None
+
+
+class _Invalid(ValueError):
+    """A value that parsed but is not acceptable; the message says what is accepted."""
+
+
+def _show(value: object) -> str:
+    """Short text of a user value for messages."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _plain(value: float) -> str:
+    """A plain number for messages: integers in full, others in short form."""
+    return str(int(value)) if float(value).is_integer() else f"{value:g}"
+
+
+def _did_you_mean(word: str, options: Sequence[str]) -> str:
+    close = difflib.get_close_matches(word, options, n=1, cutoff=0.6)
+    return f" (did you mean '{close[0]}'?)" if close else ""
+
+
+def _dotted(path: Sequence[str | int]) -> str:
+    text = ""
+    for step in path:
+        text += f"[{step}]" if isinstance(step, int) else (f".{step}" if text else str(step))
+    return text
+
+
+def quantity(unit: str, lo: float, hi: float) -> Callable[[object], float]:
+    """Parser for a quantity in `unit`, accepted within [lo, hi] (SI, or degC)."""
+
+    def parse(raw: object) -> float:
+        value = parse_quantity(raw, unit)
+        if not lo <= value <= hi:
+            raise _Invalid(f"{format_quantity(value, unit)} is outside the accepted range; accepted: "
+                           f"{format_quantity(lo, unit)} to {format_quantity(hi, unit)}")
+        return value
+
+    return parse
+
+
+def fraction(lo: float, hi: float, *, open_lo: bool = False, open_hi: bool = False) -> Callable[[object], float]:
+    """Parser for a percentage or fraction accepted between lo and hi (fractions)."""
+
+    def parse(raw: object) -> float:
+        value = parse_fraction(raw)
+        if value < lo or value > hi or (open_lo and value == lo) or (open_hi and value == hi):
+            raise _Invalid(f"{format_quantity(value, '%')} is outside the accepted range; accepted: "
+                           f"{'above' if open_lo else 'from'} {format_quantity(lo, '%')} "
+                           f"{'and below' if open_hi else 'to'} {format_quantity(hi, '%')}")
+        return value
+
+    return parse
+
+
+def number(lo: float, hi: float, *, integer: bool = False) -> Callable[[object], float | int]:
+    """Parser for a plain number (an integer with `integer`) within [lo, hi]."""
+    kind = f"{'an integer' if integer else 'a number'} from {_plain(lo)} to {_plain(hi)}"
+
+    def parse(raw: object) -> float | int:
+        ok_types = (int,) if integer else (int, float)
+        if isinstance(raw, bool) or not isinstance(raw, ok_types) or not math.isfinite(raw):
+            raise _Invalid(f"got {_show(raw)}; accepted: {kind}")
+        if not lo <= raw <= hi:
+            raise _Invalid(f"{_plain(raw)} is outside the accepted range; accepted: {kind}")
+        return raw if integer else float(raw)
+
+    return parse
+
+
+def choice(options: Sequence[str]) -> Callable[[object], str]:
+    """Parser for one of `options` (exact spelling)."""
+
+    def parse(raw: object) -> str:
+        if isinstance(raw, str) and raw in options:
+            return raw
+        hint = _did_you_mean(raw, options) if isinstance(raw, str) else ""
+        raise _Invalid(f"got {_show(raw)}{hint}; accepted: {', '.join(options)}")
+
+    return parse
+
+
+def boolean(raw: object) -> bool:
+    """Parser for true/false."""
+    if isinstance(raw, bool):
+        return raw
+    raise _Invalid(f"got {_show(raw)}; accepted: true or false")
+
+
+def text(raw: object) -> str:
+    """Parser for a one-line title."""
+    if isinstance(raw, str) and raw.strip() and len(raw) <= 200 and "\n" not in raw.strip():
+        return raw.strip()
+    raise _Invalid(f"got {_show(raw)}; accepted: one line of text, 1 to 200 characters")
+
+
+_MISSING = object()
+
+
+class _Reader:
+    """Reads the raw YAML data section by section, collecting every problem and every value's origin."""
+
+    def __init__(self, source: str, root: yaml.Node | None, changed: frozenset[str]):
+        self.source, self.root, self.changed = source, root, changed
+        self.problems: list[Problem] = []
+        self.values: list[BriefValue] = []
+
+    def problem(self, path: Sequence[str | int], message: str, *, at_key: bool = False) -> None:
+        key = _dotted(path)
+        if any(key == c or key.startswith(c + ".") for c in self.changed):
+            self.problems.append(Problem(self.source, None, None, key, f"{message} (value set by a change)"))
+            return
+        line, column = yamlpos.locate(self.root, path, at_key=at_key)
+        self.problems.append(Problem(self.source, line, column, key, message))
+
+    def mapping(self, path: tuple, raw: object, keys: Sequence[str], required: Sequence[str] = ()) -> dict | None:
+        """`raw` as a mapping with only `keys`; None (after reporting) when it is not one."""
+        if raw is None and not required:
+            return {}
+        if not isinstance(raw, dict):
+            self.problem(path, f"got {_show(raw)}; accepted: a mapping with keys {', '.join(keys)}")
+            return None
+        for key in raw:
+            if key not in keys:
+                hint = _did_you_mean(key, keys) if isinstance(key, str) else ""
+                self.problem(path + (key,), f"unknown key {_show(key)}{hint}; accepted keys: {', '.join(keys)}",
+                             at_key=True)
+        for key in required:
+            if key not in raw:
+                self.problem(path + (key,), f"missing required key '{key}'; add it under "
+                             f"{_dotted(path) or 'the top level'}")
+        return raw
+
+    def get(self, path: tuple, section: dict | None, key: str, parse: Callable[[object], Any], unit: str = "",
+            default: object = _MISSING, note: str = "") -> Any:
+        """Parsed value of `section[key]` (recorded as given), the default (recorded), or None on a problem."""
+        if section is None:
+            return None
+        if key not in section:
+            if default is _MISSING:
+                return None
+            self.record(path + (key,), default, unit, "default", note)
+            return default
+        try:
+            value = parse(section[key])
+        except (UnitParseError, _Invalid) as exc:
+            self.problem(path + (key,), str(exc))
+            return None
+        self.record(path + (key,), value, unit, "given")
+        return value
+
+    def record(self, path: tuple, value: object, unit: str, origin: str, note: str = "") -> None:
+        self.values.append(BriefValue(_dotted(path), value, unit, origin, note))
+
+    def check(self, condition: bool, path: tuple, message: str) -> None:
+        """Report `message` at `path` when `condition` (a contradiction) holds."""
+        if condition:
+            self.problem(path, message)
+
+
+def _given(*values: object) -> bool:
+    return all(v is not None for v in values)
+
+
+def _read_delay(r: _Reader, raw: object) -> dict | None:
+    p = ("delay",)
+    band = quantity("s", 0.01, 7 * DAY_S)
+    sec = r.mapping(p, raw, ("nominal", "tolerance", "min", "max"))
+    if sec is None:
+        return None
+    has_band = "min" in sec or "max" in sec
+    if "tolerance" in sec and has_band:
+        r.problem(p + ("tolerance",), "tolerance and min/max both given; accepted: either tolerance or min and max")
+        return None
+    if has_band and not ("min" in sec and "max" in sec):
+        r.problem(p + ("max" if "min" in sec else "min",), "min and max go together; accepted: both, or tolerance")
+        return None
+    if "nominal" not in sec and not has_band:
+        r.problem(p + ("nominal",), "missing required key 'nominal'; accepted: nominal, or min and max")
+        return None
+    nominal = r.get(p, sec, "nominal", band, "s") if "nominal" in sec else None
+    if has_band:
+        lo, hi = r.get(p, sec, "min", band, "s"), r.get(p, sec, "max", band, "s")
+        if not _given(lo, hi):
+            return None
+        r.check(lo >= hi, p + ("min",), f"min {format_quantity(lo, 's')} is not below max "
+                f"{format_quantity(hi, 's')}; accepted: min below max")
+        if nominal is None and "nominal" not in sec:
+            nominal = (lo + hi) / 2
+            r.record(p + ("nominal",), nominal, "s", "derived", "midpoint of min and max")
+        if nominal is not None:
+            r.check(not lo <= nominal <= hi, p + ("nominal",), f"nominal {format_quantity(nominal, 's')} lies "
+                    f"outside min..max ({format_quantity(lo, 's')} to {format_quantity(hi, 's')}); "
+                    "accepted: a nominal within the band")
+    else:
+        tol = r.get(p, sec, "tolerance", fraction(0, 1, open_lo=True, open_hi=True), "%", default=0.10)
+        if not _given(nominal, tol):
+            return None
+        lo, hi = nominal * (1 - tol), nominal * (1 + tol)
+        r.record(p + ("min",), lo, "s", "derived", "nominal x (1 - tolerance)")
+        r.record(p + ("max",), hi, "s", "derived", "nominal x (1 + tolerance)")
+    return {"nominal_s": nominal, "min_s": lo, "max_s": hi} if _given(nominal) else None
+
+
+def _read_ambient(r: _Reader, raw: object) -> dict | None:
+    p = ("ambient",)
+    temp = quantity("degC", -55.0, 125.0)
+    sec = r.mapping(p, raw, ("min", "max"))
+    lo = r.get(p, sec, "min", temp, "degC", default=0.0)
+    hi = r.get(p, sec, "max", temp, "degC", default=40.0)
+    if not _given(lo, hi):
+        return None
+    r.check(lo > hi, p + ("min",), f"min {format_quantity(lo, 'degC')} is above max {format_quantity(hi, 'degC')}; "
+            "accepted: min at or below max")
+    return {"min_c": lo, "max_c": hi}
+
+
+def _read_supply(r: _Reader, raw: object) -> dict | None:
+    p = ("supply",)
+    volts = quantity("V", 1.0, 60.0)
+    sec = r.mapping(p, raw, ("nominal", "min", "max", "kind", "no_load_power"), required=("nominal",))
+    nominal = r.get(p, sec, "nominal", volts, "V")
+    kind = r.get(p, sec, "kind", choice(tuple(SUPPLY_SPREAD)), default="unregulated")
+    no_load = r.get(p, sec, "no_load_power", quantity("W", 0.0, 10.0), "W", default=None)
+    if not _given(nominal, kind):
+        return None
+    below, above = SUPPLY_SPREAD[kind]
+    lo = r.get(p, sec, "min", volts, "V", default=nominal * (1 + below), note=f"nominal {below * 100:+g} %, {kind}")
+    hi = r.get(p, sec, "max", volts, "V", default=nominal * (1 + above), note=f"nominal {above * 100:+g} %, {kind}")
+    if not _given(lo, hi):
+        return None
+    r.check(lo > nominal, p + ("min",), f"min {format_quantity(lo, 'V')} is above nominal "
+            f"{format_quantity(nominal, 'V')}; accepted: min <= nominal <= max")
+    r.check(nominal > hi, p + ("max",), f"max {format_quantity(hi, 'V')} is below nominal "
+            f"{format_quantity(nominal, 'V')}; accepted: min <= nominal <= max")
+    return {"nominal_v": nominal, "min_v": lo, "max_v": hi, "kind": kind, "no_load_power_w": no_load}
+
+
+def _read_switched(r: _Reader, raw: object) -> dict | None:
+    p = ("load", "switched")
+    sec = r.mapping(p, raw, ("voltage", "current", "mains"), required=("voltage", "current"))
+    volts = r.get(p, sec, "voltage", quantity("V", 1.0, 440.0), "V")
+    amps = r.get(p, sec, "current", quantity("A", 1e-3, 32.0), "A")
+    if volts is None or sec is None:
+        return None
+    hazardous = volts > ELV_LIMIT_V
+    mains = r.get(p, sec, "mains", boolean, default=hazardous, note="true above 50 V (IEC 61140 ELV limit)")
+    if mains is None or amps is None:
+        return None
+    r.check(hazardous and not mains, p + ("mains",), f"mains is false but {format_quantity(volts, 'V')} is above "
+            "the 50 V extra-low-voltage limit (IEC 61140); accepted: mains: true, so outputs carry the cautions")
+    r.check(mains and volts < MAINS_MIN_V, p + ("mains",), f"mains is true but the voltage is "
+            f"{format_quantity(volts, 'V')}; accepted: mains: true only from 100 V")
+    return {"voltage_v": volts, "current_a": amps, "mains": mains}
+
+
+def _read_load(r: _Reader, raw: object, supply: dict | None) -> dict | None:
+    p = ("load",)
+    sec = r.mapping(p, raw, ("relay", "dc", "switched"))
+    if sec is None:
+        return None
+    kinds = [k for k in ("relay", "dc") if k in sec]
+    if len(kinds) != 1:
+        r.problem(p + (kinds[1],) if kinds else p, f"{'both relay and dc' if kinds else 'neither relay nor dc'} "
+                  "given; accepted: exactly one of relay: {...} or dc: {current: ...}")
+        return None
+    kind = kinds[0]
+    if kind == "dc":
+        q = p + ("dc",)
+        dc = r.mapping(q, sec["dc"], ("current",), required=("current",))
+        amps = r.get(q, dc, "current", quantity("A", 1e-6, 10.0), "A")
+        if "switched" in sec:
+            r.problem(p + ("switched",), "a dc load is switched by the timer itself; accepted: no switched "
+                      "section with dc (use relay: to switch another load)", )
+            return None
+        if not _given(amps, supply):
+            return None
+        switched = {"voltage_v": supply["nominal_v"], "current_a": amps, "mains": False}
+        for name, value, unit in (("voltage", switched["voltage_v"], "V"), ("current", amps, "A"), ("mains", False, "")):
+            r.record(p + ("switched", name), value, unit, "derived", "the dc load itself")
+        return {"kind": "dc", "coil_voltage_v": None, "coil_resistance_ohm": None, "must_operate_frac": None,
+                "must_release_frac": None, "current_a": amps, "switched": switched}
+    q = p + ("relay",)
+    relay = r.mapping(q, sec["relay"], ("coil_voltage", "coil_resistance", "must_operate", "must_release"),
+                      required=("coil_voltage", "coil_resistance"))
+    coil_v = r.get(q, relay, "coil_voltage", quantity("V", 1.0, 60.0), "V")
+    coil_ohm = r.get(q, relay, "coil_resistance", quantity("ohm", 1.0, 1e5), "ohm")
+    operate = r.get(q, relay, "must_operate", fraction(0, 1, open_lo=True), "%", default=0.75)
+    release = r.get(q, relay, "must_release", fraction(0, 1, open_hi=True), "%", default=0.10)
+    if _given(coil_v, coil_ohm):
+        r.record(q + ("current",), coil_v / coil_ohm, "A", "derived", "coil_voltage / coil_resistance")
+    if "switched" not in sec:
+        r.problem(p + ("switched",), "missing required key 'switched'; accepted: switched: "
+                  "{voltage: 230 V, current: 2 A, mains: true} for what the relay contacts switch")
+        switched = None
+    else:
+        switched = _read_switched(r, sec["switched"])
+    if not _given(coil_v, coil_ohm, operate, release):
+        return None
+    r.check(release >= operate, q + ("must_release",), f"must_release {format_quantity(release, '%')} is not "
+            f"below must_operate {format_quantity(operate, '%')}; accepted: must_release below must_operate")
+    if supply is not None:
+        r.check(operate * coil_v > supply["min_v"], q + ("coil_voltage",),
+                f"the coil needs {format_quantity(operate * coil_v, 'V')} to operate (must_operate x coil_voltage) "
+                f"but the supply can fall to {format_quantity(supply['min_v'], 'V')}; accepted: a coil the "
+                "supply minimum can operate")
+    if switched is None:
+        return None
+    return {"kind": "relay", "coil_voltage_v": coil_v, "coil_resistance_ohm": coil_ohm,
+            "must_operate_frac": operate, "must_release_frac": release, "current_a": coil_v / coil_ohm,
+            "switched": switched}
+
+
+def _read_section(r: _Reader, path: tuple, raw: object,
+                  fields: Mapping[str, tuple[Callable, object, str]]) -> dict | None:
+    """A section of independent fields {key: (parser, default, unit)}; None when any value has a problem."""
+    sec = r.mapping(path, raw, tuple(fields))
+    if sec is None:
+        return None
+    values = {key: r.get(path, sec, key, parse, unit, default=default) for key, (parse, default, unit) in fields.items()}
+    return values if all(key not in sec or values[key] is not None for key in fields) else None
+
+
+def _read_limits(r: _Reader, raw: object) -> dict | None:
+    values = _read_section(r, ("limits",), raw, {
+        "standby_after": (quantity("A", 1e-9, 1.0), None, "A"),
+        "rails": (number(1, 10, integer=True), None, ""),
+        "parts": (number(1, 500, integer=True), None, ""),
+        "cost": (number(0, 1e4), None, ""),
+    })
+    if values is None:
+        return None
+    values["standby_after_a"] = values.pop("standby_after")
+    return values
+
+
+def _read_topologies(r: _Reader, raw: object) -> tuple[str, ...] | None:
+    p = ("topologies",)
+    known = known_topologies()
+    accepted = f"all, or a list of: {', '.join(known)}" if known else "all, or a list of topology names"
+    if raw == "all":
+        r.record(p, ("all",), "", "given")
+        return ("all",)
+    if not isinstance(raw, list) or not raw:
+        r.problem(p, f"got {_show(raw)}; accepted: {accepted}")
+        return None
+    names: list[str] = []
+    for index, name in enumerate(raw):
+        if not isinstance(name, str):
+            r.problem(p + (index,), f"got {_show(name)}; accepted: {accepted}")
+        elif name == "all":
+            r.problem(p + (index,), "'all' inside a list; accepted: topologies: all, on its own")
+        elif known is not None and name not in known:
+            r.problem(p + (index,), f"unknown topology '{name}'{_did_you_mean(name, known)}; accepted: {accepted}")
+        elif name in names:
+            r.problem(p + (index,), f"'{name}' is listed twice; accepted: each topology once")
+        else:
+            names.append(name)
+    if len(names) != len(raw):
+        return None
+    r.record(p, tuple(names), "", "given")
+    return tuple(names)
+
+
+_TOP_KEYS = ("title", "delay", "ambient", "supply", "start", "load", "limits", "weights", "series",
+             "topologies", "analysis")
+
+
+def _read(r: _Reader, data: object) -> dict | None:
+    """Every section of the brief as model input; None when any problem was found."""
+    top = r.mapping((), data, _TOP_KEYS, required=("title", "delay", "supply", "load"))
+    if top is None:
+        return None
+    weight = number(0, 100)
+    series = choice(SERIES_NAMES)
+    supply = _read_supply(r, top.get("supply")) if "supply" in top else None
+    values = {
+        "title": r.get((), top, "title", text),
+        "delay": _read_delay(r, top["delay"]) if "delay" in top else None,
+        "ambient": _read_ambient(r, top.get("ambient")),
+        "supply": supply,
+        "start": r.get((), top, "start", choice(("power-on", "button")), default="power-on",
+                       note="timing starts when power is applied"),
+        "load": _read_load(r, top["load"], supply) if "load" in top else None,
+        "limits": _read_limits(r, top.get("limits")),
+        "weights": _read_section(r, ("weights",), top.get("weights"),
+                                 {k: (weight, 1.0, "") for k in Weights.model_fields}),
+        "series": _read_section(r, ("series",), top.get("series"), {
+            "resistor": (series, "E24", ""), "electrolytic": (series, "E6", ""), "film": (series, "E12", ""),
+            "ceramic": (series, "E12", ""), "pairs": (boolean, False, "")}),
+        "topologies": _read_topologies(r, top["topologies"]) if "topologies" in top else None,
+        "analysis": _read_section(r, ("analysis",), top.get("analysis"), {
+            "samples": (number(100, 10_000_000, integer=True), 20000, ""),
+            "seed": (number(0, 2**32 - 1, integer=True), 1, ""),
+            "coverage": (fraction(0.5, 1, open_lo=True, open_hi=True), 0.99, "%")}),
+    }
+    if "topologies" not in top:
+        values["topologies"] = ("all",)
+        r.record(("topologies",), ("all",), "", "default")
+    weights = values["weights"]
+    if weights is not None and not any(weights.values()):
+        r.problem(("weights",), "every weight is 0; accepted: at least one weight above 0")
+    if r.problems:
+        return None
+    return values
+
+
+def _sorted_values(values: list[BriefValue]) -> tuple[BriefValue, ...]:
+    """Values in brief order (section order, then the order read)."""
+    def rank(v: BriefValue) -> int:
+        head = v.key.split(".")[0].split("[")[0]
+        return _TOP_KEYS.index(head) if head in _TOP_KEYS else len(_TOP_KEYS)
+
+    return tuple(sorted(values, key=rank))
+
+
+def _build(data: object, source: str, path: Path | None, root: yaml.Node | None,
+           changed: frozenset[str] = frozenset()) -> Brief:
+    """Validate raw YAML data into a Brief, or raise BriefError listing every problem."""
+    reader = _Reader(source, root, changed)
+    for dup_path, (line, column) in yamlpos.duplicate_keys(root):
+        reader.problems.append(Problem(source, line, column, ".".join(dup_path),
+                                       "key given twice; accepted: each key once per section"))
+    values = _read(reader, data)
+    if reader.problems or values is None:
+        in_file_order = sorted(reader.problems, key=lambda q: (q.line is None, q.line or 0, q.column or 0))
+        raise BriefError(in_file_order or [Problem(source, None, None, "", "brief could not be read")])
+    try:
+        brief = Brief.model_validate({**values, "path": path})
+    except ValidationError as exc:  # a reader bug, still reported at the right place
+        raise BriefError([Problem(source, *yamlpos.locate(root, e["loc"]), _dotted(e["loc"]), e["msg"])
+                          for e in exc.errors(include_url=False)]) from None
+    brief._data = copy.deepcopy(data)
+    brief._source = source
+    brief._root = root
+    brief._values = _sorted_values(reader.values)
+    return brief
+
+
+def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> Brief:
+    """Load and validate a brief from a file (a Path, or a one-line str naming a file) or from YAML text.
+
+    `source_name` names the source in messages (default: the path, or `<brief>` for text).
+    Raises BriefError listing every problem found.
+    """
+    is_path = isinstance(path_or_text, Path) or ("\n" not in path_or_text and not path_or_text.lstrip().startswith("{"))
+    path = Path(path_or_text) if is_path else None
+    source = source_name or (str(path) if path else "<brief>")
+    if path is not None:
+        try:
+            content = path.read_text(encoding="utf-8")
+        except (OSError, UnicodeDecodeError) as exc:
+            raise BriefError.single(source, "", f"cannot read the brief ({exc.__class__.__name__}: "
+                                    f"{getattr(exc, 'strerror', None) or exc}); accepted: a readable UTF-8 YAML file"
+                                    ) from None
+    else:
+        content = path_or_text
+    try:
+        root = yamlpos.compose(content)
+        data = yaml.safe_load(content)
+    except yaml.YAMLError as exc:
+        line, column = yamlpos.syntax_error_position(exc)
+        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+        raise BriefError.single(source, "", f"YAML syntax error: {what}; accepted: valid YAML "
+                                "(check indentation, colons and quotes)", line, column) from None
+    if data is None:
+        raise BriefError.single(source, "", "the brief is empty; accepted: a mapping with at least "
+                                "title, delay, supply and load", 1, 1)
+    return _build(data, source, path.resolve() if path else None, root)
