@@ -24,7 +24,7 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
                                                    so `switched` is derived (supply voltage, the
                                                    dc current, not mains) and may not be given
                 must_operate 75 %, must_release 10 % (common relay datasheet limits);
-                mains: true above 50 V (the extra-low-voltage limit of IEC 61140)
+                mains: true above 50 V (the extra-low-voltage boundary, common practice)
     limits:     standby_after, rails, parts, cost  none
     weights:    accuracy, standby, rails, parts,   1 each (>= 0, at least one above 0)
                 cost, effort
@@ -54,30 +54,21 @@ import yaml
 from pydantic import BaseModel, ConfigDict, PrivateAttr, ValidationError
 
 from tradeoff import yamlpos
+from tradeoff.cautions import HAZARDOUS_VOLTAGE_V
 from tradeoff.errors import BriefError, Problem, UnitParseError
 from tradeoff.units import format_quantity, parse_fraction, parse_quantity
 
 __all__ = [
     "Brief", "Delay", "Ambient", "Supply", "Load", "Switched", "Limits", "Weights", "Series",
-    "Analysis", "BriefValue", "MAINS_CAUTIONS", "load_brief", "known_topologies",
+    "Analysis", "BriefValue", "load_brief", "known_topologies",
 ]
 
 SERIES_NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
 SeriesName = Literal["E3", "E6", "E12", "E24", "E48", "E96", "E192"]
 
 DAY_S = 86400.0
-ELV_LIMIT_V = 50.0  # IEC 61140 extra-low-voltage limit, AC
 MAINS_MIN_V = 100.0  # lowest public mains voltage in use (100 V, Japan), from memory
 SUPPLY_SPREAD = {"unregulated": (-0.10, 0.20), "regulated": (-0.05, 0.05)}  # common practice
-
-
-MAINS_CAUTIONS = (
-    "Mains voltage can kill and start fires: build and test it only with the supply disconnected.",
-    "Keep the appliance's own thermal protection; this timer is not a substitute for certified protective controls.",
-    "Rate the relay contacts with margin above the switched voltage and current (inrush included).",
-    "Keep creepage and clearance between mains and the low-voltage side as the applicable standard requires.",
-    "Follow local wiring codes; mains work may require a licensed electrician.",
-)
 
 
 class _Frozen(BaseModel):
@@ -216,11 +207,6 @@ class Brief(_Frozen):
     def values(self) -> tuple[BriefValue, ...]:
         """Every value in YAML key order, with unit and origin (given, default or derived)."""
         return self._values
-
-    @property
-    def cautions(self) -> tuple[str, ...]:
-        """Safety cautions every output must carry: the mains cautions when the switched load is mains."""
-        return MAINS_CAUTIONS if self.load.switched.mains else ()
 
     def defaults(self) -> list[str]:
         """YAML keys whose values were defaults."""
@@ -522,12 +508,12 @@ def _read_switched(r: _Reader, raw: object) -> dict | None:
     amps = r.get(p, sec, "current", quantity("A", 1e-3, 32.0), "A")
     if volts is None or sec is None:
         return None
-    hazardous = volts > ELV_LIMIT_V
-    mains = r.get(p, sec, "mains", boolean, default=hazardous, note="true above 50 V (IEC 61140 ELV limit)")
+    hazardous = volts > HAZARDOUS_VOLTAGE_V
+    mains = r.get(p, sec, "mains", boolean, default=hazardous, note="true above 50 V, the extra-low-voltage boundary")
     if mains is None or amps is None:
         return None
     r.check(hazardous and not mains, p + ("mains",), f"mains is false but {format_quantity(volts, 'V')} is above "
-            "the 50 V extra-low-voltage limit (IEC 61140); accepted: mains: true, so outputs carry the cautions")
+            "the 50 V extra-low-voltage boundary; accepted: mains: true, so outputs carry the cautions")
     r.check(mains and volts < MAINS_MIN_V, p + ("mains",), f"mains is true but the voltage is "
             f"{format_quantity(volts, 'V')}; accepted: mains: true only from 100 V")
     return {"voltage_v": volts, "current_a": amps, "mains": mains}

@@ -62,6 +62,7 @@ def check(brief):
     from rich.table import Table
 
     from tradeoff.brief import load_brief
+    from tradeoff.cautions import cautions
 
     loaded = load_brief(brief)
     console = Console()
@@ -75,13 +76,41 @@ def check(brief):
         console.print(table)
     else:
         key_width = max(len(v.key) for v in loaded.values)
-        text_width = max(len(v.text) for v in loaded.values)
+        text_width = min(16, max(len(v.text) for v in loaded.values))
         click.echo(heading)
         for value in loaded.values:
             note = f"  {value.note}" if value.note else ""
             click.echo(f"{value.key:<{key_width}}  {value.text:<{text_width}}  {value.origin}{note}".rstrip())
-    for caution in loaded.cautions:
+    for caution in cautions(loaded):
         click.echo(f"CAUTION: {caution}")
+
+
+@cli.command("catalog")
+@click.argument("query", required=False, metavar="[CATEGORY_OR_ID]")
+@catalog_option
+@_translate_errors
+def catalog_command(query, catalogs):
+    """List the part classes and their parameters, each with its unit and source.
+
+    CATEGORY_OR_ID filters: a category (resistor, capacitor, relay, ...), a part
+    id, a dielectric (electrolytic, film, ceramic), or any part of an id or
+    description. Costs are indicative (EUR): replace them with your own prices
+    in a file given with --catalog.
+
+    Example:
+
+        tradeoff catalog capacitor --catalog my_parts.yaml
+    """
+    from tradeoff.catalog import load_catalog
+
+    loaded = load_catalog(extra=catalogs)
+    for part in loaded.select(query):
+        kind = f"{part.category}, {part.fields['dielectric']}" if "dielectric" in part.fields else part.category
+        click.echo(f"{part.id}  [{kind}]  {part.description}  ({part.file}:{part.line})")
+        width = max((len(name) for name in part.params), default=0)
+        text_width = max((len(param.text) for param in part.params.values()), default=0)
+        for name, param in part.params.items():
+            click.echo(f"  {name:<{width}}  {param.text:<{text_width}}  {param.source}")
 
 
 def main():
