@@ -43,9 +43,9 @@ _CELSIUS = ("degC", "°C", "celsius", "degree_Celsius")
 
 # Spelling fixes applied to the unit text before pint reads it, in this order.
 _UNIT_SPELLINGS = (
-    (re.compile(r"[ΩΩ]"), "ohm"),
+    (re.compile("[\u03a9\u2126]"), "ohm"),  # Greek capital omega, ohm sign
     (re.compile(r"ohms?\b", re.IGNORECASE), "ohm"),
-    (re.compile(r"[µμ]"), "u"),
+    (re.compile("[\u00b5\u03bc]"), "u"),  # micro sign, Greek mu
     (re.compile(r"[°º]\s*C\b"), "degC"),
     (re.compile(r"[°º]\s*F\b"), "degF"),
     (re.compile(r"^(?:meg|Meg|MEG)(?:ohm)?$"), "Mohm"),
@@ -134,7 +134,7 @@ def _spelling_problem(text: str, number: str, unit_text: str, unit: str) -> str 
                 f"so pint reads '{prefix}' as a unit of its own; write '{number} {prefix}{rest}'")
     if len(unit_text) == 1 and unit_text in _PREFIX_LETTERS and unit_text != unit:
         return f"'{text.strip()}' has the prefix '{unit_text}' but no unit; write '{number} {unit_text}{symbol}'"
-    if re.fullmatch(r"mohm", unit_text):
+    if re.fullmatch(r"m(?i:ohms?)", unit_text):
         return (f"'{text.strip()}' reads as milliohm, almost surely a mistyped megohm; "
                 f"write '{number} Mohm' for megohm or '{number} milliohm' explicitly")
     return None

@@ -1,0 +1,172 @@
+"""Quantity and percentage parsing, checked against pint's own conversions and designer spellings."""
+from __future__ import annotations
+
+import math
+
+import pint
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from tradeoff.units import UnitParseError, format_quantity, parse_fraction, parse_quantity
+
+REFERENCE = pint.UnitRegistry()  # reference: pint's own conversions, a separate registry from ours
+
+# Designer spellings and the pint spelling they must equal (reference: pint).
+SPELLINGS = [
+    ("2.2 Mohm", "ohm", "2.2 megaohm"),
+    ("2.2 MΩ", "ohm", "2.2 megaohm"),
+    ("2.2MΩ", "ohm", "2.2 megaohm"),
+    ("2.2 M\u2126", "ohm", "2.2 megaohm"),  # the ohm sign, not the Greek capital omega
+    ("2.2meg", "ohm", "2.2 megaohm"),
+    ("2.2 Meg", "ohm", "2.2 megaohm"),
+    ("2.2 megohm", "ohm", "2.2 megaohm"),
+    ("3 MOhm", "ohm", "3 megaohm"),
+    ("470 kΩ", "ohm", "470 kiloohm"),
+    ("2.2 milliohm", "ohm", "2.2 milliohm"),
+    ("47 uF", "F", "47 microfarad"),
+    ("47 µF", "F", "47 microfarad"),
+    ("47µF", "F", "47 microfarad"),
+    ("47 μF", "F", "47 microfarad"),  # Greek mu
+    ("100 nF", "F", "100 nanofarad"),
+    ("150 mA", "A", "150 milliampere"),
+    ("3 uA", "A", "3 microampere"),
+    ("12 V", "V", "12 volt"),
+    ("600 mV", "V", "600 millivolt"),
+    ("0.3 W", "W", "0.3 watt"),
+    ("4 h", "s", "4 hour"),
+    ("3.5 hours", "s", "3.5 hour"),
+    ("10 min", "s", "10 minute"),
+    ("90 s", "s", "90 second"),
+    ("2 hr", "s", "2 hour"),
+    ("32.768 kHz", "Hz", "32.768 kilohertz"),
+    ("50 ppm/K", "1/K", "50 ppm / kelvin"),
+    ("1e3 ohm", "ohm", "1000 ohm"),
+    ("10000", "dimensionless", "10000"),
+]
+
+
+@pytest.mark.parametrize("text, unit, pint_spelling", SPELLINGS)
+def test_designer_spellings_match_pint(text, unit, pint_spelling):
+    expected = REFERENCE.Quantity(pint_spelling).to_base_units().magnitude  # reference: pint
+    assert parse_quantity(text, unit) == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, expected_c", [
+    ("25 degC", 25.0), ("25 °C", 25.0), ("-10 degC", -10.0), ("\u221210 °C", -10.0), ("0 degC", 0.0),
+    ("300 K", 300 - 273.15), ("50 degF", 10.0),
+])
+def test_temperatures_in_degc_match_pint(text, expected_c):
+    # reference: pint's offset conversion on a quantity built from (value, unit), no arithmetic on degC
+    number, unit = text.replace("\u2212", "-").replace("°C", "degC").split()
+    reference = REFERENCE.Quantity(float(number), unit).to("degC").magnitude
+    assert reference == pytest.approx(expected_c)
+    assert parse_quantity(text, "degC") == pytest.approx(reference, abs=1e-9)
+
+
+@given(st.floats(min_value=1e-12, max_value=1e12), st.sampled_from(["Mohm", "kohm", "uF", "nF", "mA", "h", "min"]))
+def test_random_values_agree_with_pint(value, unit):
+    # reference: pint, through our parser's text route
+    text = f"{value!r} {unit}"
+    expected = REFERENCE.Quantity(value, unit).to_base_units().magnitude
+    dimension_unit = {"Mohm": "ohm", "kohm": "ohm", "uF": "F", "nF": "F", "mA": "A", "h": "s", "min": "s"}[unit]
+    assert parse_quantity(text, dimension_unit) == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, unit, fragment", [
+    ("12 V", "s", "'12 V' is a voltage; expected a time"),
+    ("4 h", "V", "is a time; expected a voltage"),
+    ("47 uF", "ohm", "is a capacitance; expected a resistance"),
+    ("2.2M ohm", "ohm", "space between the prefix 'M' and the unit 'ohm'"),
+    ("2.2 mohm", "ohm", "write '2.2 Mohm' for megohm or '2.2 milliohm' explicitly"),
+    ("2.2 mOhm", "ohm", "mistyped megohm"),
+    ("4k7", "ohm", "RKM code, not accepted; write '4.7 kohm'"),
+    ("2M2", "ohm", "write '2.2 Mohm'"),
+    ("47k", "ohm", "has the prefix 'k' but no unit; write '47 kΩ'"),
+    ("2.2 M", "ohm", "prefix 'M' but no unit"),
+    ("12", "V", "'12' has no unit; expected a voltage"),
+    (12, "V", "the bare number 12 has no unit"),
+    (True, "V", "got bool True"),
+    (None, "s", "got NoneType None"),
+    ("nan V", "V", "does not start with a number"),
+    ("inf s", "s", "does not start with a number"),
+    ("1e999 V", "V", "too large to be a number"),
+    ("1e300 TV", "V", "overflows"),
+    ("5 furlongs_per_fortnight", "s", "is not a unit pint knows"),
+    ("", "s", "does not start with a number"),
+    ("V 12", "V", "does not start with a number"),
+])
+def test_rejected_quantities_say_what_and_what_is_accepted(text, unit, fragment):
+    with pytest.raises(UnitParseError) as info:
+        parse_quantity(text, unit)
+    assert fragment in str(info.value)
+    assert "expected" in str(info.value)
+    assert isinstance(info.value, ValueError)
+
+
+def test_mohm_is_rejected_but_milliohm_spelled_out_is_accepted():
+    with pytest.raises(UnitParseError):
+        parse_quantity("0.5 mohm", "ohm")
+    assert parse_quantity("0.5 milliohm", "ohm") == pytest.approx(5e-4)
+    assert parse_quantity("0.5 mΩ", "ohm") == pytest.approx(5e-4)
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("20 %", 0.2), ("±20 %", 0.2), ("+/-20%", 0.2), ("+-20 %", 0.2), ("20%", 0.2), ("0.2", 0.2), (0.2, 0.2),
+    ("75 %", 0.75), ("150 %", 1.5), ("-5 %", -0.05), ("0", 0.0), (0, 0.0), ("0.5 %", 0.005),
+])
+def test_fractions(text, expected):
+    assert parse_fraction(text) == pytest.approx(expected)
+
+
+def test_pint_misreads_plus_minus_which_is_why_we_parse_it():
+    # reference: pint reads '±15 %' as +15 % and cannot read '+/-15 %' (LIBRARIES.md); ours reads both as 0.15
+    assert REFERENCE.Quantity("15 %").to("dimensionless").magnitude == pytest.approx(0.15)
+    assert parse_fraction("±15 %") == parse_fraction("+/-15 %") == pytest.approx(0.15)
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("20", "the bare number '20' is ambiguous; write '20 %' for percent"),
+    (20, "ambiguous"),
+    ("1", "ambiguous"),
+    ("±-5 %", "sign after '±'"),
+    ("twenty %", "not a percentage or fraction"),
+    ("20 ppm", "not a percentage or fraction"),
+    (float("nan"), "not a percentage or fraction"),
+    (float("inf"), "not a percentage or fraction"),
+    ("1e999 %", "too large"),
+    (True, "got bool"),
+    ([20], "got list"),
+])
+def test_rejected_fractions(text, fragment):
+    with pytest.raises(UnitParseError, match="accepted|write") as info:
+        parse_fraction(text)
+    assert fragment in str(info.value)
+
+
+@pytest.mark.parametrize("value, unit, text", [
+    (2.2e6, "ohm", "2.2 MΩ"), (4.7e-5, "F", "47 µF"), (14400, "s", "4 h"), (5400, "s", "1.5 h"),
+    (600, "s", "10 min"), (45, "s", "45 s"), (0.0021, "s", "2.1 ms"), (3599.9, "s", "1 h"),
+    (999.96, "ohm", "1 kΩ"), (0, "V", "0 V"), (-0.6, "V", "-600 mV"), (25, "degC", "25 °C"),
+    (0.2, "%", "20 %"), (20000, "", "20000"), (3e-6, "A", "3 µA"), (1234.5, "ohm", "1.23 kΩ"),
+])
+def test_format_quantity(value, unit, text):
+    assert format_quantity(value, unit) == text
+
+
+@pytest.mark.parametrize("value", [math.nan, math.inf, -math.inf])
+def test_format_rejects_non_finite(value):
+    with pytest.raises(ValueError, match="non-finite"):
+        format_quantity(value, "V")
+
+
+@given(st.floats(min_value=1e-9, max_value=1e9), st.sampled_from([("ohm", "ohm"), ("F", "F"), ("V", "V"), ("A", "A")]))
+def test_format_then_parse_round_trips_to_three_digits(value, units):
+    unit, dimension = units
+    shown = format_quantity(value, unit)
+    assert parse_quantity(shown, dimension) == pytest.approx(value, rel=5e-3)
+
+
+@given(st.floats(min_value=0.01, max_value=7 * 86400.0))
+def test_format_time_round_trips(value):
+    assert parse_quantity(format_quantity(value, "s"), "s") == pytest.approx(value, rel=5e-3)
