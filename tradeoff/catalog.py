@@ -47,6 +47,9 @@ CATEGORIES = ("resistor", "capacitor", "npn", "pnp", "darlington", "mosfet", "di
 DIELECTRICS = ("electrolytic", "film", "ceramic")
 """Capacitor dielectrics; each selects the brief's series of the same name (brief.series.film ...)."""
 
+COST_CURRENCY = "EUR"
+"""Currency of the indicative costs (users replace them with their own prices)."""
+
 NON_PART_FILES = ("eseries",)
 """Shipped YAML files that are not part catalogs (the E-series tables)."""
 
@@ -156,9 +159,14 @@ class Param:
 
     @property
     def text(self) -> str:
-        """The value as a user wrote it (list items joined by ', ')."""
+        """The value as written, with its unit: list items joined by ', ', bare numbers marked."""
         items = self.value if isinstance(self.value, tuple) else (self.value,)
-        return ", ".join(str(item) for item in items)
+        text = ", ".join(str(item) for item in items)
+        if self.name == "cost":
+            return f"{text} {COST_CURRENCY}"
+        if all(isinstance(item, (int, float)) for item in items):
+            return f"{text} (SI)" if self.si else f"{text} (dimensionless)"
+        return text
 
 
 # ---- parts ----------------------------------------------------------------------------------
