@@ -35,6 +35,9 @@ class Block:
 
     roles: table columns holding component values the design takes (SI: ohm, F);
     options: table columns holding discrete choices (part class id, counter stage, ...);
+    series pairs: for a role `r`, optional columns `r_first` and `r_second` hold the two standard
+    values of a pair (candidates.py's `first`/`second`); a row with `r_second` > 0 becomes
+    `Design.pairs[r] = (first, second)`, a row with `r_second` = 0 is a single part;
     dropped: candidates the topology's own rules removed before the optimiser saw them,
     counted by reason in the designer's terms (used to explain infeasibility).
     """
