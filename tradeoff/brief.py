@@ -714,7 +714,7 @@ def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> B
     if path is not None:
         try:
             content = path.read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError) as exc:
+        except (OSError, ValueError) as exc:  # ValueError: undecodable bytes, or a NUL in the name
             raise BriefError.single(source, "", f"cannot read the brief ({exc.__class__.__name__}: "
                                     f"{getattr(exc, 'strerror', None) or exc}); accepted: a readable UTF-8 YAML file"
                                     ) from None
