@@ -1,0 +1,209 @@
+"""Logic rail and logic-output relay driver, shared by the timers built around an IC with a
+low supply rating (the microcontroller and the micropower comparator).
+
+The logic rail: when the brief's supply is a regulated supply inside the IC's rating, the IC
+runs straight from it (one rail); otherwise a linear regulator class from the catalog makes a
+logic rail (two rails: the supply for the relay coil, the regulated rail for the logic). The
+regulator draws its quiescent current for as long as the supply is on, after the timeout too.
+
+The output driver: a logic-level N-channel MOSFET switches the relay coil (or dc load) to
+ground, a gate resistor limits the pin's edge current and a pull-down keeps the MOSFET off
+while the IC is in reset (its pins float then); a flyback diode clamps a relay coil.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Callable
+
+from tradeoff.errors import CatalogError
+from tradeoff.topologies.base import BomLine, Finding
+from tradeoff.units import format_quantity as fq
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.brief import Brief
+    from tradeoff.catalog import Catalog, Part
+
+__all__ = [
+    "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom",
+    "cheapest", "output_driver_bom", "GATE_PULLDOWN_OHM", "GATE_RESISTOR_OHM", "output_driver_checks",
+]
+
+NO_REGULATOR = "none"
+"""Design option value `regulator: none`: the IC runs straight from the brief's (regulated) supply."""
+
+PREFERRED_RAIL_V = 3.3
+"""Logic rail aimed at when a regulator class offers several outputs [V] (common practice)."""
+
+GATE_PULLDOWN_OHM = 1e6
+"""Gate pull-down of the output MOSFET [ohm]: holds it off while the IC's pin floats (common practice)."""
+
+GATE_RESISTOR_OHM = 1e3
+"""Series gate resistor of the output MOSFET [ohm] (common practice)."""
+
+_RAIL_CAP_F = 1e-6
+"""Input and output capacitor of the regulator [F] (common practice for small LDOs)."""
+
+_DECOUPLING_F = 100e-9
+"""Supply decoupling capacitor at the IC [F] (common practice)."""
+
+
+@dataclass(frozen=True)
+class LogicRail:
+    """The supply an IC runs from: the regulator class (None: the brief's supply), rail voltages [V],
+    the regulator's quiescent current [A] (0 without one)."""
+
+    regulator: "Part | None"
+    nominal_v: float
+    min_v: float
+    max_v: float
+    quiescent_typ_a: float
+    quiescent_max_a: float
+
+    @property
+    def option(self) -> str:
+        """The design option value naming this rail (`regulator`)."""
+        return NO_REGULATOR if self.regulator is None else self.regulator.id
+
+    @property
+    def rails(self) -> int:
+        """Supply rails of the design: the brief's supply plus the regulated one, if any."""
+        return 1 if self.regulator is None else 2
+
+
+def _regulated(brief: "Brief", part: "Part", load_min_v: float, load_max_v: float) -> LogicRail | str:
+    """The rail regulator class `part` makes for a load rated load_min_v..load_max_v [V], or why it cannot."""
+    supply = brief.supply
+    input_max = part.value("input_max", "V")
+    if supply.max_v > input_max:
+        return (f"{part.id}: input rating {fq(input_max, 'V')} is below the supply maximum "
+                f"{fq(supply.max_v, 'V')}")
+    tol = part.value("output_tolerance", "")
+    dropout = part.value("dropout", "V")
+    fits = [v for v in part.values("output_voltages", "V")
+            if load_min_v <= v * (1 - tol) and v * (1 + tol) <= load_max_v and supply.min_v - dropout >= v * (1 + tol)]
+    if not fits:
+        return (f"{part.id}: no output voltage both inside the IC's {fq(load_min_v, 'V')} to {fq(load_max_v, 'V')} "
+                f"(with its {100 * tol:g} % tolerance) and at least the {fq(dropout, 'V')} dropout below the supply "
+                f"minimum {fq(supply.min_v, 'V')}")
+    v = min(fits, key=lambda out: (abs(out - PREFERRED_RAIL_V), out))
+    return LogicRail(part, v, v * (1 - tol), v * (1 + tol),
+                     part.value("quiescent_typ", "A"), part.value("quiescent_max", "A"))
+
+
+def _direct(brief: "Brief", load_min_v: float, load_max_v: float) -> LogicRail | str:
+    """The brief's own supply as the logic rail, or why it cannot be."""
+    s = brief.supply
+    if s.kind != "regulated":
+        return (f"none: the supply is unregulated ({fq(s.min_v, 'V')} to {fq(s.max_v, 'V')}); the IC needs a "
+                "regulated rail")
+    if s.min_v < load_min_v or s.max_v > load_max_v:
+        return (f"none: the supply {fq(s.min_v, 'V')} to {fq(s.max_v, 'V')} is outside the IC's rating "
+                f"{fq(load_min_v, 'V')} to {fq(load_max_v, 'V')}")
+    return LogicRail(None, s.nominal_v, s.min_v, s.max_v, 0.0, 0.0)
+
+
+def rail_options(brief: "Brief", catalog: "Catalog", load_min_v: float,
+                 load_max_v: float) -> tuple[list[LogicRail], list[str]]:
+    """Every way to power an IC rated load_min_v..load_max_v [V] from the brief's supply, and the
+    reasons the other ways fail (in the designer's terms)."""
+    rails, reasons = [], []
+    for made in (_direct(brief, load_min_v, load_max_v),
+                 *(_regulated(brief, p, load_min_v, load_max_v) for p in catalog.parts("ldo"))):
+        (rails if isinstance(made, LogicRail) else reasons).append(made)
+    return rails, reasons
+
+
+def logic_rail(brief: "Brief", catalog: "Catalog", option: str, load_min_v: float, load_max_v: float,
+               origin: str) -> LogicRail:
+    """The rail named by design option `regulator` (a regulator class id or 'none'); DesignError-like
+    CatalogError naming the option when that rail cannot power the IC."""
+    made = (_direct(brief, load_min_v, load_max_v) if option == NO_REGULATOR
+            else _regulated(brief, catalog.part(option), load_min_v, load_max_v))
+    if isinstance(made, str):
+        raise CatalogError.single(origin, "options.regulator", f"{made}; accepted: {NO_REGULATOR!r} or a regulator "
+                                  f"class id ({', '.join(p.id for p in catalog.parts('ldo'))}) that fits")
+    return made
+
+
+def cheapest(catalog: "Catalog", category: str, need: Callable[["Part"], bool], what: str,
+             dielectric: str | None = None) -> "Part":
+    """The cheapest catalog class of `category` (and dielectric) that satisfies `need`; CatalogError
+    saying `what` was needed when none does."""
+    found = [p for p in catalog.parts(category)
+             if (dielectric is None or p.fields.get("dielectric") == dielectric) and need(p)]
+    if not found:
+        raise CatalogError.single("catalog", category, f"no {category} class fits: {what}; accepted: add one "
+                                  "to a catalog file (see `tradeoff catalog`)")
+    return min(found, key=lambda p: p.cost)
+
+
+def _ceramic(catalog: "Catalog", value_f: float, rated_min_v: float) -> "Part":
+    return cheapest(catalog, "capacitor",
+                    lambda p: p.value("min_value", "F") <= value_f <= p.value("max_value", "F")
+                    and max(p.values("rated_voltages", "V")) >= rated_min_v,
+                    f"a ceramic capacitor of {fq(value_f, 'F')} rated {fq(rated_min_v, 'V')}", dielectric="ceramic")
+
+
+def _resistor(catalog: "Catalog", value_ohm: float) -> "Part":
+    return cheapest(catalog, "resistor",
+                    lambda p: p.value("min_value", "ohm") <= value_ohm <= p.value("max_value", "ohm"),
+                    f"a resistor of {fq(value_ohm, 'ohm')}")
+
+
+def rail_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, ic_ref: str, ic: "Part") -> list[BomLine]:
+    """The IC with its decoupling capacitor, and the regulator with its two capacitors when there is one."""
+    decoupling = _ceramic(catalog, _DECOUPLING_F, rail.max_v)
+    lines = [BomLine(ic_ref, ic.id, ic.description, 1, ic.cost),
+             BomLine("C1", decoupling.id, fq(_DECOUPLING_F, "F"), 1, decoupling.cost, "decoupling at the IC")]
+    if rail.regulator is not None:
+        cap = _ceramic(catalog, _RAIL_CAP_F, brief.supply.max_v)
+        reg = rail.regulator
+        lines += [BomLine("U2", reg.id, f"{fq(rail.nominal_v, 'V')} regulator", 1, reg.cost, "logic rail"),
+                  BomLine("C2, C3", cap.id, fq(_RAIL_CAP_F, "F"), 2, cap.cost, "regulator input and output")]
+    return lines
+
+
+def _mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part":
+    return cheapest(catalog, "mosfet",
+                    lambda p: p.value("vds_max", "V") >= brief.supply.max_v
+                    and p.value("id_max", "A") >= brief.load.current_a
+                    and p.value("vgs_th_max", "V") < rail.min_v,
+                    f"an N-MOSFET for {fq(brief.load.current_a, 'A')} at {fq(brief.supply.max_v, 'V')} that a "
+                    f"{fq(rail.min_v, 'V')} gate drive turns on")
+
+
+def _diode(brief: "Brief", catalog: "Catalog") -> "Part":
+    return cheapest(catalog, "diode", lambda p: p.value("reverse_voltage", "V") >= brief.supply.max_v,
+                    f"a flyback diode rated above {fq(brief.supply.max_v, 'V')}")
+
+
+def output_driver_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, first_r: int) -> list[BomLine]:
+    """Output MOSFET, its gate resistor and pull-down (R<first_r>, R<first_r + 1>) and, for a relay, the
+    flyback diode; the relay coil itself is the brief's load and not in the bill of materials."""
+    fet = _mosfet(brief, catalog, rail)
+    r_gate, r_pull = _resistor(catalog, GATE_RESISTOR_OHM), _resistor(catalog, GATE_PULLDOWN_OHM)
+    lines = [BomLine("Q1", fet.id, fet.description, 1, fet.cost, "switches the load to ground"),
+             BomLine(f"R{first_r}", r_gate.id, fq(GATE_RESISTOR_OHM, "ohm"), 1, r_gate.cost, "gate resistor"),
+             BomLine(f"R{first_r + 1}", r_pull.id, fq(GATE_PULLDOWN_OHM, "ohm"), 1, r_pull.cost,
+                     "gate pull-down: off while the IC is in reset")]
+    if brief.load.kind == "relay":
+        diode = _diode(brief, catalog)
+        lines.append(BomLine("D1", diode.id, diode.description, 1, diode.cost, "flyback diode across the coil"))
+    return lines
+
+
+def output_driver_checks(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> list[Finding]:
+    """The output MOSFET: it must exist in the catalog, and its on-state drop leaves the coil its must-operate voltage."""
+    try:
+        fet = _mosfet(brief, catalog, rail)
+    except CatalogError as exc:
+        return [Finding("violation", "output-driver", str(exc).split(": ", 1)[-1])]
+    out = []
+    if brief.load.kind == "relay" and fet.has("rds_on"):
+        drop = brief.load.current_a * fet.value("rds_on", "ohm")
+        need = brief.load.must_operate_frac * brief.load.coil_voltage_v
+        if brief.supply.min_v - drop < need:
+            out.append(Finding("violation", "coil-drive",
+                               f"the output MOSFET drops {fq(drop, 'V')}, leaving the coil "
+                               f"{fq(brief.supply.min_v - drop, 'V')} at minimum supply; it needs {fq(need, 'V')}"))
+    return out
