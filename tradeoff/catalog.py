@@ -97,11 +97,14 @@ def _check_text(text: str) -> str | None:
         own_unit = match.group(1) if match else ""
         if own_unit in _BARE_PREFIXES:
             return f"'{text.strip()}' has the prefix '{own_unit}' but no unit"
-        parse_quantity(text, own_unit)
+        try:
+            parse_quantity(text, own_unit)
+        except UnitParseError:
+            raise
+        except ValueError:  # pint does not know the unit: read as a plain number for the reason
+            parse_quantity(text, "")
     except UnitParseError as exc:  # its tail names the dimension we guessed: drop it
         return str(exc).split("; expected ", 1)[0]
-    except ValueError:
-        return f"'{text.strip()}' has a unit pint does not know"
     return None
 
 
@@ -332,15 +335,15 @@ class _FileReader:
         parts: list[Part] = []
         first_line: dict[str, int] = {}
         for index, node in enumerate(entries.value):
-            part = self._entry(node, index)
-            if part is None:
+            part_id, part = self._entry(node, index)
+            if part_id is not None and part_id in first_line:
+                self.problem(node, f"parts[{index}].id", f"duplicate id '{part_id}' (first at line "
+                                                         f"{first_line[part_id]}); accepted: each id once per file")
                 continue
-            if part.id in first_line:
-                self.problem(node, f"parts[{index}].id", f"duplicate id '{part.id}' (first at line "
-                                                         f"{first_line[part.id]}); accepted: each id once per file")
-                continue
-            first_line[part.id] = part.line
-            parts.append(part)
+            if part_id is not None:
+                first_line[part_id] = node.start_mark.line + 1
+            if part is not None:
+                parts.append(part)
         return parts
 
     def scalar(self, node: yaml.Node) -> Any:
@@ -363,16 +366,20 @@ class _FileReader:
             return None
         return value.strip()
 
-    def _entry(self, node: yaml.Node, index: int) -> Part | None:
+    def _entry(self, node: yaml.Node, index: int) -> tuple[str | None, Part | None]:
+        """(id, part) of one entry; part is None when the entry has problems."""
         key = f"parts[{index}]"
-        children = self.mapping(node, key, _ENTRY_KEYS, "a part entry (a mapping with id, category, description)")
+        part_id = _peek_id(node)
+        children = self.mapping(node, part_id or key, _ENTRY_KEYS,
+                                "a part entry (a mapping with id, category, description)")
         if children is None:
-            return None
+            return None, None
         before = len(self.problems)
         part_id = self.text(children, node, key, "id")
         if part_id is not None and not _ID_RE.match(part_id):
             self.problem(children["id"], f"{key}.id", f"id '{part_id}' has characters other than letters, digits "
                                                       "and . _ + -; accepted: e.g. 'res-metal-film-1pct'")
+            part_id = None
         key = part_id or key
         category = self.text(children, node, key, "category")
         if category is not None and category not in CATEGORIES:
@@ -384,9 +391,9 @@ class _FileReader:
         self._check_fields(children, node, key, category, fields)
         params = self._params(children.get("params"), node, key, category)
         if len(self.problems) > before:
-            return None
-        return Part(part_id, category, description, MappingProxyType(params), MappingProxyType(fields),
-                    self.file, node.start_mark.line + 1, node.start_mark.column + 1)
+            return part_id, None
+        return part_id, Part(part_id, category, description, MappingProxyType(params), MappingProxyType(fields),
+                             self.file, node.start_mark.line + 1, node.start_mark.column + 1)
 
     def _check_fields(self, children, node, key, category, fields) -> None:
         """Category-bound fields: capacitors need a dielectric, topologies a module, nothing else has them."""
@@ -454,6 +461,16 @@ class _FileReader:
             return None
         mark = children["value"].start_mark
         return Param(name, value, source.strip(), self.file, mark.line + 1, mark.column + 1, str(note))
+
+
+def _peek_id(node: yaml.Node) -> str | None:
+    """The plain `id` text of an entry node, if it has one, to name the entry in messages."""
+    if isinstance(node, yaml.MappingNode):
+        for key_node, value_node in node.value:
+            if getattr(key_node, "value", None) == "id" and isinstance(value_node, yaml.ScalarNode) \
+                    and _ID_RE.match(value_node.value):
+                return value_node.value
+    return None
 
 
 def _kind(node: yaml.Node) -> str:
@@ -532,10 +549,10 @@ class Catalog:
             return self.parts(query)
         if query in self._parts:
             return [self._parts[query]]
+        if query in DIELECTRICS:
+            return [p for p in self._parts.values() if p.fields.get("dielectric") == query]
         needle = query.lower()
-        found = [p for p in self._parts.values()
-                 if needle in p.id.lower() or needle in p.description.lower()
-                 or needle == p.fields.get("dielectric")]
+        found = [p for p in self._parts.values() if needle in p.id.lower() or needle in p.description.lower()]
         if not found:
             raise CatalogError.single("catalog", "query", f"nothing matches '{query}';"
                                       f"{did_you_mean(query, [*CATEGORIES, *self._parts])} accepted: a category "
