@@ -527,7 +527,7 @@ def _read_load(r: _Reader, raw: object, supply: dict | None) -> dict | None:
     kinds = [k for k in ("relay", "dc") if k in sec]
     if len(kinds) != 1:
         r.problem(p + (kinds[1],) if kinds else p, f"{'both relay and dc' if kinds else 'neither relay nor dc'} "
-                  "given; accepted: exactly one of relay: {...} or dc: {current: ...}")
+                  "given; accepted: exactly one of relay: {...} or dc: {current: ...}", at_key=True)
         return None
     kind = kinds[0]
     if kind == "dc":
