@@ -334,6 +334,11 @@ class Microcontroller(Topology):
                                             mcu.value("supply_max", "V"))
         for reason in reasons:
             drop(f"logic rail: {reason}")
+        for rail in list(rails):
+            for finding in logic.output_driver_checks(self.brief, self.catalog, rail):
+                if finding.severity == "violation" and rail in rails:
+                    drop(f"logic rail {rail.option} ({fq(rail.nominal_v, 'V')}): {finding.message}")
+                    rails.remove(rail)
         for option in self.oscillator_options() if rails else ():
             probe = self._reference(option, rails[0], mcu.id)
             osc = self._oscillator(probe)
