@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import re
+import shutil
 import subprocess
 import sys
 import textwrap
@@ -11,6 +12,8 @@ import numpy as np
 import pytest
 import yaml
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from tradeoff.catalog import CATEGORIES, DIELECTRICS, load_catalog, shipped_catalog_dir, shipped_catalog_names
 from tradeoff.cli import cli
@@ -59,6 +62,17 @@ def test_loading_needs_no_install(tmp_path):
     out = subprocess.run([sys.executable, "-c", code], cwd=tmp_path, capture_output=True, text=True,
                          env={"PYTHONPATH": str(ROOT), "PATH": "/usr/bin:/bin"}, check=True).stdout.split()
     assert out == [str(ROOT / "catalogs"), "400.0"]
+
+
+def test_installed_wheel_layout_finds_catalogs_inside_the_package(tmp_path):
+    # pyproject force-includes catalogs/ as tradeoff/catalogs in the wheel: mimic that layout.
+    shutil.copytree(ROOT / "tradeoff", tmp_path / "tradeoff", ignore=shutil.ignore_patterns("__pycache__"))
+    shutil.copytree(ROOT / "catalogs", tmp_path / "tradeoff" / "catalogs")
+    code = ("from tradeoff.catalog import load_catalog, shipped_catalog_dir; from tradeoff import eseries; "
+            "print(shipped_catalog_dir()); print(len(load_catalog()), eseries.nearest('E12', 4.4))")
+    out = subprocess.run([sys.executable, "-c", code], cwd=tmp_path, capture_output=True, text=True,
+                         env={"PYTHONPATH": str(tmp_path), "PATH": "/usr/bin:/bin"}, check=True).stdout.split()
+    assert out == [str(tmp_path / "tradeoff" / "catalogs"), str(len(load_catalog())), "4.7"]
 
 
 def test_every_shipped_entry_is_well_formed(shipped):
@@ -321,6 +335,10 @@ def test_malformed_catalog_reports_location(tmp_path, old, new, line, column, ke
 
 def test_malformed_whole_documents(tmp_path):
     cases = [("", "the file is empty"), ("- a\n", "expected a mapping with a 'parts:' list"),
+             (GOOD.replace('"1 %"', "&loop [*loop]"), "a list of lists is not accepted"),
+             (GOOD.replace('"1 %"', "[[1, 2]]"), "a list of lists is not accepted"),
+             (GOOD.replace('"1 %"', "{a: 1}"), "a dict is not a value"),
+             ("parts: &p\n  - *p\n", "expected a part entry"),
              ("parts: 3\n", "expected a list of part entries"), ("other: 1\n", "unknown key 'other'"),
              ("parts:\n  - 3\n", "expected a part entry")]
     for text, fragment in cases:
@@ -340,6 +358,39 @@ def test_all_problems_of_a_file_are_reported_at_once(tmp_path):
     assert any("unknown category 'resistr'" in m for m in messages)
     assert any("non-empty source" in m for m in messages)
     assert any(m.startswith(f"{path}:8:5: parts[1].id: duplicate id 'my-res' (first at line 2)") for m in messages)
+
+
+SCALARS = st.one_of(st.none(), st.booleans(), st.integers(), st.floats(allow_nan=True), st.text(max_size=12),
+                    st.sampled_from(["resistor", "capacitor", "film", "20 %", "3 uA", "2.2M ohm", "47k", "id",
+                                     "value", "source", "parts", "params", "category", "description"]))
+DOCUMENTS = st.recursive(SCALARS, lambda children: st.one_of(
+    st.lists(children, max_size=4),
+    st.dictionaries(st.sampled_from(["parts", "id", "category", "description", "params", "value", "source",
+                                     "dielectric", "module", "tolerance", "cost", "x"]), children, max_size=5)),
+    max_leaves=25)
+
+
+@settings(max_examples=150, deadline=None)
+@given(document=DOCUMENTS)
+def test_random_documents_give_only_catalog_errors(tmp_path_factory, document):
+    # Fuzz: any YAML document either loads or raises CatalogError with located problems.
+    path = tmp_path_factory.mktemp("fuzz") / "fuzz.yaml"
+    path.write_text(yaml.safe_dump(document), encoding="utf-8")
+    try:
+        load_catalog(shipped=[], extra=[path])
+    except CatalogError as exc:
+        assert exc.problems and all(p.file == str(path) and p.message for p in exc.problems)
+
+
+@settings(max_examples=100, deadline=None)
+@given(text=st.text(alphabet=st.sampled_from(list("parts:-[]{}\"'&*!|>%@`# \n\tidvalue1.,")), max_size=60))
+def test_random_text_gives_only_catalog_errors(tmp_path_factory, text):
+    path = tmp_path_factory.mktemp("fuzz") / "fuzz.yaml"
+    path.write_text(text, encoding="utf-8")
+    try:
+        load_catalog(shipped=[], extra=[path])
+    except CatalogError as exc:
+        assert exc.problems
 
 
 def test_every_shipped_file_parses_as_plain_yaml():

@@ -346,10 +346,14 @@ class _FileReader:
                 parts.append(part)
         return parts
 
-    def scalar(self, node: yaml.Node) -> Any:
-        """The Python value of a scalar or flat sequence node (lists become tuples)."""
+    def scalar(self, node: yaml.Node, nested: bool = False) -> Any:
+        """The Python value of a scalar or flat sequence node (lists become tuples).
+
+        Nested lists and mappings become empty placeholders that validation rejects, so a
+        recursive alias (`&a [*a]`) cannot recurse.
+        """
         if isinstance(node, yaml.SequenceNode):
-            return tuple(self.scalar(item) for item in node.value)
+            return () if nested else tuple(self.scalar(item, nested=True) for item in node.value)
         if isinstance(node, yaml.MappingNode):
             return {}
         return self.constructor.construct_object(node, deep=True)
