@@ -721,8 +721,7 @@ def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> B
     else:
         content = path_or_text
     try:
-        root = yamlpos.compose(content)
-        data = yaml.safe_load(content)
+        root, data = yamlpos.load(content)
     except yaml.YAMLError as exc:
         line, column = yamlpos.syntax_error_position(exc)
         what = getattr(exc, "problem", None) or str(exc).splitlines()[0]

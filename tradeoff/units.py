@@ -91,6 +91,7 @@ def _normalise_unit(unit_text: str) -> str:
     return unit_text
 
 
+@functools.lru_cache(maxsize=1024)
 def _pint_units(unit_text: str):
     """Parse unit text with pint; None when pint cannot read it."""
     try:

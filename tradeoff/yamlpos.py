@@ -10,7 +10,7 @@ from collections.abc import Sequence
 
 import yaml
 
-__all__ = ["compose", "locate", "syntax_error_position", "duplicate_keys", "Position"]
+__all__ = ["compose", "load", "locate", "syntax_error_position", "duplicate_keys", "Position"]
 
 Position = tuple[int | None, int | None]
 
@@ -18,6 +18,16 @@ Position = tuple[int | None, int | None]
 def compose(text: str) -> yaml.Node | None:
     """The node tree of `text` (None for an empty document); raises yaml.YAMLError on bad syntax."""
     return yaml.compose(text, Loader=yaml.SafeLoader)
+
+
+def load(text: str) -> tuple[yaml.Node | None, object]:
+    """(node tree, data) of `text`, parsed once with the SafeLoader (as yaml.safe_load does)."""
+    loader = yaml.SafeLoader(text)
+    try:
+        root = loader.get_single_node()
+        return root, (loader.construct_document(root) if root is not None else None)
+    finally:
+        loader.dispose()
 
 
 def _mark(node: yaml.Node) -> Position:
