@@ -563,13 +563,6 @@ class Catalog:
                                       f"({', '.join(CATEGORIES)}), a part id, or part of an id or description")
         return found
 
-    def with_overrides(self, overrides: Mapping[str, Mapping[str, Any]], origin: str = "override") -> "Catalog":
-        """A copy where each part id in `overrides` has its parameters replaced (see Part.with_overrides)."""
-        parts = dict(self._parts)
-        for part_id, params in overrides.items():
-            parts[part_id] = self.part(part_id).with_overrides(params, origin)
-        return Catalog(parts.values(), self.files)
-
 
 def load_catalog(extra: Iterable[str | Path] = (), *, shipped: Iterable[str | Path] | None = None) -> Catalog:
     """Every shipped catalog (or only `shipped`: names like 'passives' or paths) merged with `extra` files.
