@@ -1,0 +1,226 @@
+"""Pieces shared by the IC timers (555-class monostable, ripple counters with RC or crystal
+oscillator): the part classes a design uses (with its overrides), datasheet figures given at
+a few supply voltages, the spread of a timing resistor or capacitor, small currents known as a
+typical value and a datasheet limit, candidate tables for a timing R and C, and the power-on
+RC network that starts the timing (trigger of a 555, reset of a counter).
+"""
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING, Mapping
+
+import numpy as np
+import pandas as pd
+from scipy.special import lambertw
+
+from tradeoff.analysis import Uncertain
+from tradeoff.candidates import rated_voltage, role_candidates
+from tradeoff.topologies import logic
+from tradeoff.topologies.base import BomLine, Design, Finding, Role
+from tradeoff.units import format_quantity as fq
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.catalog import Part
+    from tradeoff.topologies.base import Topology
+
+__all__ = [
+    "TEMPCO_REFERENCE_C", "part_of", "on_supply", "role_part", "value_spread", "at_temperature",
+    "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic", "power_on_release_s",
+    "fixed_part", "drop_count", "diode", "start_bom", "start_checks",
+]
+
+TEMPCO_REFERENCE_C = 25.0
+"""Temperature at which resistor and capacitor values hold their nominal value [degC] (passives.yaml)."""
+
+
+def part_of(topo: "Topology", design: Design, part_id: str) -> "Part":
+    """Catalog class `part_id` with the design's overrides for it applied."""
+    part = topo.catalog.part(part_id)
+    own = design.overrides.get(part_id)
+    return part.with_overrides(own, origin="design overrides") if own else part
+
+
+def on_supply(part: "Part", axis: str, name: str, unit: str, supply_v: float) -> float:
+    """Datasheet figure `name` [unit] given at the supplies `axis` [V], at `supply_v` [V].
+
+    Linear between the listed supplies and extended along the end segments beyond them
+    (a current that rises with supply keeps rising: the conservative reading).
+    """
+    v = np.asarray(part.values(axis, "V"), dtype=float)
+    y = np.asarray(part.values(name, unit), dtype=float)
+    if len(v) != len(y):
+        raise ValueError(f"{part.id}: {axis} and {name} must list the same number of values")
+    if len(v) == 1:
+        return float(y[0])
+    order = np.argsort(v)
+    v, y = v[order], y[order]
+    i = int(np.clip(np.searchsorted(v, supply_v) - 1, 0, len(v) - 2))
+    slope = (y[i + 1] - y[i]) / (v[i + 1] - v[i])
+    return float(max(0.0, y[i] + slope * (supply_v - v[i])))
+
+
+def _holds(part: "Part", role: Role, value: float, supply_max_v: float) -> bool:
+    unit = "ohm" if role.kind == "resistor" else "F"
+    lo, hi = part.value("min_value", unit), part.value("max_value", unit)
+    if not lo * (1 - 1e-9) <= value <= hi * (1 + 1e-9):
+        return False
+    return role.kind == "resistor" or rated_voltage(part, supply_max_v) is not None
+
+
+def role_part(topo: "Topology", design: Design, role: Role) -> "Part":
+    """The part class filling `role`: design option `<role>_part`, else the cheapest class that holds its value."""
+    chosen = design.options.get(f"{role.name}_part")
+    if chosen:
+        return part_of(topo, design, str(chosen))
+    value = design.values[role.name]
+    part = logic.cheapest(topo.catalog, role.kind,
+                    lambda p: (not role.dielectrics or p.fields.get("dielectric") in role.dielectrics)
+                    and _holds(p, role, value, topo.brief.supply.max_v),
+                    f"{role.description}: {fq(value, 'ohm' if role.kind == 'resistor' else 'F')}")
+    return part_of(topo, design, part.id)
+
+
+def value_spread(name: str, value: float, part: "Part", unit: str) -> dict[str, Uncertain]:
+    """A timing resistor or capacitor: its value at 25 degC within the class tolerance, and its
+    temperature coefficient anywhere within the class bound (uniform)."""
+    tol, tc = part.value("tolerance", ""), part.value("tempco", "1/K")
+    return {
+        name: Uncertain.band(value, tol, unit=unit, note=f"{part.id}: ±{100 * tol:g} % tolerance ({part.source('tolerance')})"),
+        f"{name}_tempco": Uncertain(0.0, -tc, tc, unit="1/K",
+                                    note=f"{part.id}: tempco within ±{tc * 1e6:g} ppm/K ({part.source('tempco')})"),
+    }
+
+
+def at_temperature(x: Mapping[str, np.ndarray], name: str) -> np.ndarray:
+    """Value of the component `name` at the sample's ambient: value·(1 + tempco·(T − 25 degC))."""
+    return x[name] * (1.0 + x[f"{name}_tempco"] * (x["ambient_c"] - TEMPCO_REFERENCE_C))
+
+
+def typical_to_limit(typical: float, limit: float, unit: str, note: str) -> Uncertain:
+    """A small current known by a typical value and a datasheet limit: log-normal with median at
+    the typical value and the limit at 3 sigma, truncated symmetrically in log (a stated assumption)."""
+    if typical <= 0 or limit <= typical:
+        return Uncertain.fixed(max(typical, limit), unit=unit, note=note)
+    return Uncertain(typical, typical * typical / limit, limit, dist="lognormal", unit=unit, note=note)
+
+
+def class_two_ceramic(part: "Part") -> bool:
+    """True for class 2 ceramics (capacitance moves with DC bias): kept out of timing roles."""
+    return part.has("dc_bias_loss")
+
+
+def timing_candidates(topo: "Topology", role: Role, dropped: dict[str, int]) -> pd.DataFrame:
+    """Candidate table of a timing role with class 2 ceramics removed (counted in `dropped`)."""
+    table = role_candidates(role, topo.brief, topo.catalog)
+    if role.kind == "capacitor":
+        banned = {p.id for p in topo.catalog.parts("capacitor") if class_two_ceramic(p)}
+        out = table["part"].isin(banned)
+        if out.any():
+            key = (f"{role.description}: class 2 ceramic ({', '.join(sorted(banned))}) excluded, its capacitance "
+                   "moves by tens of % with DC bias (common practice: C0G or film for timing)")
+            dropped[key] = dropped.get(key, 0) + int(out.sum())
+            table = table[~out].reset_index(drop=True)
+    return table
+
+
+def role_bom(topo: "Topology", design: Design, role: Role, ref: str, note: str) -> list[BomLine]:
+    """BOM line(s) of a value role: one part, or the two parts of a series pair."""
+    part = role_part(topo, design, role)
+    unit = "ohm" if role.kind == "resistor" else "F"
+    pair = design.pairs.get(role.name)
+    if not pair:
+        return [BomLine(ref, part.id, fq(design.values[role.name], unit), 1, part.cost, note)]
+    first, second = pair
+    if first == second:
+        return [BomLine(f"{ref}a, {ref}b", part.id, fq(first, unit), 2, part.cost, f"{note} (series pair)")]
+    return [BomLine(f"{ref}a", part.id, fq(first, unit), 1, part.cost, f"{note} (series pair)"),
+            BomLine(f"{ref}b", part.id, fq(second, unit), 1, part.cost, f"{note} (series pair)")]
+
+
+def fixed_part(topo: "Topology", kind: str, value: float, ref: str, note: str, timing: bool = False) -> BomLine:
+    """BOM line of a fixed resistor or capacitor: the cheapest class that holds the value (and the
+    supply); `timing` keeps class 2 ceramics out (a capacitor that sets a frequency or a time)."""
+    unit = "ohm" if kind == "resistor" else "F"
+    role = Role(ref, kind, value, value, note)
+    part = logic.cheapest(topo.catalog, kind, lambda p: _holds(p, role, value, topo.brief.supply.max_v)
+                    and not (timing and class_two_ceramic(p)), f"{note}: {fq(value, unit)}")
+    return BomLine(ref, part.id, fq(value, unit), 1, part.cost, note)
+
+
+def power_on_release_s(tau_s: float, rise_s: float, frac: float) -> float:
+    """Time after power-on at which an RC-held pin is released [s].
+
+    The supply ramps linearly from 0 to its final value V in `rise_s` [s] and then stays; a
+    capacitor charges through R (time constant `tau_s` [s]) from it. Returns the time at which
+    the capacitor voltage reaches `frac` of the (momentary) supply. During the ramp the ratio is
+    independent of the slope: (1 − frac)·u = 1 − exp(−u), u = t/tau, solved with the Lambert W
+    function; after the ramp, an ordinary exponential approach to V (standard circuit analysis).
+    """
+    a = 1.0 - frac
+    u = 1.0 / a + float(np.real(lambertw(-(1.0 / a) * math.exp(-1.0 / a), 0)))
+    if rise_s > 0 and u * tau_s <= rise_s:
+        return u * tau_s
+    v_at_rise = 0.0 if rise_s <= 0 else (rise_s - tau_s * (1.0 - math.exp(-rise_s / tau_s))) / rise_s
+    return max(rise_s, 0.0) + tau_s * math.log((1.0 - v_at_rise) / a)
+
+
+def drop_count(dropped: dict[str, int], reason: str, count: int) -> None:
+    """Add `count` candidates removed for `reason` (designer's terms) to a block's `dropped` tally."""
+    if count > 0:
+        dropped[reason] = dropped.get(reason, 0) + count
+
+
+def diode(topo: "Topology", ref: str, note: str, reverse_factor: float = 1.0) -> BomLine:
+    """BOM line of a small diode: the cheapest class whose reverse rating is `reverse_factor` times the supply maximum."""
+    need = reverse_factor * topo.brief.supply.max_v
+    part = logic.cheapest(topo.catalog, "diode", lambda p: p.value("vr_max", "V") >= need,
+                          f"{note}: a diode rated {fq(need, 'V')} reverse")
+    return BomLine(ref, part.id, part.description, 1, part.cost, note)
+
+
+def _start_values(topo: "Topology") -> tuple[float, float, float]:
+    e = topo.entry
+    return e.value("start_r", "ohm"), e.value("start_c", "F"), e.value("supply_rise", "s")
+
+
+def start_bom(topo: "Topology", pin: str, r_ref: str, c_ref: str, d_ref: str) -> list[BomLine]:
+    """Parts that start the timing on the `pin` ('trigger' or 'reset'): at power-on an RC holding the
+    pin (R and C from the topology entry's start_r, start_c) with a diode that empties C when the
+    supply goes off, so a quick re-power starts again; with brief.start 'button' a push-button and
+    the resistor that holds the pin idle."""
+    r_ohm, c_f, _ = _start_values(topo)
+    if topo.brief.start == "button":
+        return [fixed_part(topo, "resistor", r_ohm, r_ref, f"holds the {pin} pin idle until the button is pressed"),
+                BomLine("SW1", "push-button", "momentary, normally open", 1, topo.entry.value("button_cost", ""),
+                        f"start button on the {pin} pin (not a catalog class; indicative cost)")]
+    return [fixed_part(topo, "resistor", r_ohm, r_ref, f"power-on {pin} network"),
+            fixed_part(topo, "capacitor", c_f, c_ref, f"power-on {pin} network"),
+            diode(topo, d_ref, f"empties the power-on {pin} capacitor when the supply goes off")]
+
+
+def start_checks(topo: "Topology", pin: str, hold_frac: float, ic_supply_min_v: float,
+                 pulse_min_s: float) -> list[Finding]:
+    """Power-on network: the supply ramps up in `supply_rise`; the pin is held active until its
+    capacitor reaches `hold_frac` of the supply (power_on_release_s). The IC only works from
+    `ic_supply_min_v` [V] on, so the pulse it sees lasts from then until release; it must last at
+    least `pulse_min_s` [s], and it should end well before the shortest delay."""
+    if topo.brief.start == "button":
+        return [Finding("info", "start", f"timing starts when the button on the {pin} pin is pressed")]
+    r_ohm, c_f, rise_s = _start_values(topo)
+    release = power_on_release_s(r_ohm * c_f, rise_s, hold_frac)
+    awake = rise_s * min(1.0, ic_supply_min_v / topo.brief.supply.min_v)
+    pulse = release - awake
+    out = []
+    if pulse < pulse_min_s:
+        out.append(Finding("violation", "start-pulse",
+                           f"the power-on {pin} pulse lasts {fq(max(pulse, 0.0), 's')} after the IC's supply reaches "
+                           f"{fq(ic_supply_min_v, 'V')} (supply rise {fq(rise_s, 's')}); it needs {fq(pulse_min_s, 's')}"))
+    else:
+        out.append(Finding("info", "start-pulse",
+                           f"power-on {pin} held for {fq(pulse, 's')} after the IC's supply reaches "
+                           f"{fq(ic_supply_min_v, 'V')} (supply rise {fq(rise_s, 's')}, needs {fq(pulse_min_s, 's')})"))
+    if release > 0.01 * topo.brief.delay.min_s:
+        out.append(Finding("warning", "start-length",
+                           f"the power-on {pin} network holds the pin for {fq(release, 's')}, over 1 % of the "
+                           f"shortest delay {fq(topo.brief.delay.min_s, 's')}"))
+    return out

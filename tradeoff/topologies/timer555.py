@@ -1,0 +1,437 @@
+"""555-class monostable: a timing resistor charges a timing capacitor from the supply until
+the threshold comparator trips at 2/3 of the supply, ending the output pulse.
+
+Model (NE555 and TLC555 datasheets, monostable operation; leakage term by standard circuit
+analysis): with the capacitor starting discharged and a constant current Ix drawn from it
+(capacitor leakage plus the threshold input current),
+
+    t = R·C·ln((Vcc − Ix·R) / (Vcc/3 − Ix·R)),   1.0986·R·C (ln 3, "1.1 RC") at Ix = 0,
+
+and no unit ever times out once Ix·R reaches Vcc/3. Ix is taken at the highest voltage the
+capacitor reaches (2/3 Vcc, the conservative reading): for an electrolytic, the datasheet
+leakage limit (0.01·C·V or 3 uA, scaled to voltage and temperature by tradeoff.physics) in the
+worst case and the class's typical fraction for nominal; for film and ceramic, the minimum
+insulation resistance. The datasheet class adds its initial error, temperature drift and
+supply drift as factors on t; R and C carry their tolerance and temperature coefficient.
+
+The quiescent current continues after the timeout, as does the current through R into the
+discharge pin (Vcc/R), which holds the capacitor empty. A bipolar class drives a small relay
+coil from its output (with a flyback diode); otherwise a logic-level MOSFET does
+(tradeoff.topologies.logic). Timing starts at power-on through an RC on the trigger pin, or by
+a push-button to ground (brief.start).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Mapping
+
+import numpy as np
+import pandas as pd
+
+from tradeoff import physics
+from tradeoff.analysis import Uncertain
+from tradeoff.errors import CatalogError
+from tradeoff.candidates import rated_voltage
+from tradeoff.selection import Block, SelectionModel
+from tradeoff.topologies import logic
+from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.topologies.ic_common import (
+    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, on_supply, part_of, role_bom, role_part,
+    start_bom, start_checks, timing_candidates, typical_to_limit, value_spread,
+)
+from tradeoff.units import format_quantity as fq
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.catalog import Part
+
+__all__ = ["Timer555", "monostable_width_s", "THRESHOLD_FRAC", "monostable_netlist"]
+
+THRESHOLD_FRAC = 2.0 / 3.0
+"""Threshold comparator level as a fraction of the supply (NE555 and TLC555 datasheets)."""
+
+TRIGGER_FRAC = 1.0 / 3.0
+"""Trigger comparator level as a fraction of the supply (NE555 and TLC555 datasheets)."""
+
+R_MIN_OHM = 1e3
+"""Smallest timing resistance considered [ohm]: below it the discharge transistor's saturation
+current grows large (common practice)."""
+
+R_HI_OHM = 20e6
+"""Largest timing resistance any class may allow [ohm]; each class's own limit is a design rule."""
+
+C_RANGE_F = (100e-12, 10e-3)
+"""Timing capacitance range considered [F] (common practice)."""
+
+DECOUPLING_F = 100e-9
+"""Supply decoupling at the timer [F] (common practice)."""
+
+CONTROL_PIN_F = 10e-9
+"""Control-voltage pin capacitor of a bipolar timer [F] (common practice from the datasheets' application circuits)."""
+
+_ROLES = (
+    Role("r_timing", "resistor", R_MIN_OHM, R_HI_OHM, "timing resistor"),
+    Role("c_timing", "capacitor", *C_RANGE_F, "timing capacitor", ("electrolytic", "film", "ceramic")),
+)
+
+
+def monostable_width_s(r_ohm, c_f, ix_a, vcc_v):
+    """Monostable pulse width t = R·C·ln((Vcc − Ix·R)/(Vcc/3 − Ix·R)) [s]; inf where Ix·R >= Vcc/3.
+
+    r_ohm [ohm], c_f [F], ix_a: constant current drawn from the capacitor [A], vcc_v [V]; arrays broadcast.
+    """
+    drop = np.asarray(ix_a, dtype=float) * r_ohm
+    headroom = np.asarray(vcc_v, dtype=float) * TRIGGER_FRAC - drop
+    ok = headroom > 0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = r_ohm * c_f * np.log((vcc_v - drop) / np.where(ok, headroom, 1.0))
+    return np.where(ok, t, np.inf)
+
+
+def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, title: str) -> str:
+    """Behavioural SPICE monostable: R charges C from Vcc, a constant current Ix drains it, a
+    comparator at 2/3 Vcc ends the output pulse; `.measure` prints `delay` [s]."""
+    t_est = float(monostable_width_s(r_ohm, c_f, ix_a, vcc_v))
+    t_stop = 1.5 * (t_est if np.isfinite(t_est) else 5 * r_ohm * c_f)
+    return "\n".join([
+        f"* {title}",
+        "* behavioural 555-class monostable: threshold comparator at 2/3 Vcc, capacitor leakage as a current",
+        f"vcc vcc 0 dc {vcc_v:.6g}",
+        f"rt vcc cap {r_ohm:.6g}",
+        f"ct cap 0 {c_f:.6g} ic=0",
+        f"ix cap 0 dc {ix_a:.6g}",
+        f"bout out 0 v = {vcc_v:.6g} * (1 - u(v(cap) - {THRESHOLD_FRAC * vcc_v:.9g}))",
+        "rout out 0 1meg",
+        f".tran {t_stop / 4000:.6g} {t_stop:.6g} uic",
+        f".measure tran delay when v(out)={vcc_v / 2:.6g} fall=1",
+        ".end",
+        "",
+    ])
+
+
+@dataclass(frozen=True)
+class _Timer:
+    """Per-class quantities of one 555-class timer at the brief's supply."""
+
+    part: "Part"
+    direct: bool            # the output drives the load itself
+    quiescent_typ_a: float  # at the nominal supply
+    quiescent_max_a: float
+    r_max_ohm: float        # largest practical timing resistance at the minimum supply
+
+
+class Timer555(Topology):
+    """555-class monostable (bipolar or CMOS class) with power-on or push-button trigger."""
+
+    id = "timer555"
+
+    # ---- parts -------------------------------------------------------------------------
+    def roles(self) -> list[Role]:
+        """Timing resistor [ohm] and timing capacitor [F]."""
+        return list(_ROLES)
+
+    def _timer(self, design: Design) -> _Timer:
+        timer_id = design.options.get("timer") or self._timer_ids()[0]
+        return self._timer_class(part_of(self, design, str(timer_id)))
+
+    def _timer_ids(self) -> list[str]:
+        return [p.id for p in self.catalog.parts("timer555")]
+
+    def _timer_class(self, part: "Part") -> _Timer:
+        s = self.brief.supply
+        load = self.brief.load
+        direct = load.current_a <= part.value("output_source_max", "A")
+        if direct and load.kind == "relay":
+            direct = s.min_v - part.value("output_high_drop", "V") >= load.must_operate_frac * load.coil_voltage_v
+        return _Timer(
+            part, direct,
+            on_supply(part, "quiescent_supply", "quiescent_typ", "A", s.nominal_v),
+            on_supply(part, "quiescent_supply", "quiescent_max", "A", s.nominal_v),
+            on_supply(part, "r_max_supply", "r_max", "ohm", s.min_v),
+        )
+
+    def _rail(self) -> logic.LogicRail:
+        s = self.brief.supply
+        return logic.LogicRail(None, s.nominal_v, s.min_v, s.max_v, 0.0, 0.0)
+
+    def _support(self, timer: _Timer) -> list[BomLine]:
+        """Every BOM line except the timing R and C: timer, decoupling, trigger network, output stage."""
+        part = timer.part
+        lines = [BomLine("U1", part.id, part.description, 1, part.cost, "555-class timer, monostable"),
+                 fixed_part(self, "capacitor", DECOUPLING_F, "C2", "supply decoupling at the timer"),
+                 fixed_part(self, "capacitor", CONTROL_PIN_F, "C3", "control-voltage pin to ground"),
+                 *start_bom(self, "trigger", "R2", "C4", "D2")]
+        if timer.direct:
+            if self.brief.load.kind == "relay":
+                lines.append(diode(self, "D1", "flyback diode across the coil (the timer output drives the coil)",
+                                   logic.DIODE_REVERSE_FACTOR))
+        else:
+            lines += logic.output_driver_bom(self.brief, self.catalog, self._rail(), first_r=3)
+        return lines
+
+    def bom(self, design: Design) -> list[BomLine]:
+        """Timer, timing R and C, decoupling, trigger network and output stage; the relay coil is the load."""
+        return [*role_bom(self, design, _ROLES[0], "R1", "timing resistor"),
+                *role_bom(self, design, _ROLES[1], "C1", "timing capacitor"),
+                *self._support(self._timer(design))]
+
+    # ---- physics -----------------------------------------------------------------------
+    def _cap_model(self, c_part: "Part", c_nominal_f):
+        """Leakage limit at (supply [V], ambient [degC]) -> [A] for the timing capacitor, and the nominal fraction."""
+        if c_part.fields.get("dielectric") == "electrolytic":
+            rated = rated_voltage(c_part, self.brief.supply.max_v) or max(c_part.values("rated_voltages", "V"))
+
+            def limit(v, t):
+                return physics.electrolytic_leakage_a(c_nominal_f, THRESHOLD_FRAC * v, rated, t, c_part)
+
+            v0, t0 = self.brief.supply.nominal_v, TEMPCO_REFERENCE_C
+            typical = physics.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part, typical=True)
+            frac = float(typical / physics.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part))
+            return limit, frac, "electrolytic leakage: datasheet limit (k·C·V or the floor) for the worst case, " \
+                                f"typical fraction {frac:.3g} of it for nominal ({c_part.source('leakage_typical_frac')})"
+        r_ins = physics.insulation_resistance_ohm(c_nominal_f, c_part)
+
+        def limit(v, t):
+            return THRESHOLD_FRAC * v / r_ins
+
+        return limit, 1.0, "film/ceramic insulation: minimum insulation resistance for every unit (conservative)"
+
+    def _quantities(self, timer: "Part", r_part: "Part", c_part: "Part", r_ohm, c_f, leak_frac: float,
+                    leak_note: str) -> dict[str, Uncertain]:
+        q = {**value_spread("r_timing", r_ohm, r_part, "ohm"), **value_spread("c_timing", c_f, c_part, "F")}
+        q["c_timing_leakage"] = typical_to_limit(leak_frac, 1.0, "", leak_note + " (fraction of the limit)")
+        q["threshold_a"] = typical_to_limit(timer.value("threshold_current_typ", "A"),
+                                            timer.value("threshold_current_max", "A"), "A",
+                                            f"{timer.id}: threshold current ({timer.source('threshold_current_max')})")
+        err, tc, sc = (timer.value("initial_error", ""), timer.value("tempco", "1/K"),
+                       timer.value("supply_coefficient", "1/V"))
+        q["timer_error"] = Uncertain(0.0, -err, err, note=f"{timer.id}: initial error ({timer.source('initial_error')})")
+        q["timer_tempco"] = Uncertain(0.0, -tc, tc, unit="1/K", note=f"{timer.id}: drift ({timer.source('tempco')})")
+        q["timer_supply_coef"] = Uncertain(0.0, -sc, sc, unit="1/V",
+                                           note=f"{timer.id}: supply drift ({timer.source('supply_coefficient')})")
+        return q
+
+    def uncertain(self, design: Design) -> dict[str, Uncertain]:
+        """R and C tolerance and tempco, capacitor leakage, threshold current, the class's three drifts."""
+        timer = self._timer(design).part
+        c = design.values["c_timing"]
+        _, frac, note = self._cap_model(role_part(self, design, _ROLES[1]), c)
+        return self._quantities(timer, role_part(self, design, _ROLES[0]), role_part(self, design, _ROLES[1]),
+                                design.values["r_timing"], c, frac, note)
+
+    def _width(self, leak_limit, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        v, t = x["supply_v"], x["ambient_c"]
+        ix = x["c_timing_leakage"] * leak_limit(v, t) + x["threshold_a"]
+        core = monostable_width_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), ix, v)
+        drift = ((1.0 + x["timer_error"]) * (1.0 + x["timer_tempco"] * (t - TEMPCO_REFERENCE_C))
+                 * (1.0 + x["timer_supply_coef"] * (v - self.brief.supply.nominal_v)))
+        return core * drift
+
+    def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Pulse width [s] per sample; inf where leakage and threshold current stop the charge short of 2/3 Vcc."""
+        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
+        return self._width(limit, x)
+
+    # ---- metrics and rules -------------------------------------------------------------
+    def _currents(self, timer: _Timer, r_ohm):
+        """Supply current during timing and after the timeout at nominal supply [A] (typical quiescent current)."""
+        v = self.brief.supply.nominal_v
+        load = self.brief.load.current_a
+        gate = 0.0 if timer.direct else v / logic.GATE_PULLDOWN_OHM
+        # mean charging current: 2/3 Vcc·C delivered over R·C·ln 3
+        during = timer.quiescent_typ_a + load + gate + THRESHOLD_FRAC * v / (np.asarray(r_ohm) * np.log(3.0))
+        after = timer.quiescent_typ_a + v / np.asarray(r_ohm)
+        return during, after
+
+    def standby(self, design: Design) -> Standby:
+        """During: timer, load, charging current, gate pull-down; after: timer plus Vcc/R into the discharge pin."""
+        during, after = self._currents(self._timer(design), design.values["r_timing"])
+        return Standby(float(during), float(after))
+
+    def checks(self, design: Design) -> list[Finding]:
+        """Supply rating, largest timing resistance, leakage headroom, capacitor rating, drive and trigger."""
+        timer = self._timer(design)
+        part, s, amb = timer.part, self.brief.supply, self.brief.ambient
+        r, c = design.values["r_timing"], design.values["c_timing"]
+        c_part = role_part(self, design, _ROLES[1])
+        out = []
+        lo, hi = part.value("supply_min", "V"), part.value("supply_max", "V")
+        if s.min_v < lo or s.max_v > hi:
+            out.append(Finding("violation", "supply-range",
+                               f"supply {fq(s.min_v, 'V')} to {fq(s.max_v, 'V')} is outside the {part.id} rating "
+                               f"{fq(lo, 'V')} to {fq(hi, 'V')}"))
+        if r > timer.r_max_ohm:
+            out.append(Finding("violation", "r-max", self._r_max_reason(timer)))
+        limit, _, note = self._cap_model(c_part, c)
+        ix = float(limit(s.min_v, amb.max_c)) + part.value("threshold_current_max", "A")
+        if ix * r >= TRIGGER_FRAC * s.min_v:
+            out.append(Finding("violation", "leakage",
+                               f"worst-case leakage plus threshold current {fq(ix, 'A')} through R {fq(r, 'ohm')} "
+                               f"drops {fq(ix * r, 'V')}, reaching Vcc/3 = {fq(TRIGGER_FRAC * s.min_v, 'V')} at "
+                               f"{fq(s.min_v, 'V')} and {amb.max_c:g} °C: the capacitor never reaches 2/3 Vcc"))
+        elif ix * r > 0.1 * TRIGGER_FRAC * s.min_v:
+            out.append(Finding("warning", "leakage",
+                               f"worst-case leakage plus threshold current drops {fq(ix * r, 'V')} across R, "
+                               f"{100 * ix * r / (TRIGGER_FRAC * s.min_v):.0f} % of the Vcc/3 headroom: "
+                               "the delay depends strongly on leakage"))
+        out.append(Finding("info", "leakage-model", note))
+        if rated_voltage(c_part, s.max_v) is None:
+            out.append(Finding("violation", "c-rating", f"{c_part.id} has no voltage rating with 20 % margin over "
+                                                        f"the supply maximum {fq(s.max_v, 'V')}"))
+        if c_part.has("temp_max") and amb.max_c > c_part.value("temp_max", "degC"):
+            out.append(Finding("violation", "c-temperature",
+                               f"{c_part.id} is rated to {c_part.value('temp_max', 'degC'):g} °C; the ambient reaches "
+                               f"{amb.max_c:g} °C"))
+        out += self._drive_checks(timer)
+        out += start_checks(self, "trigger", TRIGGER_FRAC, lo, part.value("trigger_pulse_min", "s"))
+        out.append(Finding("info", "quiescent",
+                           f"{part.id}: standby uses the typical supply current {fq(timer.quiescent_typ_a, 'A')} at "
+                           f"{fq(s.nominal_v, 'V')}; the datasheet maximum is {fq(timer.quiescent_max_a, 'A')}"))
+        return out
+
+    def _drive_checks(self, timer: _Timer) -> list[Finding]:
+        if not timer.direct:
+            return logic.output_driver_checks(self.brief, self.catalog, self._rail())
+        load, s = self.brief.load, self.brief.supply
+        drop = timer.part.value("output_high_drop", "V")
+        msg = (f"{timer.part.id} drives the load directly ({fq(load.current_a, 'A')}, within its "
+               f"{fq(timer.part.value('output_source_max', 'A'), 'A')} output)")
+        if load.kind == "relay":
+            msg += (f"; the coil gets {fq(s.min_v - drop, 'V')} at minimum supply, must-operate "
+                    f"{fq(load.must_operate_frac * load.coil_voltage_v, 'V')}")
+        return [Finding("info", "output-drive", msg)]
+
+    def _r_max_reason(self, timer: _Timer) -> str:
+        p = timer.part
+        return (f"timing resistance above the {p.id} class's largest practical value {fq(timer.r_max_ohm, 'ohm')} "
+                f"at the minimum supply {fq(self.brief.supply.min_v, 'V')} ({p.source('r_max')})")
+
+    # ---- optimiser tables --------------------------------------------------------------
+    def selection(self) -> SelectionModel:
+        """One block: every (timer class, R, C) with its exact worst-case delay over the corners.
+
+        Within an (ambient, supply) corner every other quantity moves the delay one way only
+        (R, C, leakage, threshold current and initial error lengthen it; tempcos act with the
+        sign of T − 25 degC, the supply drift with the sign of V − nominal), so the extremes over
+        the 2^11 corner lattice are the extremes of 4 environment corners × 2 monotone choices:
+        equal to the exhaustive search evaluate() runs.
+        """
+        dropped: dict[str, int] = {}
+        leak_hits: dict[str, list[float]] = {}
+        rs = timing_candidates(self, _ROLES[0], dropped)
+        cs = timing_candidates(self, _ROLES[1], dropped)
+        tables = []
+        r_groups = [g for _, g in rs.groupby("part", sort=False)]
+        c_groups = [g for _, g in cs.groupby("part", sort=False)]
+        for timer_id in self._timer_ids():
+            timer = self._timer_class(self.catalog.part(timer_id))
+            try:
+                support = self._support(timer)
+            except CatalogError as exc:
+                drop_count(dropped, f"{timer_id}: {str(exc).split(': ', 2)[-1]}", len(rs) * len(cs))
+                continue
+            for rg in r_groups:
+                fits = rg["value"].to_numpy() <= timer.r_max_ohm * (1 + 1e-9)
+                drop_count(dropped, self._r_max_reason(timer), int((~fits).sum()) * len(cs))
+                if fits.any():
+                    tables += [self._rows(timer, support, rg[fits], cg, dropped, leak_hits) for cg in c_groups]
+        for c_id, (count, c_min) in leak_hits.items():
+            drop_count(dropped, f"{c_id}: leakage plus threshold current times R reaches Vcc/3 at the worst corner "
+                                f"(the capacitor never reaches 2/3 Vcc; smallest such capacitance {fq(c_min, 'F')})", count)
+        table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=self._columns())
+        return SelectionModel(self.id, "sum", [Block("timing", table, roles=("r_timing", "c_timing"),
+                                                     options=("timer", "r_timing_part", "c_timing_part"),
+                                                     dropped=dropped)],
+                              rails=1, effort=self.entry.value("effort", ""))
+
+    _INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "timer_error")
+    _WITH_TEMPERATURE = ("r_timing_tempco", "c_timing_tempco", "timer_tempco")
+    _WITH_SUPPLY = ("timer_supply_coef",)
+
+    @staticmethod
+    def _columns() -> list[str]:
+        return ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
+                "r_timing", "c_timing", "timer", "r_timing_part", "c_timing_part", "r_timing_first",
+                "r_timing_second"]
+
+    def _corner(self, q: Mapping[str, Uncertain], r, c, ambient_c: float, supply_v: float, sign: float) -> dict:
+        """The corner that pushes the delay furthest in direction `sign` at a given ambient and supply."""
+        def pick(name: str, direction: float):
+            return q[name].hi if sign * direction > 0 else q[name].lo
+
+        x = {n: pick(n, 1.0) for n in self._INCREASING}
+        x.update({n: pick(n, ambient_c - TEMPCO_REFERENCE_C) for n in self._WITH_TEMPERATURE})
+        x.update({n: pick(n, supply_v - self.brief.supply.nominal_v) for n in self._WITH_SUPPLY})
+        x["r_timing"], x["c_timing"] = x["r_timing"] * r, x["c_timing"] * c
+        return {**x, "ambient_c": ambient_c, "supply_v": supply_v}
+
+    def _rows(self, timer: _Timer, support: list[BomLine], rs: pd.DataFrame, cs: pd.DataFrame,
+              dropped: dict[str, int], leak_hits: dict[str, list[float]]) -> pd.DataFrame:
+        """Block rows for every (R, C) of one R class and one C class with `timer`: nominal and
+        worst-case delays [s], cost, parts and currents; rows that cannot meet the band are counted."""
+        r_part, c_part = self.catalog.part(rs["part"].iat[0]), self.catalog.part(cs["part"].iat[0])
+        ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rs)), np.arange(len(cs)), indexing="ij"))
+        r, c = rs["value"].to_numpy()[ri], cs["value"].to_numpy()[ci]
+        limit, frac, note = self._cap_model(c_part, c)
+        q = self._quantities(timer.part, r_part, c_part, 1.0, 1.0, frac, note)   # R, C relative: scaled below
+        env = self.environment()
+        nominal = {n: u.nominal for n, u in {**q, **env}.items()}
+        nominal["r_timing"], nominal["c_timing"] = r, c
+        nom = self._width(limit, nominal)
+        band = self.brief.delay
+        never = ~np.isfinite(nom)
+        outside = ~never & ((nom < band.min_s) | (nom > band.max_s))
+        drop_count(dropped, f"nominal delay outside the band {fq(band.min_s, 's')} to {fq(band.max_s, 's')}",
+                   int(outside.sum()))
+        keep = np.flatnonzero(~(never | outside))
+        c_all = c
+        r, c, ri, ci, nom = r[keep], c[keep], ri[keep], ci[keep], nom[keep]
+        limit, _, _ = self._cap_model(c_part, c)
+        lo, hi = np.full(len(r), np.inf), np.zeros(len(r))
+        for t in env["ambient_c"].corner_values():
+            for v in env["supply_v"].corner_values():
+                lo = np.minimum(lo, self._width(limit, self._corner(q, r, c, t, v, -1.0)))
+                hi = np.maximum(hi, self._width(limit, self._corner(q, r, c, t, v, +1.0)))
+        stuck = ~np.isfinite(hi)
+        stuck_c = np.concatenate([c_all[never], c[stuck]])
+        if len(stuck_c):
+            hit = leak_hits.setdefault(c_part.id, [0, np.inf])
+            hit[0] += len(stuck_c)
+            hit[1] = min(hit[1], float(stuck_c.min()))
+        ok = ~stuck
+        r, ri, ci = r[ok], ri[ok], ci[ok]
+        during, after = self._currents(timer, r)
+        first, second = rs["first"].to_numpy()[ri], rs["second"].to_numpy()[ri]
+        return pd.DataFrame({
+            "delay_lo": lo[ok], "delay_nom": nom[ok], "delay_hi": hi[ok],
+            "cost": rs["cost"].to_numpy()[ri] + cs["cost"].to_numpy()[ci] + sum(b.cost for b in support),
+            "placements": rs["placements"].to_numpy()[ri] + 1 + sum(b.quantity for b in support),
+            "lines": np.where((second > 0) & (first != second), 2, 1) + 1 + len(support),
+            "during_a": during, "after_a": after,
+            "r_timing": r, "c_timing": c[ok],
+            "timer": timer.part.id, "r_timing_part": r_part.id, "c_timing_part": c_part.id,
+            "r_timing_first": first, "r_timing_second": second,
+        }, columns=self._columns())
+
+    # ---- plots and simulation ----------------------------------------------------------
+    def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
+        """Timing capacitor voltage [V] from the trigger to 20 % past the delay, with the 2/3 Vcc threshold."""
+        point = {n: np.array([float(v)]) for n, v in x.items()}
+        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
+        r = float(at_temperature(point, "r_timing")[0])
+        c = float(at_temperature(point, "c_timing")[0])
+        v = float(point["supply_v"][0])
+        ix = float(point["c_timing_leakage"][0] * limit(v, point["ambient_c"])[()] + point["threshold_a"][0])
+        end = float(monostable_width_s(r, c, ix, v))
+        span = 1.2 * end if np.isfinite(end) else 5 * r * c
+        t = np.linspace(0.0, span, 400)
+        vc = (v - ix * r) * (1.0 - np.exp(-t / (r * c)))
+        return Waveform(t, vc, "timing capacitor voltage", "V", THRESHOLD_FRAC * v, "threshold 2/3 Vcc")
+
+    def spice(self, design: Design) -> str | None:
+        """Behavioural monostable at the nominal point (R, C, nominal leakage and threshold current)."""
+        x = self.nominal_point(design)
+        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
+        v = x["supply_v"]
+        ix = float(x["c_timing_leakage"] * np.asarray(limit(v, x["ambient_c"])) + x["threshold_a"])
+        return monostable_netlist(design.values["r_timing"], design.values["c_timing"], ix, v,
+                                  f"{self.id}: {self.brief.title}")
