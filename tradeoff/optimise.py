@@ -50,6 +50,7 @@ import math
 import os
 import sys
 import time
+import warnings
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
@@ -425,7 +426,9 @@ def _solver(name: str) -> pulp.LpSolver:
         _silence_highs_banner()
         return pulp.HiGHS(msg=False, gapRel=0.0, gapAbs=_GAP_ABS)
     if name == "cbc":
-        return pulp.PULP_CBC_CMD(msg=False, gapRel=0.0, gapAbs=_GAP_ABS)
+        with warnings.catch_warnings():  # the CBC bundled with pulp is the one installed; pulp 3.3 flags it
+            warnings.simplefilter("ignore", DeprecationWarning)
+            return pulp.PULP_CBC_CMD(msg=False, gapRel=0.0, gapAbs=_GAP_ABS)
     raise SolverError(f"unknown solver {name!r}; accepted: {', '.join(map(repr, SOLVERS))}")
 
 
@@ -441,7 +444,7 @@ class _Program:
         self.cuts = 0
         if self.empty:
             return
-        self.x = [[pulp.LpVariable(f"x_{b}_{i}", cat=pulp.LpBinary) for i in k] for b, k in enumerate(self.keep)]
+        self.x = [[self.lp.add_variable(f"x_{b}_{i}", cat=pulp.LpBinary) for i in k] for b, k in enumerate(self.keep)]
         for b, xs in enumerate(self.x):
             self.lp += pulp.LpAffineExpression([(v, 1.0) for v in xs]) == 1, f"one_{b}"
         for r in self.requirements:
@@ -476,7 +479,7 @@ class _Program:
 
     def absolute(self, amounts: Sequence[np.ndarray], centre: float, scale: float, name: str) -> pulp.LpVariable:
         """An auxiliary variable a >= |sum x·amount − centre| / scale (exact when a is minimised)."""
-        a = pulp.LpVariable(name, lowBound=0)
+        a = self.lp.add_variable(name, lowBound=0)
         e = self.expression(amounts, scale)
         self.lp += a >= e - centre / scale, f"{name}_above"
         self.lp += a >= centre / scale - e, f"{name}_below"
@@ -484,7 +487,7 @@ class _Program:
 
     def worst_violation(self, requirements: Sequence[_Requirement]) -> pulp.LpVariable:
         """An auxiliary variable z >= each requirement's violation (relative, or in log units)."""
-        z = pulp.LpVariable("violation")
+        z = self.lp.add_variable("violation")
         for r in requirements:
             f = self._scale(r)
             e, rhs = self.expression(r.amounts, f), (r.rhs - r.constant) / f
@@ -509,7 +512,10 @@ class _Program:
         if self.empty:
             return None
         while True:
-            self.lp.solve(self.solver)
+            try:
+                self.lp.solve(self.solver)
+            except (pulp.PulpSolverError, KeyError) as exc:  # KeyError: a HiGHS status pulp cannot map
+                raise SolverError(f"{self.solver_name} failed: {exc!r}; expected 'Optimal' or 'Infeasible'") from None
             status = pulp.LpStatus[self.lp.status]
             if status == "Infeasible":
                 return None
