@@ -24,8 +24,9 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Catalog, Part
 
 __all__ = [
-    "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom",
-    "cheapest", "output_driver_bom", "on_state_drop_v", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM", "GATE_RESISTOR_OHM", "output_driver_checks",
+    "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom", "cheapest",
+    "resistor_class", "output_driver_bom", "on_state_drop_v", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM",
+    "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet",
 ]
 
 NO_REGULATOR = "none"
@@ -144,7 +145,8 @@ def _ceramic(catalog: "Catalog", value_f: float, rated_min_v: float) -> "Part":
                     f"a ceramic capacitor of {fq(value_f, 'F')} rated {fq(rated_min_v, 'V')}", dielectric="ceramic")
 
 
-def _resistor(catalog: "Catalog", value_ohm: float) -> "Part":
+def resistor_class(catalog: "Catalog", value_ohm: float) -> "Part":
+    """The cheapest resistor class that makes `value_ohm` [ohm]."""
     return cheapest(catalog, "resistor",
                     lambda p: p.value("min_value", "ohm") <= value_ohm <= p.value("max_value", "ohm"),
                     f"a resistor of {fq(value_ohm, 'ohm')}")
@@ -163,19 +165,20 @@ def rail_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, ic_ref: str, i
     return lines
 
 
-def _load_current_max(brief: "Brief") -> float:
+def load_current_max(brief: "Brief") -> float:
     """Largest load current [A]: a relay coil at the supply maximum, or the dc load current."""
     if brief.load.kind == "relay":
         return brief.supply.max_v / brief.load.coil_resistance_ohm
     return brief.load.current_a
 
 
-def _mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part":
+def output_mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part":
+    """The cheapest logic-level N-MOSFET class rated for the load that the rail's minimum turns on."""
     return cheapest(catalog, "mosfet",
                     lambda p: p.value("vds_max", "V") >= brief.supply.max_v
-                    and p.value("id_max", "A") >= _load_current_max(brief)
+                    and p.value("id_max", "A") >= load_current_max(brief)
                     and p.value("vth_max", "V") < rail.min_v,
-                    f"an N-MOSFET for {fq(_load_current_max(brief), 'A')} at {fq(brief.supply.max_v, 'V')} "
+                    f"an N-MOSFET for {fq(load_current_max(brief), 'A')} at {fq(brief.supply.max_v, 'V')} "
                     f"whose threshold a {fq(rail.min_v, 'V')} gate drive exceeds")
 
 
@@ -192,8 +195,8 @@ def _diode(brief: "Brief", catalog: "Catalog") -> "Part":
 def output_driver_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, first_r: int) -> list[BomLine]:
     """Output MOSFET, its gate resistor and pull-down (R<first_r>, R<first_r + 1>) and, for a relay, the
     flyback diode; the relay coil itself is the brief's load and not in the bill of materials."""
-    fet = _mosfet(brief, catalog, rail)
-    r_gate, r_pull = _resistor(catalog, GATE_RESISTOR_OHM), _resistor(catalog, GATE_PULLDOWN_OHM)
+    fet = output_mosfet(brief, catalog, rail)
+    r_gate, r_pull = resistor_class(catalog, GATE_RESISTOR_OHM), resistor_class(catalog, GATE_PULLDOWN_OHM)
     lines = [BomLine("Q1", fet.id, fet.description, 1, fet.cost, "switches the load to ground"),
              BomLine(f"R{first_r}", r_gate.id, fq(GATE_RESISTOR_OHM, "ohm"), 1, r_gate.cost, "gate resistor"),
              BomLine(f"R{first_r + 1}", r_pull.id, fq(GATE_PULLDOWN_OHM, "ohm"), 1, r_pull.cost,
@@ -216,11 +219,11 @@ def output_driver_checks(brief: "Brief", catalog: "Catalog", rail: LogicRail) ->
     """The output MOSFET must exist in the catalog, and at the weakest corner (lowest rail, highest threshold
     at the coldest ambient, smallest K) its on-state drop must leave the coil its must-operate voltage."""
     try:
-        fet = _mosfet(brief, catalog, rail)
+        fet = output_mosfet(brief, catalog, rail)
     except CatalogError as exc:
         return [Finding("violation", "output-driver", str(exc).split(": ", 2)[-1])]
     vth = fet.value("vth_max", "V") + fet.value("vth_tempco", "V/K") * (brief.ambient.min_c - 25.0)
-    current = _load_current_max(brief)
+    current = load_current_max(brief)
     drop = on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), current)
     if brief.load.kind != "relay":
         return []

@@ -1,0 +1,314 @@
+"""RC hold with a micropower comparator and voltage reference.
+
+Circuit: the start charges the hold capacitor c_hold to the logic rail V0; it then discharges
+through r_hold (and its own leakage, the comparator's input bias current and an optional
+shunt). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
+divider (R_TOP from the reference, R_BOTTOM to ground) with a hysteresis resistor R_HYST from
+the output MOSFET's drain, an inverted copy of the comparator output. While timing, the output
+is high, the MOSFET conducts and its drain is near 0 V: the threshold is
+    V_th = (V_ref/R_TOP + V_drain/R_HYST) / (1/R_TOP + 1/R_BOTTOM + 1/R_HYST)
+When the capacitor falls to V_th + offset the output goes low, the drain rises to the supply
+and lifts the threshold by about V_s·(R_TOP ∥ R_BOTTOM)/R_HYST: snap action, and the capacitor
+must be recharged above the raised threshold to start again.
+
+The divider is fixed (not a value role): the threshold is set once by the reference and the
+ratio, and the optimiser picks r_hold and c_hold, which set the delay
+    t = C ∫ dV / i(V) from V_th to V0,  i(V) = V/r_hold + leakage(V) + I_bias (+ shunt)
+(tradeoff.topologies.hold.discharge_time_s, in u = ln V). With no leakage and no bias this is
+t = r_hold·c_hold·ln(V0/V_th).
+
+The delay is monotone in every spread quantity (each lengthens or shortens it), so the
+optimiser's table uses the two extreme corners; evaluate() searches every corner and agrees.
+"""
+from __future__ import annotations
+
+import math
+from typing import Mapping
+
+import numpy as np
+import pandas as pd
+
+from tradeoff.analysis import Uncertain
+from tradeoff.errors import DesignError
+from tradeoff.selection import Block, SelectionModel
+from tradeoff.topologies import hold, logic
+from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.units import format_quantity as fq
+
+__all__ = ["RcComparator", "R_TOP_OHM", "R_BOTTOM_OHM", "R_HYST_OHM", "threshold_v", "HYSTERESIS_MIN_V"]
+
+R_TOP_OHM = 1e6
+"""Threshold divider, reference side [ohm]."""
+R_BOTTOM_OHM = 1e6
+"""Threshold divider, ground side [ohm] (with R_TOP: about half the reference)."""
+R_HYST_OHM = 10e6
+"""Hysteresis resistor from the output MOSFET's drain to the threshold node [ohm]."""
+HYSTERESIS_MIN_V = 20e-3
+"""Smallest threshold step for clean switching [V] (common practice: well above noise and offset drift)."""
+
+_R_HOLD = (10e3, 10e6)
+_C_HOLD = (1e-6, 4.7e-3)
+
+# Sign of each quantity's effect on the delay: +1 lengthens it when the quantity rises, -1 shortens it.
+_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, hold.LEAK_LEVEL: -1, "bias_a": -1, "v_ref": -1,
+              "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1, "ambient_c": -1}
+
+
+def threshold_v(v_ref, v_drain, r_top, r_bottom, r_hyst):
+    """Voltage of the threshold node [V]: reference through r_top, ground through r_bottom, drain through r_hyst."""
+    return (v_ref / r_top + v_drain / r_hyst) / (1.0 / r_top + 1.0 / r_bottom + 1.0 / r_hyst)
+
+
+class RcComparator(Topology):
+    """RC hold read by a nanopower comparator against a reference divider; see the module docstring."""
+
+    id = "rc-comparator"
+
+    # ---- parts ------------------------------------------------------------------------
+    def _part(self, design: Design, category: str, key: str):
+        chosen = design.options.get(key)
+        part = self.catalog.parts(category)[0] if chosen is None else self.catalog.part(chosen)
+        own = design.overrides.get(part.id)
+        return part.with_overrides(own, "design") if own else part
+
+    def _ics(self, design: Design):
+        return self._part(design, "comparator", "comparator"), self._part(design, "reference", "reference")
+
+    def _ic_range(self, comp, ref) -> tuple[float, float]:
+        return (max(comp.value("supply_min", "V"), ref.value("supply_min", "V")),
+                min(comp.value("supply_max", "V"), ref.value("supply_max", "V")))
+
+    def _rail(self, design: Design) -> logic.LogicRail:
+        option = design.options.get("regulator")
+        if option is None:
+            raise DesignError.single("design", "options.regulator", f"missing; accepted: {logic.NO_REGULATOR!r} or "
+                                     "a regulator class id")
+        return logic.logic_rail(self.brief, self.catalog, option, *self._ic_range(*self._ics(design)), "design")
+
+    def _cap(self, design: Design):
+        part = self._part(design, "capacitor", "c_hold_part")
+        rated = design.options.get("c_rated_v") or min(v for v in part.values("rated_voltages", "V")
+                                                       if v >= self._rail(design).max_v / 0.8)
+        return part, float(rated)
+
+    def _value(self, design: Design, role: str) -> float:
+        if role not in design.values:
+            raise DesignError.single("design", f"values.{role}", f"missing; accepted: a value in SI units or with "
+                                     "a unit ('1 Mohm', '470 uF')")
+        return float(design.values[role])
+
+    def _drain_max_v(self, rail: logic.LogicRail) -> float:
+        """Largest drain voltage while the MOSFET conducts [V] (square-law model at its weakest corner)."""
+        fet = logic.output_mosfet(self.brief, self.catalog, rail)
+        vth = fet.value("vth_max", "V") + fet.value("vth_tempco", "V/K") * (self.brief.ambient.min_c - 25.0)
+        drop = logic.on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), logic.load_current_max(self.brief))
+        return min(drop, self.brief.supply.max_v)
+
+    # ---- Topology interface ---------------------------------------------------------
+    def roles(self) -> list[Role]:
+        """r_hold and c_hold: the hold time constant (the divider is fixed)."""
+        return [Role("r_hold", "resistor", *_R_HOLD, "hold resistor the capacitor discharges through"),
+                Role("c_hold", "capacitor", *_C_HOLD, "hold capacitor", ("electrolytic", "film"))]
+
+    def uncertain(self, design: Design) -> dict[str, Uncertain]:
+        """Hold R and C, leakage level, rail, reference, divider, comparator offset and bias, drain voltage."""
+        comp, ref = self._ics(design)
+        rail = self._rail(design)
+        r_part = self._part(design, "resistor", "r_hold_part")
+        c_part, rated = self._cap(design)
+        fixed_r = logic.resistor_class(self.catalog, R_TOP_OHM)
+        bias = comp.value("bias_max", "A")
+        offset = comp.value("offset_max", "V")
+        return {
+            "r_hold": hold.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
+            "c_hold": hold.component_band(self._value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
+            hold.LEAK_LEVEL: hold.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated).uncertain(),
+            "rail_v": Uncertain(rail.nominal_v, rail.min_v, rail.max_v, unit="V",
+                                note=f"start voltage: the logic rail ({rail.option}) the capacitor charges to"),
+            "v_ref": hold.component_band(ref.value("output", "V"), ref, self.brief, "V: reference output"),
+            "r_top": hold.component_band(R_TOP_OHM, fixed_r, self.brief, "ohm: divider, reference side"),
+            "r_bottom": hold.component_band(R_BOTTOM_OHM, fixed_r, self.brief, "ohm: divider, ground side"),
+            "r_hyst": hold.component_band(R_HYST_OHM, logic.resistor_class(self.catalog, R_HYST_OHM), self.brief,
+                                          "ohm: hysteresis resistor"),
+            "offset_v": Uncertain(0.0, -offset, offset, unit="V", note=f"{comp.id}: input offset (uniform)"),
+            "bias_a": Uncertain(0.0, -bias, bias, unit="A", note=f"{comp.id}: input bias current, either sign, "
+                                "up to its maximum over temperature (uniform)"),
+            "drain_v": Uncertain(0.0, 0.0, self._drain_max_v(rail), unit="V",
+                                 note="output MOSFET drain while on: 0 to its weakest-corner drop (uniform)"),
+        }
+
+    def _leakage(self, design: Design) -> hold.CapacitorLeakage:
+        c_part, rated = self._cap(design)
+        return hold.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated)
+
+    def trip_v(self, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Capacitor voltage at which the comparator switches [V]: the threshold plus the offset."""
+        return threshold_v(x["v_ref"], x["drain_v"], x["r_top"], x["r_bottom"], x["r_hyst"]) + x["offset_v"]
+
+    def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Current leaving the hold capacitor at voltage v [V]: hold resistor, leakage, bias, optional shunt [A]."""
+        leak = self._leakage(design)
+        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL])
+        return (v / x["r_hold"] + leak.current_a(v, a_typ, a_lim) + x["bias_a"]
+                + hold.shunt_current_a(v, hold.shunt_ohm(design)))
+
+    def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Discharge time from the rail to the trip voltage [s]; inf where the current at the trip is not positive."""
+        x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
+        v0, v_end = x["rail_v"], np.clip(self.trip_v(x), 1e-6, None)
+        ends = (self.discharge_current_a(design, v_end, x) > 0) & (v0 > v_end)
+        along = {k: v[..., None] for k, v in x.items()}
+
+        def path(u):
+            v = np.exp(u)
+            return v, np.where(ends[..., None], self.discharge_current_a(design, v, along), 1.0)
+
+        t = hold.discharge_time_s(x["c_hold"], np.log(v_end), np.log(np.maximum(v0, v_end)), path)
+        return np.where(ends, t, np.where(v0 > v_end, np.inf, 0.0))
+
+    def _currents(self, design: Design, rail: logic.LogicRail) -> tuple[float, float]:
+        comp, ref = self._ics(design)
+        ics = comp.value("quiescent_typ", "A") + ref.value("quiescent_typ", "A") + rail.quiescent_typ_a
+        v_ref = ref.value("output", "V")
+        divider = v_ref / (R_TOP_OHM + R_BOTTOM_OHM)
+        node_after = threshold_v(v_ref, self.brief.supply.nominal_v, R_TOP_OHM, R_BOTTOM_OHM, R_HYST_OHM)
+        hyst_after = (self.brief.supply.nominal_v - node_after) / R_HYST_OHM
+        during = self.brief.load.current_a + ics + divider + rail.nominal_v / logic.GATE_PULLDOWN_OHM
+        return during, ics + divider + hyst_after
+
+    def standby(self, design: Design) -> Standby:
+        """Typical currents at nominal supply: the comparator, reference, divider and regulator keep drawing after
+        the timeout, plus the hysteresis resistor's current from the drain (now at the supply)."""
+        return Standby(*self._currents(design, self._rail(design)))
+
+    def rails(self, design: Design) -> int:
+        """2 with a regulated logic rail, 1 when the ICs run straight from a regulated supply."""
+        return self._rail(design).rails
+
+    def _fixed_bom(self, design: Design, rail: logic.LogicRail) -> list[BomLine]:
+        comp, ref = self._ics(design)
+        lines = logic.rail_bom(self.brief, self.catalog, rail, "U1", comp)
+        lines.append(BomLine("U3", ref.id, ref.description, 1, ref.cost, "threshold reference"))
+        for refs, value, note in (("R1", R_TOP_OHM, "threshold divider"), ("R2", R_BOTTOM_OHM, "threshold divider"),
+                                  ("R3", R_HYST_OHM, "hysteresis from the drain")):
+            part = logic.resistor_class(self.catalog, value)
+            lines.append(BomLine(refs, part.id, fq(value, "ohm"), 1, part.cost, note))
+        return lines + logic.output_driver_bom(self.brief, self.catalog, rail, first_r=5)
+
+    def bom(self, design: Design) -> list[BomLine]:
+        """Comparator, reference, divider, hysteresis, hold R and C, output MOSFET, flyback diode, logic rail."""
+        rail = self._rail(design)
+        r_part = self._part(design, "resistor", "r_hold_part")
+        c_part, rated = self._cap(design)
+        hold_lines = [BomLine("R4", r_part.id, fq(self._value(design, "r_hold"), "ohm"), 1, r_part.cost, "hold"),
+                      BomLine("C4", c_part.id, f"{fq(self._value(design, 'c_hold'), 'F')} {fq(rated, 'V')}", 1,
+                              c_part.cost, "hold")]
+        return self._fixed_bom(design, rail) + hold_lines
+
+    def checks(self, design: Design) -> list[Finding]:
+        """Clean switching (hysteresis step), restart above the raised threshold, leakage model, start, driver."""
+        rail = self._rail(design)
+        q = self.quantities(design)
+        nominal = {k: v.nominal for k, v in q.items()}
+        on = threshold_v(nominal["v_ref"], 0.0, R_TOP_OHM, R_BOTTOM_OHM, R_HYST_OHM)
+        off = threshold_v(nominal["v_ref"], self.brief.supply.min_v, R_TOP_OHM, R_BOTTOM_OHM, R_HYST_OHM)
+        off_max = threshold_v(q["v_ref"].hi, self.brief.supply.max_v, q["r_top"].lo, q["r_bottom"].hi, q["r_hyst"].lo)
+        out = [self._leakage(design).finding()]
+        step = off - on - 2 * q["offset_v"].hi
+        if step < HYSTERESIS_MIN_V:
+            out.append(Finding("violation", "hysteresis", f"the threshold steps only {fq(off - on, 'V')} when the "
+                               f"output switches; clean switching needs {fq(HYSTERESIS_MIN_V, 'V')} beyond the "
+                               f"offset"))
+        else:
+            out.append(Finding("info", "hysteresis", f"threshold {fq(on, 'V')} while timing, {fq(off, 'V')} after "
+                               f"(step {fq(off - on, 'V')} at minimum supply): the output snaps"))
+        if off_max >= rail.min_v:
+            out.append(Finding("violation", "restart", f"the raised threshold reaches {fq(off_max, 'V')}, at or "
+                               f"above the {fq(rail.min_v, 'V')} the capacitor charges to: it could not restart"))
+        if self.brief.start == "power-on":
+            out.append(Finding("warning", "start", "power-on start: the model assumes the hold capacitor starts "
+                               "fully charged to the logic rail (a start pulse that charges it is not modelled "
+                               "for this topology)"))
+        return out + logic.output_driver_checks(self.brief, self.catalog, rail)
+
+    def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform:
+        """Capacitor voltage against time with the trip voltage, at the point `x` (integrated on a time grid)."""
+        xa = {k: np.array([v], dtype=float) for k, v in x.items()}
+        end = float(self.delay(design, xa)[0])
+        span = 1.2 * end if math.isfinite(end) and end > 0 else 10 * x["r_hold"] * x["c_hold"]
+        v0, trip = float(x["rail_v"]), float(self.trip_v(xa)[0])
+        volts = np.geomspace(v0, max(trip * 0.5, 1e-3), 400)
+        current = self.discharge_current_a(design, volts, x)
+        # time to reach each voltage: cumulative trapezoid of C dV / i(V) from v0 downwards
+        dt = x["c_hold"] * np.diff(-volts) * 0.5 * (1 / current[1:] + 1 / current[:-1])
+        t = np.concatenate([[0.0], np.cumsum(np.where(current[1:] > 0, dt, np.inf))])
+        keep = t <= span
+        return Waveform(t[keep], volts[keep], "hold capacitor voltage", "V", trip, "comparator trip voltage")
+
+    # ---- optimiser --------------------------------------------------------------------
+    def selection(self) -> SelectionModel:
+        """One block: every (r_hold, c_hold) pair for every logic rail, with the delay at the two extreme corners.
+
+        The delay is monotone in each quantity (`_DIRECTION`), so the shortest delay sits at the corner where
+        every quantity takes its shortening end and the longest at the opposite one; each capacitor
+        candidate's rows are evaluated with the same delay model evaluate() uses.
+        """
+        band = (self.brief.delay.min_s, self.brief.delay.max_s)
+        r_role, c_role = self.roles()
+        pairs = hold.hold_pairs(r_role, c_role, self.brief, self.catalog)
+        dropped = hold.Dropped()
+        comp, ref = self.catalog.parts("comparator")[0], self.catalog.parts("reference")[0]
+        rails, reasons = logic.rail_options(self.brief, self.catalog, *self._ic_range(comp, ref))
+        for reason in reasons:
+            dropped[f"logic rail: {reason}"] = len(pairs)
+        for rail in list(rails):
+            for finding in logic.output_driver_checks(self.brief, self.catalog, rail):
+                if finding.severity == "violation" and rail in rails:
+                    dropped[f"logic rail {rail.option}: {finding.message}"] = len(pairs)
+                    rails.remove(rail)
+        groups = list(pairs.groupby(["c_part", "c_hold", "c_rated_v"], sort=False).indices.items())
+        tables = []
+        for rail in rails:
+            fixed = self._fixed_bom(Design(self.id, {}, {"regulator": rail.option}), rail)
+            during, after = self._currents(Design(self.id), rail)
+            delay = np.full((3, len(pairs)), np.nan)  # shortest corner, nominal, longest corner
+            for (c_part, c_value, rated), index in groups:
+                rows = pairs.iloc[index]
+                design = Design(self.id, {"r_hold": float(rows["r_hold"].iloc[0]), "c_hold": float(c_value)},
+                                {"regulator": rail.option, "c_hold_part": c_part, "c_rated_v": float(rated),
+                                 "r_hold_part": rows["r_part"].iloc[0], "comparator": comp.id, "reference": ref.id})
+                q = self.quantities(design)
+                r, spread = rows["r_hold"].to_numpy(float), rows["r_spread"].to_numpy(float)
+                x = {n: np.full(len(r), u.nominal) for n, u in q.items()}
+                delay[1, index] = self.delay(design, {**x, "r_hold": r})
+                inside = (delay[1, index] >= band[0]) & (delay[1, index] <= band[1])
+                if not inside.any():
+                    continue
+                for row, sign in ((0, -1), (2, 1)):  # the corner where every quantity shortens / lengthens the delay
+                    corner = {n: np.full(len(r), u.hi if _DIRECTION.get(n, 1) * sign > 0 else u.lo)
+                              for n, u in q.items()}
+                    corner["r_hold"] = r * (1 + sign * _DIRECTION["r_hold"] * spread)
+                    delay[row, index] = np.where(inside, self.delay(design, corner), np.nan)
+            tables.append(pairs.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=delay[2],
+                                       regulator=rail.option, comparator=comp.id, reference=ref.id,
+                                       cost=pairs["cost"] + sum(b.cost for b in fixed),
+                                       placements=pairs["placements"] + sum(b.quantity for b in fixed),
+                                       lines=len(fixed) + 2, during_a=during, after_a=after, rails=rail.rails - 1))
+        table = pd.concat(tables, ignore_index=True) if tables else pairs.iloc[:0].assign(
+            delay_lo=0.0, delay_nom=0.0, delay_hi=0.0, regulator="", comparator="", reference="", lines=0,
+            during_a=0.0, after_a=0.0, rails=0)
+        nom = table["delay_nom"].to_numpy(float)
+        keep = dropped.drop((nom < band[0]) | (nom > band[1]), lambda m: (
+            f"nominal delay outside the band {fq(band[0], 's')} to {fq(band[1], 's')} "
+            f"(time constant too short or too long)"))
+        table = table[keep]
+        never = ~np.isfinite(table["delay_hi"].to_numpy(float))
+        keep = dropped.drop(never, lambda m: "at the longest-delay corner the leakage and bias current exceed the "
+                            "hold resistor's current at the trip voltage: the unit never times out")
+        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part"})
+        block = Block("hold", table, roles=("r_hold", "c_hold"),
+                      options=("r_hold_part", "c_hold_part", "c_rated_v", "regulator", "comparator", "reference"),
+                      dropped=dict(dropped))
+        return SelectionModel(self.id, "sum", [block], rails=1, effort=self.effort(Design(self.id)),
+                              notes=["threshold divider fixed; the delay is monotone in each spread quantity, so the "
+                                     "table's extremes are the two extreme corners"])
