@@ -303,8 +303,8 @@ class RcComparator(Topology):
             f"(time constant too short or too long)"))
         table = table[keep]
         never = ~np.isfinite(table["delay_hi"].to_numpy(float))
-        keep = dropped.drop(never, lambda m: "at the longest-delay corner the leakage and bias current exceed the "
-                            "hold resistor's current at the trip voltage: the unit never times out")
+        keep = dropped.drop(never, lambda m: "at the longest-delay corner the comparator's bias current into the "
+                            "capacitor exceeds the hold resistor's current at the trip voltage: never times out")
         table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part"})
         block = Block("hold", table, roles=("r_hold", "c_hold"),
                       options=("r_hold_part", "c_hold_part", "c_rated_v", "regulator", "comparator", "reference"),
@@ -312,3 +312,42 @@ class RcComparator(Topology):
         return SelectionModel(self.id, "sum", [block], rails=1, effort=self.effort(Design(self.id)),
                               notes=["threshold divider fixed; the delay is monotone in each spread quantity, so the "
                                      "table's extremes are the two extreme corners"])
+
+    def spice(self, design: Design) -> str:
+        """ngspice netlist of `design` at nominal values (typical leakage as a behavioural current source,
+        behavioural comparator, switch as the output MOSFET, relay coil as its resistance), with
+        `.measure tran delay` at the comparator output's falling edge."""
+        q = self.quantities(design)
+        x = {n: u.nominal for n, u in q.items()}
+        leak = self._leakage(design)
+        a_typ, a_lim = (float(np.asarray(a).reshape(-1)[0]) for a in leak.coefficients(x["ambient_c"],
+                                                                                        x[hold.LEAK_LEVEL]))
+        shunt = hold.shunt_ohm(design)
+        expected = self.nominal_delay(design)
+        stop = 1.3 * expected if math.isfinite(expected) else 20 * x["r_hold"] * x["c_hold"]
+        coil = self.brief.load.coil_resistance_ohm or self.brief.supply.nominal_v / self.brief.load.current_a
+        rail, vr = x["rail_v"], leak.rated_v
+        lines = [
+            f"* {self.id}: {fq(x['r_hold'], 'ohm')} / {fq(x['c_hold'], 'F')} hold read by a comparator",
+            f"Vrail rail 0 {rail:.6g}",
+            f"Vsup sup 0 {self.brief.supply.nominal_v:.6g}",
+            f"Vref ref 0 {x['v_ref']:.6g}",
+            f"Rtop ref th {x['r_top']:.6g}",
+            f"Rbot th 0 {x['r_bottom']:.6g}",
+            f"Rhys drain th {x['r_hyst']:.6g}",
+            f"Chold cap 0 {x['c_hold']:.6g} IC={rail:.6g}",
+            f"Rhold cap 0 {x['r_hold']:.6g}",
+            f"Bleak cap 0 I = {a_typ:.6g}*pow(max(V(cap),0)/{vr:.6g},{leak.n_typ:.6g})"
+            f" + {a_lim:.6g}*pow(max(V(cap),0)/{vr:.6g},{leak.n_lim:.6g}) + {x['bias_a']:.6g}",
+            f"Bcomp out 0 V = {rail:.6g}*(0.5+0.5*tanh((V(cap)-V(th)-({x['offset_v']:.6g}))/1e-3))",
+            f"Rcoil sup drain {coil:.6g}",
+            f"Sdrv drain 0 out 0 swdrv",
+            f".model swdrv sw(vt={rail / 2:.6g} vh=0.01 ron=0.01 roff=1e10)",
+            "Dfly drain sup dfly",
+            ".model dfly d(is=4n n=1.9)",
+        ]
+        if shunt is not None:
+            lines.append(f"Rshunt cap 0 {shunt:.6g}")
+        lines += [f".tran {stop / 4000:.6g} {stop:.6g} uic",
+                  f".measure tran delay when v(out)={rail / 2:.6g} fall=1", ".end", ""]
+        return "\n".join(lines)
