@@ -1,0 +1,221 @@
+"""RC hold into an NPN Darlington (`rc-darlington`): no ICs.
+
+The hold capacitor, charged at the start, discharges through r_hold into the Darlington's base;
+the Darlington holds the relay coil (flyback diode across it) until its collector current falls
+to the relay's release current.
+
+Model (per sample, vectorised):
+- both base-emitter junctions follow the diode law, n·kT/q each (kT/q from scipy.constants):
+  VBE(IB) = VBE(on) + 2·n·Vt·ln(min(hFE·IB, I_sat) / I_test), VBE(on) at the catalog's test
+  current with its tempco (about -2 mV/K per junction, Sedra and Smith); while the Darlington is
+  saturated the coil limits the collector current to I_sat = (V - VCE(sat)) / R_coil and the
+  junction drop stays at its saturated value;
+- hFE log-normal between its limits with its temperature coefficient; the Darlington releases the
+  relay when hFE·IB falls to the release current of the unit (anywhere between must-release and
+  must-operate current: that spread dominates the worst case);
+- discharge current i(V) = IB + capacitor leakage(V) + V/R_shunt; the hold time
+  t = C ∫ dV / i(V) is integrated in u = ln IB (dV/du = IB·r + 2·n·Vt, split at saturation) by
+  Gauss–Legendre quadrature; `hold_time_closed_s` is the closed form for a constant leakage.
+"""
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from tradeoff.analysis import Uncertain
+from tradeoff.topologies.base import Finding
+from tradeoff.topologies.hold import (
+    CHARGE_FRACTION_MIN, HoldState, RcHoldTopology, discharge_time_s, thermal_voltage_v,
+)
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.catalog import Part
+    from tradeoff.topologies.base import Design
+
+__all__ = ["RcDarlington", "darlington_vbe_v", "base_current_a", "hold_time_closed_s", "NEWTON_STEPS"]
+
+NEWTON_STEPS = 14
+"""Newton steps for the base current at a given capacitor voltage (converges to machine precision)."""
+
+
+def darlington_vbe_v(ib_a, hfe, vbe_on_v, test_a, n, vt_v, sat_a) -> np.ndarray:
+    """Both junctions' drop at base current ib_a [A]: VBE(on) + 2·n·Vt·ln(min(hFE·IB, I_sat)/I_test) [V]."""
+    return vbe_on_v + 2 * n * vt_v * np.log(np.minimum(hfe * ib_a, sat_a) / test_a)
+
+
+def base_current_a(v, r_ohm, hfe, vbe_on_v, test_a, n, vt_v, sat_a, steps: int = NEWTON_STEPS) -> np.ndarray:
+    """Base current [A] at which IB·r + VBE(IB) equals the capacitor voltage v [V].
+
+    Saturated (v above the saturation point): IB = (v - VBE_sat)/r. Otherwise Newton in u = ln IB on
+    f(u) = e^u·r + VBE(e^u) - v, convex and increasing, started right of the root: monotone convergence.
+    A voltage below the junction law's reach gives a vanishing (not negative) current.
+    """
+    ib_sat = sat_a / hfe
+    drop_sat = vbe_on_v + 2 * n * vt_v * np.log(sat_a / test_a)
+    v = np.asarray(v, dtype=float)
+    saturated = v >= ib_sat * r_ohm + drop_sat
+    k = np.log(hfe / test_a)
+    u = np.log(np.minimum(ib_sat, np.maximum(v, 1e-12) / r_ohm))
+    slope_j = 2 * n * vt_v
+    for _ in range(steps):
+        e = np.exp(u)
+        u = u - (e * r_ohm + vbe_on_v + slope_j * (u + k) - v) / (e * r_ohm + slope_j)
+    return np.where(saturated, np.maximum(v - drop_sat, 0.0) / r_ohm, np.exp(np.minimum(u, np.log(ib_sat))))
+
+
+def hold_time_closed_s(c_f, r_ohm, ib_start_a, ib_end_a, ib_sat_a, n, vt_v, leak_a) -> np.ndarray:
+    """Closed-form discharge time [s] from base current ib_start_a to ib_end_a with a constant leakage.
+
+    Saturated part (fixed drop): C·r·ln((I0 + IL)/(Is + IL)). Junction-law part, with
+    dV = (r + 2nVt/I) dI and i = I + IL: C·[r·ln((Ia + IL)/(I1 + IL)) + (2nVt/IL)·(ln(1 + IL/I1) - ln(1 + IL/Ia))],
+    Ia = min(I0, Is); the IL -> 0 limit of the last term is 2nVt·(1/I1 - 1/Ia). Exact for the model's
+    junction law without a shunt (with n = 0 it is the textbook RC exponential).
+    """
+    i0, i1, i_s, leak = (np.asarray(a, dtype=float) for a in (ib_start_a, ib_end_a, ib_sat_a, leak_a))
+    ia = np.minimum(i0, i_s)
+    sat = r_ohm * np.log((np.maximum(i0, i_s) + leak) / (i_s + leak))
+    safe = np.where(leak > 0, leak, 1.0)
+    junction_term = np.where(leak > 0, (np.log1p(leak / i1) - np.log1p(leak / ia)) / safe, 1 / i1 - 1 / ia)
+    linear = r_ohm * np.log((ia + leak) / (i1 + leak)) + 2 * n * vt_v * junction_term
+    return np.where(i0 > i1, c_f * (sat + np.where(ia > i1, linear, 0.0)), 0.0)
+
+
+class RcDarlington(RcHoldTopology):
+    """RC hold into a small-signal NPN Darlington driving the relay coil."""
+
+    id = "rc-darlington"
+    driver_option = "darlington"
+    driver_default = "darlington-npn-small"
+    directions = {"r_hold": 1, "c_hold": 1, "hfe": 1, "vbe_on": -1, "leak_level": -1, "release_a": -1,
+                  "coil_ohm": -1, "supply_v": 1, "ambient_c": 0}
+
+    def driver_uncertain(self, driver: "Part") -> dict[str, Uncertain]:
+        """Darlington hFE (log-normal between limits) and VBE(on) at its test current (uniform), at 25 degC."""
+        return {
+            "hfe": self.gain(driver, "Darlington"),
+            "vbe_on": Uncertain(driver.value("vbe_on_typ", "V"), driver.value("vbe_on_min", "V"),
+                                driver.value("vbe_on_max", "V"), unit="V",
+                                note=f"Darlington {driver.id}: VBE(on) at {driver.value('vbe_test_current', 'A') * 1e3:g} "
+                                     "mA and 25 degC, both junctions (uniform)"),
+        }
+
+    def junction(self, s: HoldState, trail: bool = False) -> dict[str, np.ndarray]:
+        """Junction-law parameters of the samples at their temperature (trailing node axis if `trail`)."""
+        d = s.driver
+        dt = s.temp_c - 25.0
+        p = {"hfe": s.x["hfe"] * np.exp(d.value("hfe_tempco", "1/K") * dt),
+             "vbe_on_v": s.x["vbe_on"] + d.value("vbe_tempco", "V/K") * dt,
+             "vt_v": thermal_voltage_v(s.temp_c), "sat_a": np.maximum(s.supply_v - d.value("vce_sat", "V"), 1e-3)
+             / s.coil_ohm, "r_ohm": s.r_ohm}
+        p = {k: np.asarray(v, dtype=float) for k, v in p.items()}
+        if trail:
+            p = {k: v[..., None] for k, v in p.items()}
+        return {**p, "test_a": d.value("vbe_test_current", "A"), "n": d.value("ideality", "")}
+
+    def discharge_a(self, s: HoldState, v) -> np.ndarray:
+        """Base current plus leakage and shunt at capacitor voltage v [V] [A]."""
+        return base_current_a(v, **self.junction(s)) + s.leakage_a(v)
+
+    def output_a(self, s: HoldState, v) -> np.ndarray:
+        """Collector (coil) current min(hFE·IB, I_sat) at capacitor voltage v [V] [A]."""
+        j = self.junction(s)
+        return np.minimum(j["hfe"] * base_current_a(v, **j), j["sat_a"])
+
+    def voltage_for_a(self, s: HoldState, i_a) -> np.ndarray:
+        """Capacitor voltage [V] where the collector current, out of saturation, is i_a [A]."""
+        j = self.junction(s)
+        ib = np.minimum(i_a, j["sat_a"]) / j["hfe"]
+        return ib * j["r_ohm"] + darlington_vbe_v(ib, j["hfe"], j["vbe_on_v"], j["test_a"], j["n"], j["vt_v"],
+                                                  j["sat_a"])
+
+    def time_between_s(self, s: HoldState, v_hi, v_lo) -> np.ndarray:
+        """Discharge time from v_hi to v_lo [s]: quadrature in u = ln IB, split where the Darlington saturates."""
+        j, jt = self.junction(s), self.junction(s, trail=True)
+        u_hi = np.log(np.maximum(base_current_a(v_hi, **j), 1e-300))
+        u_lo = np.log(np.maximum(base_current_a(v_lo, **j), 1e-300))
+        u_sat = np.log(j["sat_a"] / j["hfe"])
+        drop_sat = jt["vbe_on_v"] + 2 * jt["n"] * jt["vt_v"] * np.log(jt["sat_a"] / jt["test_a"])
+
+        def linear(u):
+            ib = np.exp(u)
+            v = ib * jt["r_ohm"] + darlington_vbe_v(ib, jt["hfe"], jt["vbe_on_v"], jt["test_a"], jt["n"], jt["vt_v"],
+                                                    jt["sat_a"])
+            return ib * jt["r_ohm"] + 2 * jt["n"] * jt["vt_v"], ib + s.leakage_a(v)
+
+        def saturated(u):
+            ib = np.exp(u)
+            return ib * jt["r_ohm"], ib + s.leakage_a(ib * jt["r_ohm"] + drop_sat)
+
+        c = s.c_f
+        t = discharge_time_s(c, u_lo, np.minimum(u_hi, u_sat), linear)
+        return t + discharge_time_s(c, np.maximum(u_lo, u_sat), u_hi, saturated)
+
+    def start_drive(self, r_hi_ohm: np.ndarray, design: "Design") -> tuple[np.ndarray, str]:
+        """Base current at the start must saturate the Darlington at its worst corner.
+
+        Worst corner: hFE min and VBE(on) max at the coldest ambient, lowest coil resistance, both
+        supply limits, start voltage the button's or CHARGE_FRACTION_MIN of the power-on final voltage.
+        """
+        from tradeoff.units import format_quantity as fq
+        d, amb, sup = self.driver(design), self.brief.ambient, self.brief.supply
+        tol, _ = self.coil_tolerance()
+        coil_min = float(self.coil_ohm_at(self.coil_nominal_ohm() * (1 - tol), amb.min_c))
+        dt = amb.min_c - 25.0
+        hfe = d.value("hfe_min", "") * math.exp(d.value("hfe_tempco", "1/K") * dt)
+        vbe = d.value("vbe_on_max", "V") + d.value("vbe_tempco", "V/K") * dt
+        r_allowed = math.inf
+        for v in (sup.min_v, sup.max_v):
+            sat = (v - d.value("vce_sat", "V")) / coil_min
+            drop = vbe + 2 * d.value("ideality", "") * float(thermal_voltage_v(amb.min_c)) * math.log(
+                sat / d.value("vbe_test_current", "A"))
+            if self.power_on:
+                v0 = CHARGE_FRACTION_MIN * (v - self.pnp(design).value("vce_sat", "V"))
+            else:
+                v0 = v - self.diode(design).value("vf", "V")
+            r_allowed = min(r_allowed, hfe * max(v0 - drop, 0.0) / sat)
+        ok = np.asarray(r_hi_ohm, dtype=float) <= r_allowed
+        return ok, (f"base drive at the start cannot saturate the Darlington (hFE min {hfe:.3g} and VBE(on) "
+                    f"{fq(vbe, 'V')} at {amb.min_c:g} °C, coil current up to {fq(sat, 'A')}): the hold resistor "
+                    f"with its tolerance may be at most {fq(r_allowed, 'Ω')}")
+
+    def driver_checks(self, design: "Design") -> list[Finding]:
+        """Darlington ratings, and capacitor leakage against the base current at release."""
+        from tradeoff.units import format_quantity as fq
+        d, out, v_max = self.driver(design), [], self.brief.supply.max_v
+        if v_max > d.value("vceo_max", "V"):
+            out.append(Finding("violation", "driver-rating", f"supply {fq(v_max, 'V')} exceeds the Darlington's VCEO "
+                               f"{fq(d.value('vceo_max', 'V'), 'V')}"))
+        coil = v_max / (self.coil_nominal_ohm() * (1 - self.coil_tolerance()[0]))
+        if coil > d.value("ic_max", "A"):
+            out.append(Finding("violation", "driver-current", f"coil current {fq(coil, 'A')} exceeds the Darlington's "
+                               f"IC rating {fq(d.value('ic_max', 'A'), 'A')}"))
+        hot = {"ambient_c": self.brief.ambient.max_c, "leak_level": 1.0}
+        s = self.nominal_state(design, hot)
+        v_rel = self.voltage_for_a(s, s.release_a)
+        leak = float(s.leakage_a(v_rel)[0])
+        ib = float(base_current_a(v_rel, **self.junction(s))[0])
+        text = (f"capacitor leakage at release (datasheet limit, {self.brief.ambient.max_c:g} °C) {fq(leak, 'A')} "
+                f"against the base current at release {fq(ib, 'A')}")
+        if leak >= ib:
+            out.append(Finding("warning", "leakage-dominates", f"{text}: the end of the hold is set by the capacitor's "
+                               "leakage, which its datasheet bounds only loosely"))
+        else:
+            out.append(Finding("info", "leakage-dominates", text))
+        return out
+
+    def driver_spice(self, s: HoldState) -> tuple[list[str], list[str]]:
+        """Two identical NPNs in Darlington connection whose diode law matches the model's.
+
+        Each has BF = b with b² + 2b = hFE (so IC = hFE·IB), NF = n, and IS from VBE(on): at the
+        test current IC1 = b·IB_t and IC2 = b(b+1)·IB_t, VBE(on) = n·Vt·ln(IC1·IC2/IS²). VAF, IKF
+        and ISE are left off (infinite, infinite, zero) so hFE is constant, as in the model.
+        """
+        j = {k: (float(np.ravel(v)[0]) if np.ndim(v) else float(v)) for k, v in self.junction(s).items()}
+        hfe, n, vt = j["hfe"], j["n"], j["vt_v"]
+        b = math.sqrt(hfe + 1) - 1
+        ib_t = j["test_a"] / hfe
+        i_s = math.sqrt(b * ib_t * b * (b + 1) * ib_t) * math.exp(-j["vbe_on_v"] / (2 * n * vt))
+        return ([f"R1 hold base {j['r_ohm']:.9g}", "Q1 col base e1 QDARL", "Q2 col e1 0 QDARL"],
+                [f".model QDARL NPN(IS={i_s:.9g} BF={b:.9g} NF={n:.6g} BR=1)"])
