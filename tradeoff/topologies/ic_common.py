@@ -26,7 +26,7 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = [
     "TEMPCO_REFERENCE_C", "part_of", "on_supply", "role_part", "value_spread", "at_temperature",
     "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic", "power_on_release_s",
-    "fixed_part", "drop_count", "diode", "start_bom", "start_checks",
+    "fixed_part", "drop_count", "supply_problem", "diode", "start_bom", "start_checks",
 ]
 
 TEMPCO_REFERENCE_C = 25.0
@@ -224,3 +224,13 @@ def start_checks(topo: "Topology", pin: str, hold_frac: float, ic_supply_min_v: 
                            f"the power-on {pin} network holds the pin for {fq(release, 's')}, over 1 % of the "
                            f"shortest delay {fq(topo.brief.delay.min_s, 's')}"))
     return out
+
+
+def supply_problem(topo: "Topology", part: "Part") -> str | None:
+    """Why the brief's supply range is outside the IC class's rated supply, or None when inside."""
+    s = topo.brief.supply
+    lo, hi = part.value("supply_min", "V"), part.value("supply_max", "V")
+    if s.min_v < lo or s.max_v > hi:
+        return (f"supply {fq(s.min_v, 'V')} to {fq(s.max_v, 'V')} is outside the {part.id} rating "
+                f"{fq(lo, 'V')} to {fq(hi, 'V')}")
+    return None

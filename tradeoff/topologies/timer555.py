@@ -37,7 +37,7 @@ from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
     TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, on_supply, part_of, role_bom, role_part,
-    start_bom, start_checks, timing_candidates, typical_to_limit, value_spread,
+    start_bom, start_checks, supply_problem, timing_candidates, typical_to_limit, value_spread,
 )
 from tradeoff.units import format_quantity as fq
 
@@ -254,11 +254,7 @@ class Timer555(Topology):
         r, c = design.values["r_timing"], design.values["c_timing"]
         c_part = role_part(self, design, _ROLES[1])
         out = []
-        lo, hi = part.value("supply_min", "V"), part.value("supply_max", "V")
-        if s.min_v < lo or s.max_v > hi:
-            out.append(Finding("violation", "supply-range",
-                               f"supply {fq(s.min_v, 'V')} to {fq(s.max_v, 'V')} is outside the {part.id} rating "
-                               f"{fq(lo, 'V')} to {fq(hi, 'V')}"))
+        out += [Finding("violation", "supply-range", p) for p in [supply_problem(self, part)] if p]
         if r > timer.r_max_ohm:
             out.append(Finding("violation", "r-max", self._r_max_reason(timer)))
         limit, _, note = self._cap_model(c_part, c)
@@ -282,7 +278,7 @@ class Timer555(Topology):
                                f"{c_part.id} is rated to {c_part.value('temp_max', 'degC'):g} °C; the ambient reaches "
                                f"{amb.max_c:g} °C"))
         out += self._drive_checks(timer)
-        out += start_checks(self, "trigger", TRIGGER_FRAC, lo, part.value("trigger_pulse_min", "s"))
+        out += start_checks(self, "trigger", TRIGGER_FRAC, part.value("supply_min", "V"), part.value("trigger_pulse_min", "s"))
         out.append(Finding("info", "quiescent",
                            f"{part.id}: standby uses the typical supply current {fq(timer.quiescent_typ_a, 'A')} at "
                            f"{fq(s.nominal_v, 'V')}; the datasheet maximum is {fq(timer.quiescent_max_a, 'A')}"))
@@ -324,6 +320,10 @@ class Timer555(Topology):
         c_groups = [g for _, g in cs.groupby("part", sort=False)]
         for timer_id in self._timer_ids():
             timer = self._timer_class(self.catalog.part(timer_id))
+            problem = supply_problem(self, timer.part)
+            if problem:
+                drop_count(dropped, f"{timer_id}: {problem}", len(rs) * len(cs))
+                continue
             try:
                 support = self._support(timer)
             except CatalogError as exc:
