@@ -20,6 +20,7 @@ __all__ = [
     "SolverError",
     "SimulatorError",
     "OutputError",
+    "RankingError",
 ]
 
 
@@ -103,3 +104,7 @@ class SimulatorError(TradeoffError, RuntimeError):
 
 class OutputError(TradeoffError, OSError):
     """An output file could not be written, or exists and --force was not given."""
+
+
+class RankingError(TradeoffError, ValueError):
+    """Designs or weights handed to the ranking cannot be ranked (infeasible design, bad criteria, no weight)."""
