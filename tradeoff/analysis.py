@@ -174,7 +174,7 @@ def _coordinate_search(delay: DelayFunction, params: Mapping[str, Uncertain], si
         d = sign * _evaluate(delay, x)
         evaluated += len(trials)
         k = int(np.argmax(d))
-        if d[k] > best * (1 + 1e-12) + 1e-300:
+        if d[k] > best + 1e-12 * abs(best):
             best, current, improved = float(d[k]), trials[k], True
     return sign * best, current, evaluated
 
@@ -263,7 +263,7 @@ def monte_carlo(delay: DelayFunction, params: Mapping[str, Uncertain], samples: 
     finite = np.isfinite(d)
     inside = int(np.count_nonzero((d >= band[0]) & (d <= band[1])))
     tail = (1 - coverage) / 2
-    levels = (tail, 0.5, 1 - tail)
+    levels = (round(tail, 12), 0.5, round(1 - tail, 12))
     if finite.all():
         pct = {q: float(np.quantile(d, q)) for q in levels}
         mean, std = float(d.mean()), float(d.std())
