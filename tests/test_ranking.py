@@ -285,6 +285,11 @@ def test_hand_built_crossing_for_two_designs():
     assert by_weight["accuracy"].nearest is None
     assert "none within [0, 10x]" in by_weight["accuracy"].text
     assert "raising it from 1 to 2 (x2) makes B top" in by_weight["cost"].text
+    # Equal weights on parts and cost: A and B tie, A leads by name, and any shift towards cost hands B the top.
+    tied = {s.weight: s for s in rank(table, {**weights, "parts": 1.0}).sensitivity}
+    assert (tied["cost"].up.at, tied["cost"].up.new_top) == (pytest.approx(1.0), "B")
+    assert tied["cost"].text == "cost weight: tied at 1; any rise makes B top"
+    assert tied["parts"].text == "parts weight: tied at 1; any fall makes B top"
 
 
 def test_single_design_ranks_first_and_no_weight_moves_it():

@@ -16,7 +16,7 @@ Criteria, one column each in the criteria table (one row per design):
 
 Yield is a criterion of its own sharing the accuracy weight: the worst-case spread says how
 tight the delay is by guarantee, the yield how often a built unit lands in the band (for
-designs proven at every corner it is 1 for all, a column that then decides nothing). The
+designs proven at every corner it is usually 1 for all, a column that then decides nothing). The
 standby weight goes 3/4 to the current after the timeout, which flows for as long as the
 product sits switched off, and 1/4 to the current while timing, which flows for the delay
 only. Criterion weight = brief weight x share / sum of brief weights, so the eight sum to 1.
@@ -45,8 +45,16 @@ too). The nearest crossing is the one with the smaller absolute change. Renormal
 weights scales every score alike (weighted sum) or both distances alike (TOPSIS), so only
 the brief weights' ratios matter: with one weight above 0, moving it changes nothing. The
 weighted sum is linear in each brief weight, so its crossings are solved exactly; TOPSIS
-crossings are found on a grid of 192 points per direction (denser near the current value)
-and refined by repeated subdivision of the bracket, so a top change that reverts between two grid points is missed.
+crossings are found on a grid of about 190 points per direction (denser near the current
+value) and refined by repeated subdivision of the bracket, so a top change that reverts
+between two grid points is missed.
+
+Reasons, the same whichever method ranks, count only weighted criteria on which the designs
+differ: "wins on" lists where the design is best (sole bests first, by weighted lead over the
+runner-up, at most three; a shared best says so), "loses on" where it is worst (at most two);
+failing those, where it is strongest and where it gives up most (weight x min-max shortfall).
+For an Evaluation, "binds" names the edge of the delay band with the smaller relative margin,
+the worst-case delay there and the ambient and supply of that corner.
 """
 from __future__ import annotations
 
@@ -85,10 +93,11 @@ _GRID = np.unique(np.concatenate([np.geomspace(1e-4, 1.0, 64), np.linspace(0.0, 
 """Fractions of the search range tried by the TOPSIS crossing search (denser near the current weight)."""
 
 _STEPS = np.linspace(0.0, 1.0, 34)[1:]
-_REFINEMENTS = 6
-"""The TOPSIS crossing is refined by 6 rounds of 33 points each: the bracket shrinks 33**6 (about 1.3e9) fold.
+"""Fractions of the bracket tried in each refinement round of the TOPSIS crossing search (33 points)."""
 
-Finer would reach the band of about 1e-12 in score where `TIE_DECIMALS` calls two designs equal."""
+_REFINEMENTS = 6
+"""Refinement rounds: the bracket shrinks 33**6 (about 1.3e9) fold; finer would reach the band of
+about 1e-12 in score where `TIE_DECIMALS` calls two designs equal."""
 
 
 def _percent(value: float) -> str:
@@ -323,9 +332,13 @@ class Sensitivity:
         if near is None:
             span = f"{self.lo:g} to {self.hi:g}"
             return f"{self.weight} weight: top unchanged, none within [0, 10x] ({span})"
-        verb = "raising" if near.at >= self.value else "lowering"
+        up = near is self.up
+        if near.at == self.value:
+            return (f"{self.weight} weight: tied at {self.value:g}; any {'rise' if up else 'fall'} "
+                    f"makes {near.new_top} top")
         factor = f" (x{near.at / self.value:.3g})" if self.value > 0 else ""
-        return f"{self.weight} weight: {verb} it from {self.value:g} to {near.at:.4g}{factor} makes {near.new_top} top"
+        return (f"{self.weight} weight: {'raising' if up else 'lowering'} it from {self.value:g} to {near.at:.4g}"
+                f"{factor} makes {near.new_top} top")
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready form (null where no crossing)."""
@@ -360,7 +373,7 @@ def _linear_crossings(matrix: np.ndarray, raw: np.ndarray, k: int, names: Sequen
     found: list[Crossing | None] = []
     for sign, bound in ((1.0, hi), (-1.0, lo)):
         gain = sign * (slope - slope[top])
-        rivals = np.flatnonzero(gain > 1e-12)
+        rivals = np.flatnonzero(gain > 1e-12) if bound != raw[k] else np.array([], dtype=int)
         meet = (offset[top] - offset[rivals]) / (slope[rivals] - slope[top])
         meet = np.maximum(meet, raw[k]) if sign > 0 else np.minimum(meet, raw[k])
         inside = sign * (bound - meet) >= 0
