@@ -52,17 +52,21 @@ def base_current_a(v, r_ohm, hfe, vbe_on_v, test_a, n, vt_v, sat_a, steps: int =
     f(u) = e^u·r + VBE(e^u) - v, convex and increasing, started right of the root: monotone convergence.
     A voltage below the junction law's reach gives a vanishing (not negative) current.
     """
+    v, r_ohm, hfe, vbe_on_v, vt_v, sat_a = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in
+                                                                (v, r_ohm, hfe, vbe_on_v, vt_v, sat_a)))
     ib_sat = sat_a / hfe
     drop_sat = vbe_on_v + 2 * n * vt_v * np.log(sat_a / test_a)
-    v = np.asarray(v, dtype=float)
-    saturated = v >= ib_sat * r_ohm + drop_sat
-    k = np.log(hfe / test_a)
-    u = np.log(np.minimum(ib_sat, np.maximum(v, 1e-12) / r_ohm))
-    slope_j = 2 * n * vt_v
-    for _ in range(steps):
-        e = np.exp(u)
-        u = u - (e * r_ohm + vbe_on_v + slope_j * (u + k) - v) / (e * r_ohm + slope_j)
-    return np.where(saturated, np.maximum(v - drop_sat, 0.0) / r_ohm, np.exp(np.minimum(u, np.log(ib_sat))))
+    out = np.maximum(v - drop_sat, 0.0) / r_ohm
+    todo = v < ib_sat * r_ohm + drop_sat
+    if todo.any():
+        v, r, vbe, slope, cap = v[todo], r_ohm[todo], vbe_on_v[todo], 2 * n * vt_v[todo], np.log(ib_sat[todo])
+        k = np.log(hfe[todo] / test_a)
+        u = np.minimum(cap, np.log(np.maximum(v, 1e-12) / r))
+        for _ in range(steps):
+            e = np.exp(u)
+            u = u - (e * r + vbe + slope * (u + k) - v) / (e * r + slope)
+        out[todo] = np.exp(np.minimum(u, cap))
+    return out
 
 
 def hold_time_closed_s(c_f, r_ohm, ib_start_a, ib_end_a, ib_sat_a, n, vt_v, leak_a) -> np.ndarray:
@@ -130,11 +134,22 @@ class RcDarlington(RcHoldTopology):
         return ib * j["r_ohm"] + darlington_vbe_v(ib, j["hfe"], j["vbe_on_v"], j["test_a"], j["n"], j["vt_v"],
                                                   j["sat_a"])
 
+    def hold_s(self, s: HoldState, v0) -> np.ndarray:
+        """Time from v0 [V] until hFE·IB falls to the release current [s] (end point taken in IB directly)."""
+        j = self.junction(s)
+        return self.time_between_ib(s, base_current_a(v0, **j), np.minimum(s.release_a, j["sat_a"]) / j["hfe"])
+
     def time_between_s(self, s: HoldState, v_hi, v_lo) -> np.ndarray:
-        """Discharge time from v_hi to v_lo [s]: quadrature in u = ln IB, split where the Darlington saturates."""
+        """Discharge time from v_hi to v_lo [V] [s]."""
+        j = self.junction(s)
+        return self.time_between_ib(s, base_current_a(v_hi, **j), base_current_a(v_lo, **j))
+
+    def time_between_ib(self, s: HoldState, ib_hi, ib_lo) -> np.ndarray:
+        """Discharge time from base current ib_hi to ib_lo [A] [s]: quadrature in u = ln IB, split where
+        the Darlington saturates."""
         j, jt = self.junction(s), self.junction(s, trail=True)
-        u_hi = np.log(np.maximum(base_current_a(v_hi, **j), 1e-300))
-        u_lo = np.log(np.maximum(base_current_a(v_lo, **j), 1e-300))
+        u_hi = np.log(np.maximum(ib_hi, 1e-300))
+        u_lo = np.log(np.maximum(ib_lo, 1e-300))
         u_sat = np.log(j["sat_a"] / j["hfe"])
         drop_sat = jt["vbe_on_v"] + 2 * jt["n"] * jt["vt_v"] * np.log(jt["sat_a"] / jt["test_a"])
 
