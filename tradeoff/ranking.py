@@ -200,7 +200,7 @@ def _checked(table: pd.DataFrame) -> pd.DataFrame:
     except (TypeError, ValueError) as exc:
         raise RankingError(f"criteria table holds a non-numeric value ({exc}); every criterion is a number") from None
     for column in _COLUMNS:
-        for name, v in zip(names, values[column]):
+        for name, v in zip(names, map(float, values[column])):
             if not math.isfinite(v) or v < 0:
                 raise RankingError(f"design '{name}': {column} is {v!r}; accepted: a finite number >= 0")
             if column in ("yield_frac", "effort") and v > 1:
@@ -241,11 +241,18 @@ def criterion_weights(weights: Any) -> dict[str, float]:
 
 
 # ---- methods --------------------------------------------------------------------------------------
+def _check_method(method: str) -> None:
+    """RankingError unless `method` is one of `METHODS`."""
+    if method not in METHODS:
+        raise RankingError(f"unknown ranking method {method!r}; accepted: {', '.join(METHODS)}")
+
+
 def normalise(matrix: np.ndarray, method: str) -> np.ndarray:
     """Column-normalised criteria matrix (rows: designs, columns: `CRITERIA`).
 
     'wsm': min-max, best 1 and worst 0, an all-equal column 1; 'topsis': x / ||x||, an all-zero column 0.
     """
+    _check_method(method)
     x = np.asarray(matrix, dtype=float)
     if method == "wsm":
         lo, hi = x.min(axis=0), x.max(axis=0)
@@ -540,8 +547,7 @@ def rank(designs: Sequence["Evaluation"] | pd.DataFrame, weights: Any, method: s
     method: 'wsm' (weighted sum, min-max normalised) or 'topsis' (classical, vector normalised);
     names: design names for Evaluations (default `design_names`). Raises RankingError.
     """
-    if method not in METHODS:
-        raise RankingError(f"unknown ranking method {method!r}; accepted: {', '.join(METHODS)}")
+    _check_method(method)
     if isinstance(designs, pd.DataFrame):
         if names is not None:
             raise RankingError("names are taken from the criteria table's index; do not pass names with a table")
