@@ -108,26 +108,27 @@ def crystal_period_s(f0_hz, tolerance_frac, aging_frac, parabolic_per_k2, turnov
 
 def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, vt_frac: float, title: str,
                        periods_to_delay: float | None = None) -> str:
-    """Behavioural two-inverter RC oscillator: steep tanh inverters with threshold Vt, Rt from the
+    """Behavioural two-inverter RC oscillator: steep tanh inverters sharing the threshold Vt (one die), Rt from the
     first inverter's output to the Ct junction, Ct from the second inverter's output, Rs into the
     first inverter's input. `.measure` prints `period` [s] (and `delay` = period·periods_to_delay)."""
     tau = rt_ohm * ct_f
     period = tau * float(threshold_factor(vt_frac))
     stop = 7.0 * period
-    gain = 400.0 / vdd_v
+    gain = 2000.0 / vdd_v   # steep enough that switching adds under 0.1 % to the period
     lines = [
         f"* {title}",
         "* behavioural two-inverter RC oscillator (CMOS counter's on-chip inverters, threshold Vt)",
         f"vdd vdd 0 dc {vdd_v:.6g}",
         f"b1 o1 0 v = {vdd_v / 2:.9g} * (1 - tanh({gain:.6g} * (v(in) - {vt_frac * vdd_v:.9g})))",
-        f"b2 o2 0 v = {vdd_v / 2:.9g} * (1 - tanh({gain:.6g} * (v(o1) - {vdd_v / 2:.9g})))",
+        f"b2 o2 0 v = {vdd_v / 2:.9g} * (1 - tanh({gain:.6g} * (v(o1) - {vt_frac * vdd_v:.9g})))",
         f"rt o1 x {rt_ohm:.6g}",
         f"ct o2 x {ct_f:.6g} ic=0",
         f"rs x in {rs_ohm:.6g}",
         "cin in 0 1f",
-        f".tran {period / 2000:.6g} {stop:.6g} uic",
-        f".measure tran t3 when v(o1)={vdd_v / 2:.6g} fall=3",
-        f".measure tran t5 when v(o1)={vdd_v / 2:.6g} fall=5",
+        f".tran {period / 2000:.6g} {stop:.6g} 0 {period / 2000:.6g} uic",
+        # x jumps from Vt to Vt + VDD once a period: the only upward crossing of Vt + VDD/2
+        f".measure tran t3 when v(x)={(vt_frac + 0.5) * vdd_v:.6g} rise=3",
+        f".measure tran t5 when v(x)={(vt_frac + 0.5) * vdd_v:.6g} rise=5",
         ".measure tran period param='(t5-t3)/2'",
     ]
     if periods_to_delay is not None:
@@ -170,6 +171,8 @@ class _CounterTimer(Topology):
         """Oscillator block rows: period lo/nom/hi [s], cost, parts, currents, role and option columns."""
 
     _OSC_OPTIONS: tuple[str, ...] = ()
+    option_units = {"stage": None, "cascade": None, "link_stage": None}
+    option_parts = {"counter": "counter"}
 
     # -- counter chain
     def _counter(self, design: Design) -> "Part":
@@ -405,6 +408,7 @@ class RCCounter(_CounterTimer):
 
     id = "rc-counter"
     _OSC_OPTIONS = ("r_timing_part", "c_timing_part")
+    option_parts = {**_CounterTimer.option_parts, "r_timing_part": "resistor", "c_timing_part": "capacitor"}
 
     def roles(self) -> list[Role]:
         """Rt [ohm] and Ct [F] of the oscillator (Ct non-polarised: its voltage reverses every half-period)."""
@@ -534,6 +538,7 @@ class CrystalCounter(_CounterTimer):
 
     id = "crystal-counter"
     _OSC_OPTIONS = ("crystal",)
+    option_parts = {**_CounterTimer.option_parts, "crystal": "crystal"}
 
     def roles(self) -> list[Role]:
         """None: the crystal fixes the period; only the counter stages are chosen."""

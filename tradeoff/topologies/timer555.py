@@ -123,6 +123,7 @@ class Timer555(Topology):
     """555-class monostable (bipolar or CMOS class) with power-on or push-button trigger."""
 
     id = "timer555"
+    option_parts = {"timer": "timer555", "r_timing_part": "resistor", "c_timing_part": "capacitor"}
 
     # ---- parts -------------------------------------------------------------------------
     def roles(self) -> list[Role]:
@@ -416,11 +417,9 @@ class Timer555(Topology):
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
         """Timing capacitor voltage [V] from the trigger to 20 % past the delay, with the 2/3 Vcc threshold."""
         point = {n: np.array([float(v)]) for n, v in x.items()}
-        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
         r = float(at_temperature(point, "r_timing")[0])
         c = float(at_temperature(point, "c_timing")[0])
-        v = float(point["supply_v"][0])
-        ix = float(point["c_timing_leakage"][0] * limit(v, point["ambient_c"])[()] + point["threshold_a"][0])
+        v, ix = float(x["supply_v"]), self._ix_at(design, x)
         end = float(monostable_width_s(r, c, ix, v))
         span = 1.2 * end if np.isfinite(end) else 5 * r * c
         t = np.linspace(0.0, span, 400)
@@ -430,8 +429,11 @@ class Timer555(Topology):
     def spice(self, design: Design) -> str | None:
         """Behavioural monostable at the nominal point (R, C, nominal leakage and threshold current)."""
         x = self.nominal_point(design)
+        return monostable_netlist(design.values["r_timing"], design.values["c_timing"], self._ix_at(design, x),
+                                  x["supply_v"], f"{self.id}: {self.brief.title}")
+
+    def _ix_at(self, design: Design, x: Mapping[str, float]) -> float:
+        """Current drawn from the timing capacitor at the point `x` [A]: leakage plus threshold current."""
         limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
-        v = x["supply_v"]
-        ix = float(x["c_timing_leakage"] * np.asarray(limit(v, x["ambient_c"])) + x["threshold_a"])
-        return monostable_netlist(design.values["r_timing"], design.values["c_timing"], ix, v,
-                                  f"{self.id}: {self.brief.title}")
+        leak = np.asarray(limit(float(x["supply_v"]), float(x["ambient_c"])), dtype=float).reshape(-1)[0]
+        return float(x["c_timing_leakage"] * leak + x["threshold_a"])
