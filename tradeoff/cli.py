@@ -113,6 +113,53 @@ def catalog_command(query, catalogs):
             click.echo(f"  {name:<{width}}  {param.text:<{text_width}}  {param.source}")
 
 
+@cli.command("study")
+@click.argument("brief", type=click.Path(dir_okay=False))
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True,
+              help="Terminal report, or the whole result as JSON on stdout.")
+@click.option("--only", multiple=True, metavar="TOPOLOGY",
+              help="Study only these topologies (repeatable, or comma-separated).")
+@click.option("--alternatives", type=click.IntRange(1, 20), default=1, show_default=True,
+              help="Distinct designs kept per topology (the K best, by no-good cuts).")
+@click.option("--method", type=click.Choice(["wsm", "topsis"]), default="wsm", show_default=True,
+              help="Ranking method: weighted sum of min-max normalised criteria, or TOPSIS.")
+@click.option("--solver", type=click.Choice(["highs", "cbc"]), default="highs", show_default=True,
+              help="Integer-program solver (HiGHS in-process, or CBC).")
+@click.option("--samples", type=click.IntRange(100, 10_000_000), default=None,
+              help="Monte Carlo samples per design (overrides the brief's analysis.samples).")
+@click.option("--seed", type=int, default=None, help="Monte Carlo seed (overrides the brief's analysis.seed).")
+@catalog_option
+@_translate_errors
+def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, catalogs):
+    """Run the trade study on BRIEF: for every allowed topology the best E-series
+    design proven at the worst-case corners and by Monte Carlo, then a ranking by
+    the brief's weights, the winner's bill of materials, the reasons, and why the
+    other topologies cannot meet the brief.
+
+    Exits 1 when no topology meets the brief (the report still says why), 2 on
+    input errors.
+
+    Example:
+
+        tradeoff study examples/towel_rail_boost.yaml --alternatives 2 --method topsis
+    """
+    from tradeoff.study import study
+
+    only = [name.strip() for item in only for name in item.split(",") if name.strip()]
+    result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
+                   samples=samples, seed=seed, catalog_files=catalogs)
+    if output_format == "json":
+        import json
+
+        click.echo(json.dumps(result.to_dict(), indent=2, allow_nan=False))
+    else:
+        from tradeoff.report.study_text import render_study, report_console
+
+        render_study(result, report_console())
+    if not result.feasible:
+        sys.exit(1)
+
+
 def main():
     """Console-script entry point."""
     cli(prog_name="tradeoff")

@@ -1,0 +1,1 @@
+"""Reports and exports: terminal, JSON, workbook, CSV, plots, netlists, sweeps."""

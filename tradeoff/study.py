@@ -1,0 +1,221 @@
+"""The main job: for every topology a brief allows, the best buildable designs from standard
+values, each proven by the full model (worst-case corners and Monte Carlo), then a ranking of
+the feasible ones against the brief's weights.
+
+A topology that cannot meet the brief does not stop the study: its outcome carries the
+reasons, in the designer's terms, and the other topologies go on.
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, Sequence
+
+from tradeoff.brief import Brief, load_brief
+from tradeoff.catalog import Catalog, load_catalog, did_you_mean
+from tradeoff.cautions import cautions
+from tradeoff.errors import InfeasibleError, InputError, Problem
+from tradeoff.optimise import SelectionResult, optimise
+from tradeoff.topologies.registry import build_topology, topology_ids
+
+if TYPE_CHECKING:  # pragma: no cover
+    import pandas as pd
+
+    from tradeoff.ranking import Ranking
+    from tradeoff.topologies.base import Evaluation, Topology
+
+__all__ = ["TopologyOutcome", "StudyResult", "study", "resolve_topologies", "describe_values"]
+
+
+@dataclass
+class TopologyOutcome:
+    """What one topology achieved: verified designs best first, or why it has none."""
+
+    topology: str
+    description: str
+    results: list[SelectionResult] = field(default_factory=list)
+    reasons: list[str] = field(default_factory=list)
+    seconds: float = 0.0
+    model: "Topology | None" = field(default=None, repr=False)
+
+    @property
+    def feasible(self) -> bool:
+        """True when at least one design meets the brief."""
+        return bool(self.results)
+
+    @property
+    def evaluations(self) -> list["Evaluation"]:
+        """Full-model evaluations of the verified designs, best first."""
+        return [r.evaluation for r in self.results]
+
+    def statistics(self) -> dict[str, Any]:
+        """Solver statistics for reports: rounds, solve time, candidate table sizes."""
+        problem = self.results[0].problem if self.results else None
+        sizes = {} if problem is None else {b.name: len(b.table) for b in problem.model.blocks}
+        return {
+            "topology": self.topology,
+            "designs": len(self.results),
+            "rounds": [r.rounds for r in self.results],
+            "solve_s": [r.solve_s for r in self.results],
+            "candidates": sizes,
+            "seconds": self.seconds,
+        }
+
+
+@dataclass
+class StudyResult:
+    """A whole study: every topology's outcome, the ranking of the feasible designs, the cautions."""
+
+    brief: Brief
+    outcomes: list[TopologyOutcome]
+    ranking: "Ranking | None"
+    method: str
+    solver: str
+    cautions: list[str]
+    seconds: float
+
+    @property
+    def feasible(self) -> bool:
+        """True when some topology meets the brief."""
+        return self.ranking is not None
+
+    def designs(self) -> list[tuple[str, "Evaluation", TopologyOutcome]]:
+        """(name, evaluation, outcome) of every feasible design, in rank order."""
+        from tradeoff.ranking import design_names
+
+        pool = [(ev, o) for o in self.outcomes for ev in o.evaluations]
+        names = design_names([ev for ev, _ in pool])
+        by_name = {n: (ev, o) for n, (ev, o) in zip(names, pool)}
+        if self.ranking is None:
+            return []
+        return [(str(n), *by_name[str(n)]) for n in self.ranking.table.index]
+
+    def winner(self) -> tuple[str, "Evaluation", TopologyOutcome] | None:
+        """The rank-1 design, or None when nothing is feasible."""
+        designs = self.designs()
+        return designs[0] if designs else None
+
+    def infeasible(self) -> list[TopologyOutcome]:
+        """Topologies with no design that meets the brief."""
+        return [o for o in self.outcomes if not o.feasible]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The whole result, JSON-ready (SI units in key suffixes; never NaN or infinity)."""
+        ranked = {} if self.ranking is None else {d["name"]: d for d in self.ranking.to_dict()["designs"]}
+        designs = []
+        for name, ev, outcome in self.designs():
+            entry = ev.to_dict()
+            r = ranked[name]
+            entry.update(
+                name=name, rank=r["rank"], score=r["score"], pareto=r["pareto"], feasible=True,
+                reasons=[r["reason"]], shortfalls=ev.reasons, criteria=r["criteria"],
+                bom=[{"refs": b.refs, "part": b.part, "value": b.value, "quantity": b.quantity,
+                      "unit_cost_eur": b.unit_cost, "cost_eur": b.cost, "note": b.note} for b in ev.bom],
+                values_text=describe_values(outcome.model, ev.design),
+            )
+            designs.append(entry)
+        ranking = None if self.ranking is None else {
+            k: v for k, v in self.ranking.to_dict().items() if k != "designs"}
+        return {
+            "brief": self.brief.to_dict(),
+            "designs": designs,
+            "infeasible": [{"topology": o.topology, "description": o.description, "feasible": False,
+                            "reasons": o.reasons} for o in self.infeasible()],
+            "ranking": ranking,
+            "method": self.method,
+            "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
+            "cautions": list(self.cautions),
+            "seconds": self.seconds,
+        }
+
+    def to_frame(self) -> "pd.DataFrame":
+        """One row per feasible design in rank order, with the headline figures (units in column names)."""
+        import pandas as pd
+
+        rows = []
+        for name, ev, outcome in self.designs():
+            row = self.ranking.table.loc[name]
+            rows.append({
+                "design": name, "rank": int(row["rank"]), "topology": ev.topology,
+                "values": describe_values(outcome.model, ev.design),
+                "delay_nominal_s": ev.nominal_s, "delay_worst_min_s": ev.worst.min_s,
+                "delay_worst_max_s": ev.worst.max_s, "yield_frac": ev.mc.yield_frac,
+                "standby_during_a": ev.standby.during_a, "standby_after_a": ev.standby.after_a,
+                "rails": ev.rails, "placements": ev.placements, "bom_lines": ev.lines, "cost_eur": ev.cost,
+                "effort": ev.effort, "score": float(row["score"]), "pareto": bool(row["pareto"]),
+            })
+        return pd.DataFrame(rows)
+
+
+def describe_values(topology: "Topology | None", design) -> str:
+    """The design's values and options in one line, each value with its unit."""
+    from tradeoff.units import format_quantity
+
+    kinds = {} if topology is None else {r.name: r.kind for r in topology.roles()}
+    parts = []
+    for name, value in design.values.items():
+        unit = "Ω" if kinds.get(name, "resistor" if name.startswith("r_") else "capacitor") == "resistor" else "F"
+        text = format_quantity(value, "ohm" if unit == "Ω" else "F")
+        if name in design.pairs and design.pairs[name][1]:
+            a, b = design.pairs[name]
+            text += f" ({format_quantity(a, 'ohm')} + {format_quantity(b, 'ohm')})"
+        parts.append(f"{name} {text}")
+    for name, value in design.options.items():
+        parts.append(f"{name} {value}")
+    return ", ".join(parts)
+
+
+def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | None = None) -> list[str]:
+    """Topology ids to study: the brief's list ('all' = every registered one), narrowed by `only`."""
+    known = topology_ids(catalog)
+    chosen = known if "all" in brief.topologies else [t for t in known if t in brief.topologies]
+    if only:
+        problems = [Problem("--only", None, None, name,
+                            f"unknown topology{did_you_mean(name, known)}; accepted: {', '.join(known)}")
+                    for name in only if name not in known]
+        if problems:
+            raise InputError(problems)
+        chosen = [t for t in chosen if t in only]
+        if not chosen:
+            raise InputError(Problem("--only", None, None, "only",
+                                     f"none of {', '.join(only)} is among the brief's topologies "
+                                     f"({', '.join(brief.topologies)})"))
+    return chosen
+
+
+def _outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int, solver: str) -> TopologyOutcome:
+    start = time.perf_counter()
+    model = build_topology(topology_id, brief, catalog)
+    outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
+    try:
+        outcome.results = optimise(model, brief, k=alternatives, solver=solver)
+    except InfeasibleError as exc:
+        outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
+    outcome.seconds = time.perf_counter() - start
+    return outcome
+
+
+def study(brief: Brief | str | Path, catalog: Catalog | None = None, *, only: Sequence[str] | None = None,
+          alternatives: int = 1, method: str = "wsm", solver: str = "highs", samples: int | None = None,
+          seed: int | None = None, catalog_files: Sequence[str | Path] = ()) -> StudyResult:
+    """Run the trade study for `brief` (a Brief, or a path to a brief file).
+
+    alternatives: designs kept per topology (the k best distinct ones); method: 'wsm' or
+    'topsis'; solver: 'highs' or 'cbc'; samples, seed: override the brief's Monte Carlo settings;
+    catalog_files: user catalogs merged over the shipped ones (ignored when `catalog` is given).
+    """
+    from tradeoff.ranking import rank
+
+    start = time.perf_counter()
+    if not isinstance(brief, Brief):
+        brief = load_brief(Path(brief))
+    changes = {k: v for k, v in (("analysis.samples", samples), ("analysis.seed", seed)) if v is not None}
+    if changes:
+        brief = brief.replace(changes)
+    catalog = catalog if catalog is not None else load_catalog(extra=tuple(catalog_files))
+    outcomes = [_outcome(t, brief, catalog, alternatives, solver) for t in resolve_topologies(brief, catalog, only)]
+    evaluations = [ev for o in outcomes for ev in o.evaluations]
+    ranking = rank(evaluations, brief.weights, method=method) if evaluations else None
+    return StudyResult(brief=brief, outcomes=outcomes, ranking=ranking, method=method, solver=solver,
+                       cautions=cautions(brief), seconds=time.perf_counter() - start)
