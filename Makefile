@@ -15,7 +15,7 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/tradeoff check $(BRIEF)
+	$(BIN)/tradeoff study $(BRIEF)
 
 test: $(STAMP)
 	$(BIN)/python -m pytest
