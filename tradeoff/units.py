@@ -78,10 +78,18 @@ _ENGINEERING_PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 
 
 @functools.lru_cache(maxsize=1)
 def _registry():
-    """The one pint registry, created on first use."""
+    """The one pint registry, created on first use.
+
+    pint parses its definition files on every start (about 0.6 s); its own cache of the parsed
+    definitions in the user's cache folder cuts that to a few ms. Where the folder cannot be
+    written, the registry is built without the cache.
+    """
     import pint
 
-    return pint.UnitRegistry()
+    try:
+        return pint.UnitRegistry(cache_folder=":auto:")
+    except OSError:
+        return pint.UnitRegistry()
 
 
 def _normalise_unit(unit_text: str) -> str:
