@@ -210,3 +210,14 @@ def test_waveform_period_matches_formula(rc):
     jumps = w.time_s[1:][np.diff(w.signal) > 6.0]      # the junction jumps up by about VDD once a period
     assert np.diff(jumps).mean() == pytest.approx(100e3 * 10e-9 * float(threshold_factor(0.3)), rel=0.01)
     assert w.threshold == pytest.approx(0.3 * 12.0)
+
+
+def test_dominated_rows_are_dropped_and_counted():
+    # a row no better in every column than another of its group goes; equal or trading rows stay
+    import pandas as pd
+    from tradeoff.topologies.ic_common import drop_dominated
+    table = pd.DataFrame({"value": [1.0, 1.0, 1.0, 2.0, 1.0], "cost": [1.0, 2.0, 0.5, 9.0, 1.0],
+                          "tolerance": [0.05, 0.05, 0.10, 0.20, 0.05], "gain": [3.0, 3.0, 3.0, 1.0, 3.0]})
+    dropped: dict[str, int] = {}
+    kept = drop_dominated(table, ("value",), ("cost", "tolerance"), "dominated", dropped, higher=("gain",))
+    assert sorted(kept.cost.tolist()) == [0.5, 1.0, 1.0, 9.0] and dropped == {"dominated": 1}

@@ -26,7 +26,7 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = [
     "TEMPCO_REFERENCE_C", "part_of", "on_supply", "role_part", "value_spread", "at_temperature",
     "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic", "power_on_release_s",
-    "fixed_part", "drop_count", "supply_problem", "diode", "start_bom", "start_checks",
+    "fixed_part", "drop_count", "supply_problem", "drop_dominated", "diode", "start_bom", "start_checks",
 ]
 
 TEMPCO_REFERENCE_C = 25.0
@@ -234,3 +234,29 @@ def supply_problem(topo: "Topology", part: "Part") -> str | None:
         return (f"supply {fq(s.min_v, 'V')} to {fq(s.max_v, 'V')} is outside the {part.id} rating "
                 f"{fq(lo, 'V')} to {fq(hi, 'V')}")
     return None
+
+
+def drop_dominated(table: "pd.DataFrame", group: tuple[str, ...], lower: tuple[str, ...], reason: str,
+                   dropped: dict[str, int], higher: tuple[str, ...] = ()) -> "pd.DataFrame":
+    """`table` without the rows another row of the same `group` beats: no worse in every column
+    of `lower` (smaller is better) and `higher` (larger is better) and better in one. Exact when
+    the rows act only through those columns; the removed rows are counted under `reason`.
+    Group columns are numbers >= 0, compared to 1e-9 relative."""
+    if len(table) < 2:
+        return table
+    values = [table[c].to_numpy(dtype=float) for c in group]
+    keys = np.stack([np.where(v > 0, np.round(np.log(np.where(v > 0, v, 1.0)) * 1e9), -1e300) for v in values], axis=1)
+    _, label, counts = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
+    label = label.reshape(-1)
+    a = table[[*lower, *higher]].to_numpy(dtype=float) * np.array([1.0] * len(lower) + [-1.0] * len(higher))
+    worse = np.zeros(len(table), dtype=bool)
+    order = np.argsort(label, kind="stable")
+    starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
+    for start, n in zip(starts[counts > 1], counts[counts > 1]):
+        rows = order[start:start + n]
+        g = a[rows]
+        no_better = (g[:, None, :] >= g[None, :, :]).all(axis=2)
+        strictly = (g[:, None, :] > g[None, :, :]).any(axis=2)
+        worse[rows[(no_better & strictly).any(axis=1)]] = True
+    drop_count(dropped, reason, int(worse.sum()))
+    return table[~worse].reset_index(drop=True)

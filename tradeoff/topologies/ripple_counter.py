@@ -37,7 +37,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.selection import Block, Link, SelectionModel
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
-    at_temperature, diode, drop_count, fixed_part, on_supply, part_of, role_bom, role_part, start_bom,
+    at_temperature, diode, drop_count, drop_dominated, fixed_part, on_supply, part_of, role_bom, role_part, start_bom,
     start_checks, supply_problem, timing_candidates, value_spread, TEMPCO_REFERENCE_C,
 )
 from tradeoff.topologies import logic
@@ -325,9 +325,9 @@ class _CounterTimer(Topology):
                 for link in sorted(outs, reverse=True) if cascade else [max(outs)]:
                     for stage in outs:
                         n_total = stage + link * cascade
-                        if (cascade, n_total) in seen:   # same delay and parts as a row already listed
+                        if n_total in seen:   # same delay as a row with no more counters: dominated
                             continue
-                        seen.add((cascade, n_total))
+                        seen.add(n_total)
                         factor = float(stage_factor(n_total))
                         rows.append(dict(delay_lo=factor, delay_nom=factor, delay_hi=factor,
                                          cost=n * sum(b.unit_cost for b in lines), placements=n * len(lines),
@@ -465,8 +465,10 @@ class RCCounter(_CounterTimer):
         Within an ambient corner the period rises with Rt, Ct and |v − 1/2|; tempcos act with the
         sign of T − 25 degC, so the extremes are the 2 ambient corners × monotone choices, with
         the threshold at 1/2 (minimum of F) or at the limit farther from it (maximum)."""
-        rs = timing_candidates(self, _RT, dropped)
-        cs = timing_candidates(self, _CT, dropped)
+        rs, cs = (drop_dominated(timing_candidates(self, role, dropped), ("value",),
+                                 ("tolerance", "tempco", "cost", "placements"),
+                                 f"{role.description}: another class of the same value is as good or better in "
+                                 "tolerance, tempco, cost and parts", dropped) for role in (_RT, _CT))
         env = self.environment()
         tables = []
         for index, counter in enumerate(counters):
@@ -480,7 +482,12 @@ class RCCounter(_CounterTimer):
         columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
                    "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
                    "counter_index"]
-        return pd.concat(tables, ignore_index=True)[columns] if tables else pd.DataFrame(columns=columns)
+        if not tables:
+            return pd.DataFrame(columns=columns)
+        return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
+                              ("delay_hi", "cost", "placements", "lines", "during_a", "after_a"),
+                              "oscillator: another Rt, Ct pair with the same nominal period is as good or better "
+                              "in spread, cost, parts and current", dropped, higher=("delay_lo",))
 
     def _rc_rows(self, index, counter, k, f_corners, rg, cg, env) -> pd.DataFrame:
         ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rg)), np.arange(len(cg)), indexing="ij"))
