@@ -60,7 +60,7 @@ from tradeoff.units import format_quantity, parse_fraction, parse_quantity
 
 __all__ = [
     "Brief", "Delay", "Ambient", "Supply", "Load", "Switched", "Limits", "Weights", "Series",
-    "Analysis", "BriefValue", "load_brief", "known_topologies",
+    "Analysis", "BriefValue", "load_brief", "brief_from_node", "known_topologies",
 ]
 
 SERIES_NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
@@ -702,6 +702,15 @@ def _build(data: object, source: str, path: Path | None, root: yaml.Node | None,
     return brief
 
 
+def brief_from_node(root: yaml.Node, data: object, source: str) -> Brief:
+    """Validate brief data already parsed from YAML, e.g. a brief inlined in a design file.
+
+    `root` is the data's node in that file, so every problem points into `source` at the right
+    line and column. Raises BriefError listing every problem found.
+    """
+    return _build(data, source, None, root)
+
+
 def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> Brief:
     """Load and validate a brief from a file (a Path, or a one-line str naming a file) or from YAML text.
 
@@ -711,22 +720,8 @@ def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> B
     is_path = isinstance(path_or_text, Path) or ("\n" not in path_or_text and not path_or_text.lstrip().startswith("{"))
     path = Path(path_or_text) if is_path else None
     source = source_name or (str(path) if path else "<brief>")
-    if path is not None:
-        try:
-            content = path.read_text(encoding="utf-8")
-        except (OSError, ValueError) as exc:  # ValueError: undecodable bytes, or a NUL in the name
-            raise BriefError.single(source, "", f"cannot read the brief ({exc.__class__.__name__}: "
-                                    f"{getattr(exc, 'strerror', None) or exc}); accepted: a readable UTF-8 YAML file"
-                                    ) from None
-    else:
-        content = path_or_text
-    try:
-        root, data = yamlpos.load(content)
-    except yaml.YAMLError as exc:
-        line, column = yamlpos.syntax_error_position(exc)
-        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
-        raise BriefError.single(source, "", f"YAML syntax error: {what}; accepted: valid YAML "
-                                "(check indentation, colons and quotes)", line, column) from None
+    content = yamlpos.read_file(path, source, BriefError, "the brief") if path is not None else path_or_text
+    root, data = yamlpos.load_located(content, source, BriefError)
     if data is None:
         raise BriefError.single(source, "", "the brief is empty; accepted: a mapping with at least "
                                 "title, delay, supply and load", 1, 1)

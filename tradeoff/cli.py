@@ -160,6 +160,127 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
         sys.exit(1)
 
 
+def _report_console():
+    """rich Console for reports: the terminal's width, or 140 columns of plain text on a pipe."""
+    from rich.console import Console
+
+    console = Console()
+    return console if console.is_terminal else Console(width=140)
+
+
+def format_option(func):
+    """`--format text|json`: terminal report, or JSON on stdout."""
+    return click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
+                        show_default=True, help="Terminal report, or the result as JSON on stdout.")(func)
+
+
+@cli.command("topologies")
+@format_option
+@catalog_option
+@_translate_errors
+def topologies_command(output_format, catalogs):
+    """List every registered timing topology with its one-line description.
+
+    Example:
+
+        tradeoff topologies --format json
+    """
+    from tradeoff.catalog import load_catalog
+    from tradeoff.topologies.registry import topology_ids
+
+    loaded = load_catalog(extra=catalogs)
+    rows = [(topology_id, loaded.part(topology_id).description) for topology_id in topology_ids(loaded)]
+    if output_format == "json":
+        import json
+
+        click.echo(json.dumps([{"id": i, "description": d} for i, d in rows], indent=2))
+        return
+    width = max((len(i) for i, _ in rows), default=0)
+    for topology_id, description in rows:
+        click.echo(f"{topology_id:<{width}}  {description}")
+
+
+@cli.command("analyze")
+@click.argument("design", type=click.Path(dir_okay=False))
+@format_option
+@click.option("--samples", type=click.IntRange(100, 10_000_000), default=None,
+              help="Monte Carlo samples (overrides the brief's analysis.samples).")
+@click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=None,
+              help="Monte Carlo seed (overrides the brief's analysis.seed).")
+@catalog_option
+@_translate_errors
+def analyze_command(design, output_format, samples, seed, catalogs):
+    """Evaluate the design in DESIGN (a YAML file naming the brief, the topology,
+    the component values, options and part overrides) against its brief: nominal
+    delay, worst-case corners, Monte Carlo percentiles and yield, standby current
+    and power, rails, parts, cost, ratings, design-rule findings, and whether it
+    meets the brief (and why not).
+
+    Exits 0 when the design was evaluated, whether or not it meets the brief (the
+    report and the JSON's `feasible` and `reasons` say so); 2 on input errors.
+
+    Example:
+
+        tradeoff analyze examples/designs/rc-darlington.yaml --samples 5000 --format json
+    """
+    from tradeoff.design import load_design
+
+    changes = {key: value for key, value in (("analysis.samples", samples), ("analysis.seed", seed))
+               if value is not None}
+    brief, topology, loaded = load_design(design, catalogs, brief_changes=changes)
+    ev = topology.evaluate(loaded)
+    if output_format == "json":
+        import json
+
+        from tradeoff.report.evaluation import evaluation_dict
+
+        click.echo(json.dumps(evaluation_dict(ev, brief), indent=2, allow_nan=False))
+        return
+    from tradeoff.report.terminal import render_evaluation
+
+    render_evaluation(ev, brief, _report_console(), quantities=topology.quantities(loaded),
+                      option_units=topology.option_units)
+
+
+@cli.command("netlist")
+@click.argument("design", type=click.Path(dir_okay=False))
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None,
+              help="Write the netlist to this file (default: stdout).")
+@click.option("--force", is_flag=True, help="Replace the output file if it exists.")
+@catalog_option
+@_translate_errors
+def netlist_command(design, output, force, catalogs):
+    """Write a SPICE netlist of the design in DESIGN: generic device models with
+    parameters from the catalog classes, a transient analysis and a `.measure`
+    of the delay at the nominal point (ngspice prints `delay = <seconds>`).
+
+    An existing output file is left untouched unless --force is given; the file
+    is written atomically, so no half-written netlist is ever left.
+
+    Example:
+
+        tradeoff netlist examples/designs/rc-darlington.yaml -o hold.cir
+    """
+    from tradeoff.design import load_design
+    from tradeoff.errors import OutputError
+
+    _, topology, loaded = load_design(design, catalogs)
+    if output is not None:  # refuse before the work, not after it
+        from tradeoff.report.files import check_writable
+
+        check_writable(output, force)
+    netlist = topology.spice(loaded)
+    if netlist is None:
+        raise OutputError(f"{design}: the {topology.id} topology provides no SPICE netlist")
+    if output is None:
+        click.echo(netlist, nl=not netlist.endswith("\n"))
+        return
+    from tradeoff.report.files import write_atomic
+
+    write_atomic(output, netlist, force)
+    click.echo(f"wrote {output}", err=True)
+
+
 def main():
     """Console-script entry point."""
     cli(prog_name="tradeoff")

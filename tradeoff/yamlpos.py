@@ -7,10 +7,15 @@ tuple (`("delay", "nominal")`, `("topologies", 1)`).
 from __future__ import annotations
 
 from collections.abc import Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING
 
 import yaml
 
-__all__ = ["compose", "load", "locate", "syntax_error_position", "duplicate_keys", "Position"]
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.errors import InputError
+
+__all__ = ["compose", "load", "read_file", "load_located", "node_at", "locate", "syntax_error_position", "duplicate_keys", "Position"]
 
 Position = tuple[int | None, int | None]
 
@@ -43,6 +48,37 @@ def _child(node: yaml.Node, step: str | int) -> tuple[yaml.Node, yaml.Node] | No
     elif isinstance(node, yaml.SequenceNode) and isinstance(step, int) and 0 <= step < len(node.value):
         return node.value[step], node.value[step]
     return None
+
+
+def read_file(path: Path, source: str, error: "type[InputError]", what: str) -> str:
+    """Text of the UTF-8 file `path`; `error` naming `source` when it cannot be read (`what`: 'the brief' ...)."""
+    try:
+        return path.read_text(encoding="utf-8")
+    except (OSError, ValueError) as exc:  # ValueError: undecodable bytes, or a NUL in the name
+        raise error.single(source, "", f"cannot read {what} ({exc.__class__.__name__}: "
+                           f"{getattr(exc, 'strerror', None) or exc}); accepted: a readable UTF-8 YAML file") from None
+
+
+def load_located(text: str, source: str, error: "type[InputError]") -> tuple[yaml.Node | None, object]:
+    """(node tree, data) of `text` as `load` gives; `error` at the syntax error's position otherwise."""
+    try:
+        return load(text)
+    except yaml.YAMLError as exc:
+        line, column = syntax_error_position(exc)
+        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+        raise error.single(source, "", f"YAML syntax error: {what}; accepted: valid YAML "
+                           "(check indentation, colons and quotes)", line, column) from None
+
+
+def node_at(root: yaml.Node | None, path: Sequence[str | int]) -> yaml.Node | None:
+    """The node of the value at `path` in `root` (e.g. a section inlined in another file), or None."""
+    node = root
+    for step in path:
+        found = _child(node, step) if node is not None else None
+        if found is None:
+            return None
+        node = found[1]
+    return node
 
 
 def locate(root: yaml.Node | None, path: Sequence[str | int], *, at_key: bool = False) -> Position:

@@ -224,6 +224,17 @@ class Topology(ABC):
 
     id: ClassVar[str]
 
+    option_units: ClassVar[Mapping[str, str | None]] = {}
+    """Design options the topology reads: name -> unit of a quantity option ('V', 'ohm'; SI float in
+    Design.options), or None for a plain choice (a part class id, a named mode, an integer). The design
+    loader rejects other names and converts quantities."""
+
+    option_parts: ClassVar[Mapping[str, str]] = {}
+    """Options that name a catalog part class: name -> catalog category the class must have."""
+
+    required_options: ClassVar[tuple[str, ...]] = ()
+    """Options a design must give (the topology has no default for them)."""
+
     def __init__(self, brief: "Brief", catalog: "Catalog", entry: "Part"):
         self.brief = brief
         self.catalog = catalog

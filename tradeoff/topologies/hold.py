@@ -462,6 +462,9 @@ class RcHoldTopology(Topology):
 
     driver_option: ClassVar[str] = "driver"
     driver_default: ClassVar[str] = ""
+    option_units = {"c_hold_rated_v": "V", "c_start_rated_v": "V", "r_be": "ohm", "r_charge": "ohm", "shunt": "ohm"}
+    option_parts = {"diode": "diode", "pnp": "pnp", "r_hold_part": "resistor", "c_hold_part": "capacitor",
+                    "r_start_part": "resistor", "c_start_part": "capacitor"}
     directions: ClassVar[dict[str, int]] = {}
     """Sign of d(delay)/d(quantity) (+1, -1; 0: either, both corners tried) used by the optimiser
     blocks; tests check them against exhaustive corners."""

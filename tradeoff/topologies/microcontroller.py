@@ -105,6 +105,9 @@ class Microcontroller(Topology):
     """Firmware timer in a small 8-bit microcontroller; see the module docstring for the model."""
 
     id = "mcu"
+    option_units = {"oscillator": None, "regulator": None, "prescaler": None, "ticks": None}
+    option_parts = {"mcu": "mcu"}
+    required_options = ("oscillator", "regulator", "prescaler")
 
     # ---- parts and options ----------------------------------------------------------
     def _mcu(self, design: Design):

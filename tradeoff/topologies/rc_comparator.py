@@ -63,6 +63,10 @@ class RcComparator(Topology):
     """RC hold read by a nanopower comparator against a reference divider; see the module docstring."""
 
     id = "rc-comparator"
+    option_units = {"regulator": None, "c_rated_v": "V", "shunt": "ohm"}
+    option_parts = {"comparator": "comparator", "reference": "reference", "r_hold_part": "resistor",
+                    "c_hold_part": "capacitor"}
+    required_options = ("regulator",)
 
     # ---- parts ------------------------------------------------------------------------
     def _part(self, design: Design, category: str, key: str):

@@ -92,6 +92,7 @@ class RcDarlington(RcHoldTopology):
     id = "rc-darlington"
     driver_option = "darlington"
     driver_default = "darlington-npn-small"
+    option_parts = {**RcHoldTopology.option_parts, "darlington": "darlington"}
     directions = {"r_hold": 1, "c_hold": 1, "hfe": 1, "vbe_on": -1, "leak_level": -1, "release_a": -1,
                   "coil_ohm": -1, "supply_v": 1, "ambient_c": 0}
 

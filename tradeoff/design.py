@@ -1,0 +1,365 @@
+"""Design files: one concrete design (topology, component values, options, part overrides) to analyse.
+
+`load_design(path)` reads a YAML design file (always with the SafeLoader), checks every key,
+unit, part id and parameter against the brief, the catalog and the topology, and raises one
+`DesignError` listing every problem as `FILE:LINE:COLUMN: key.path: what is wrong; what is
+accepted`. Shape:
+
+    brief: ../towel_rail_boost.yaml       required: a brief file, relative to this file, or an
+                                          inline mapping of brief fields (validated as a brief
+                                          file is; problems point into this file as brief.KEY)
+    topology: rc-darlington               required: a registered topology id (`tradeoff topologies`)
+    values: {r_hold: 220 kohm, c_hold: 470 uF}
+                                          every value role of the topology (its roles() for this
+                                          brief: e.g. r_start and c_start only with a power-on
+                                          start); a quantity with its unit (resistor roles ohm,
+                                          capacitor roles F) or a bare number in SI; positive
+    options: {darlington: darlington-npn-small, shunt: 10 Mohm}
+                                          the discrete choices the topology reads (its
+                                          option_units and option_parts): a part class id of the
+                                          right category, a named choice, a whole number, or a
+                                          positive quantity with its unit (bare number: SI);
+                                          options listed in the topology's required_options must
+                                          be given, the others default as the topology says
+    overrides: {darlington-npn-small: {hfe_min: 15000}}
+                                          optional: part id -> parameter -> value replacing the
+                                          catalog's (a number where the catalog has a plain
+                                          number, a quantity with the catalog's dimension, or a
+                                          percentage where the catalog has one); bare numbers
+                                          for a quantity are SI
+
+After the checks the topology itself reads the design once (spread quantities, nominal delay,
+parts, supply current, rails), so a choice only the topology can judge (an oscillator that
+does not fit the tick, a regulator that cannot power the IC) is also reported at its line.
+"""
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Mapping
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import yaml
+
+from tradeoff import yamlpos
+from tradeoff.brief import brief_from_node, load_brief
+from tradeoff.catalog import did_you_mean, load_catalog
+from tradeoff.errors import BriefError, DesignError, InputError, Problem, UnitParseError
+from tradeoff.topologies.base import Design
+from tradeoff.topologies.registry import build_topology, topology_class, topology_ids
+from tradeoff.units import parse_fraction, parse_quantity
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.brief import Brief
+    from tradeoff.catalog import Catalog, Part
+    from tradeoff.topologies.base import Topology
+
+__all__ = ["DESIGN_KEYS", "load_design"]
+
+DESIGN_KEYS = ("brief", "topology", "values", "options", "overrides")
+"""Top-level keys of a design file."""
+
+_REQUIRED = ("brief", "topology")
+_ROLE_UNITS = {"resistor": "ohm", "capacitor": "F"}
+_LEADING_NUMBER = re.compile(r"^\s*[+\-\u2212]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(.*?)\s*$")
+_PLAIN_ACCEPTED = "a part class id, a named choice or a whole number"
+
+
+def _show(value: object) -> str:
+    """Short text of a user value for messages."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+class _Reader:
+    """Collects located problems while the design file is read."""
+
+    def __init__(self, source: str, root: yaml.Node | None):
+        self.source, self.root = source, root
+        self.problems: list[Problem] = []
+
+    def problem(self, path: tuple, message: str, *, at_key: bool = False) -> None:
+        line, column = yamlpos.locate(self.root, path, at_key=at_key)
+        self.problems.append(Problem(self.source, line, column, ".".join(map(str, path)), message))
+
+    def mapping(self, path: tuple, raw: object, what: str) -> dict:
+        """`raw` as a mapping with string keys (empty after reporting when it is not one)."""
+        if raw is None:
+            return {}
+        if not isinstance(raw, dict):
+            self.problem(path, f"got {_show(raw)}; accepted: a mapping of {what}")
+            return {}
+        bad = [key for key in raw if not isinstance(key, str)]
+        for key in bad:
+            self.problem(path, f"key {_show(key)} is not a name; accepted: a mapping of {what}")
+        return {key: value for key, value in raw.items() if isinstance(key, str)}
+
+    def unknown(self, path: tuple, name: str, what: str, accepted: list[str], owner: str = "") -> None:
+        """Report an unknown name (of `owner`, e.g. 'of rc-darlington') with the closest accepted one."""
+        listed = ", ".join(accepted) if accepted else "none"
+        self.problem(path + (name,), f"unknown {what} '{name}'{owner};{did_you_mean(name, accepted)} "
+                     f"accepted: {listed}", at_key=True)
+
+    def raise_if_any(self) -> None:
+        if self.problems:
+            ordered = sorted(self.problems, key=lambda p: (p.line is None, p.line or 0, p.column or 0))
+            raise DesignError(ordered)
+
+
+def _quantity(r: _Reader, path: tuple, raw: object, unit: str) -> float | None:
+    """A positive quantity in `unit` (or a bare positive number, taken as SI), or None after reporting."""
+    accepted = f"accepted: a positive quantity with its unit (in {unit}), or a bare number in SI"
+    if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
+        r.problem(path, f"got {_show(raw)}; {accepted}")
+        return None
+    try:
+        value = float(raw) if isinstance(raw, (int, float)) else parse_quantity(raw, unit)
+    except UnitParseError as exc:
+        r.problem(path, f"{exc}; {accepted}")
+        return None
+    if not (math.isfinite(value) and value > 0):
+        r.problem(path, f"got {_show(raw)}; {accepted}")
+        return None
+    return value
+
+
+def _read_brief(r: _Reader, raw: object, design_path: Path | None, root: yaml.Node | None) -> "Brief | None":
+    """The brief named (a path relative to the design file) or inlined in the design file."""
+    if isinstance(raw, str):
+        base = design_path.parent if design_path is not None else Path.cwd()
+        brief_path = (base / raw) if not Path(raw).is_absolute() else Path(raw)
+        if not brief_path.is_file():
+            r.problem(("brief",), f"no brief file '{raw}' (looked for {brief_path}); accepted: a brief file path "
+                      "relative to the design file, or an inline mapping of brief fields")
+            return None
+        return load_brief(brief_path)  # its own problems point into the brief file
+    if isinstance(raw, dict):
+        node = yamlpos.node_at(root, ("brief",))
+        try:
+            return brief_from_node(node, raw, r.source)
+        except BriefError as exc:
+            r.problems.extend(Problem(p.file, p.line, p.column, f"brief.{p.key}" if p.key else "brief", p.message)
+                              for p in exc.problems)
+            return None
+    r.problem(("brief",), f"got {_show(raw)}; accepted: a brief file path relative to the design file, "
+              "or an inline mapping of brief fields")
+    return None
+
+
+def _read_topology(r: _Reader, raw: object, catalog: "Catalog") -> "type[Topology] | None":
+    known = topology_ids(catalog)
+    if not isinstance(raw, str) or raw not in known:
+        hint = did_you_mean(raw, known) if isinstance(raw, str) else ""
+        r.problem(("topology",), f"unknown topology {_show(raw)};{hint} accepted: {', '.join(known)} "
+                  "(see `tradeoff topologies`)")
+        return None
+    return topology_class(raw, catalog)
+
+
+def _read_values(r: _Reader, raw: object, topology: "Topology") -> dict[str, float]:
+    """Role -> SI value, every role present."""
+    roles = {role.name: role for role in topology.roles()}
+    given = r.mapping(("values",), raw, "value role -> quantity")
+    values: dict[str, float] = {}
+    for name, item in given.items():
+        if name not in roles:
+            r.unknown(("values",), name, "value role", list(roles), f" of {topology.id}")
+            continue
+        value = _quantity(r, ("values", name), item, _ROLE_UNITS[roles[name].kind])
+        if value is not None:
+            values[name] = value
+    for name, role in roles.items():
+        if name not in given:
+            unit = _ROLE_UNITS[role.kind]
+            r.problem(("values",), f"missing value role '{name}' ({role.description}); accepted: a quantity in "
+                      f"{unit} such as {name}: {'220 kohm' if unit == 'ohm' else '470 uF'}")
+    return values
+
+
+def _read_options(r: _Reader, raw: object, cls: "type[Topology]", catalog: "Catalog") -> dict[str, Any]:
+    """Option name -> SI float (quantity options) or the plain value as written."""
+    accepted = {**cls.option_units, **{name: None for name in cls.option_parts}}
+    given = r.mapping(("options",), raw, "option name -> value")
+    options: dict[str, Any] = {}
+    for name, item in given.items():
+        path = ("options", name)
+        if name not in accepted:
+            r.unknown(("options",), name, "option", list(accepted), f" of {cls.id}")
+        elif name in cls.option_parts:
+            if _part_option(r, path, item, cls.option_parts[name], catalog):
+                options[name] = item
+        elif accepted[name] is not None:
+            value = _quantity(r, path, item, accepted[name])
+            if value is not None:
+                options[name] = value
+        elif isinstance(item, bool) or not isinstance(item, (str, int)):
+            r.problem(path, f"got {_show(item)}; accepted: {_PLAIN_ACCEPTED}")
+        else:
+            options[name] = item
+    for name in cls.required_options:
+        if name not in given:
+            r.problem(("options",), f"missing option '{name}', which {cls.id} needs; accepted: options: "
+                      f"{{{name}: ...}} ({_PLAIN_ACCEPTED})" if accepted.get(name) is None else
+                      f"missing option '{name}', which {cls.id} needs; accepted: a quantity in {accepted[name]}")
+    return options
+
+
+def _part_option(r: _Reader, path: tuple, raw: object, category: str, catalog: "Catalog") -> bool:
+    """True when `raw` is the id of a catalog part class of `category` (else reports why not)."""
+    ids = [part.id for part in catalog.parts(category)]
+    if isinstance(raw, str) and raw in ids:
+        return True
+    hint = did_you_mean(raw, ids) if isinstance(raw, str) else ""
+    where = f" ('{raw}' is a {catalog.part(raw).category})" if isinstance(raw, str) and raw in catalog else ""
+    r.problem(path, f"{_show(raw)} is not a {category} part class{where};{hint} accepted: {', '.join(ids) or 'none'}"
+              " (see `tradeoff catalog`)")
+    return False
+
+
+def _written_unit(value: object) -> str:
+    """Unit a catalog value is written in: '' for a plain number, '%' for a percentage, else its unit text."""
+    item = value[0] if isinstance(value, tuple) else value
+    if not isinstance(item, str):
+        return ""
+    if "%" in item and not re.search(r"%\s*/", item):
+        return "%"
+    match = _LEADING_NUMBER.match(item)
+    return match.group(1) if match else ""
+
+
+def _override_value(r: _Reader, path: tuple, raw: object, written: object) -> object:
+    """An override checked against the dimension of the catalog value it replaces; SI float for a scalar,
+    the list as written (each item checked) for a list. None after reporting a problem."""
+    unit = _written_unit(written)
+    if unit == "":
+        shown = "a plain number"
+    elif unit == "%":
+        shown = "a percentage such as '20 %' or a fraction such as 0.2"
+    else:
+        example = written[0] if isinstance(written, tuple) else written
+        shown = f"a quantity in {unit} (as the catalog's {example!r}) or a bare number in SI"
+    items = raw if isinstance(raw, list) else [raw]
+    if isinstance(raw, list) != isinstance(written, tuple) or not items:
+        r.problem(path, f"got {_show(raw)}; accepted: {'a list of ' if isinstance(written, tuple) else ''}{shown}")
+        return None
+    converted = []
+    for item in items:
+        try:
+            if isinstance(item, bool) or not isinstance(item, (str, int, float)):
+                raise UnitParseError(f"got {_show(item)}")
+            if unit == "%":
+                converted.append(parse_fraction(item))
+            elif isinstance(item, (int, float)):
+                if not math.isfinite(item):
+                    raise UnitParseError(f"{item!r} is not a finite number")
+                converted.append(float(item))
+            else:
+                converted.append(parse_quantity(item, unit))
+        except UnitParseError as exc:
+            r.problem(path, f"{exc}; accepted: {shown}")
+            return None
+    return list(raw) if isinstance(raw, list) else converted[0]
+
+
+def _read_overrides(r: _Reader, raw: object, catalog: "Catalog") -> dict[str, dict[str, object]]:
+    """Part id -> parameter -> replacement value."""
+    given = r.mapping(("overrides",), raw, "part id -> {parameter: value}")
+    overrides: dict[str, dict[str, object]] = {}
+    for part_id, params in given.items():
+        if part_id not in catalog:
+            r.unknown(("overrides",), part_id, "part class", [p.id for p in catalog.parts()])
+            continue
+        part: Part = catalog.part(part_id)
+        own = {}
+        for name, value in r.mapping(("overrides", part_id), params, "parameter -> value").items():
+            if name not in part.params:
+                r.unknown(("overrides", part_id), name, "parameter", list(part.params), f" of {part_id}")
+                continue
+            checked = _override_value(r, ("overrides", part_id, name), value, part.params[name].value)
+            if checked is not None:
+                own[name] = checked
+        overrides[part_id] = own
+    return overrides
+
+
+def _relocated(exc: InputError, r: _Reader, design: Design) -> list[Problem]:
+    """Problems a topology raised while reading the design, placed in the design file: those about the
+    design itself (file 'design', keys 'options.X'; 'design overrides', keys 'part.param'), and those
+    quoting an option's value (a part id the catalog does not know) at that option."""
+    out = []
+    for p in exc.problems:
+        if p.file == "design":
+            path = tuple(p.key.split("."))
+        elif p.file == "design overrides":
+            path = ("overrides", *p.key.split(".", 1))
+        else:
+            path = next((("options", name) for name, value in design.options.items()
+                         if isinstance(value, str) and f"'{value}'" in p.message), None)
+        if path is None:
+            out.append(p)
+        else:
+            out.append(Problem(r.source, *yamlpos.locate(r.root, path), ".".join(path), p.message))
+    return out
+
+
+def _probe(topology: "Topology", design: Design, r: _Reader) -> None:
+    """Let the topology read the design once, so its own objections are reported at their lines."""
+    try:
+        topology.quantities(design)
+        topology.nominal_delay(design)
+        topology.bom(design)
+        topology.standby(design)
+        topology.rails(design)
+    except InputError as exc:
+        r.problems.extend(_relocated(exc, r, design))
+    r.raise_if_any()
+
+
+def _read_text(path: Path, source: str) -> tuple[yaml.Node, dict]:
+    """Node tree and data of the design file; DesignError when unreadable, not YAML or not a mapping."""
+    root, data = yamlpos.load_located(yamlpos.read_file(path, source, DesignError, "the design file"), source,
+                                      DesignError)
+    if not isinstance(data, dict):
+        line, column = yamlpos.locate(root, ())
+        raise DesignError.single(source, "", f"got {'an empty file' if data is None else _show(data)}; accepted: "
+                                 f"a mapping with keys {', '.join(DESIGN_KEYS)} (brief and topology required)",
+                                 line or 1, column or 1)
+    return root, data
+
+
+def load_design(path: str | Path, catalog_files=(), *,
+                brief_changes: Mapping[str, object] | None = None) -> tuple["Brief", "Topology", Design]:
+    """Read and validate the design file at `path`: (brief, topology built for it, design in SI).
+
+    catalog_files: extra catalog files merged over the shipped ones; brief_changes: dotted brief
+    keys changed before the topology is built ({'analysis.samples': 5000}), validated as
+    Brief.replace does. Raises DesignError (every problem of the design file at once), BriefError
+    for a brief file, CatalogError for a catalog file.
+    """
+    path = Path(path)
+    source = str(path)
+    root, data = _read_text(path, source)
+    r = _Reader(source, root)
+    for dup_path, (line, column) in yamlpos.duplicate_keys(root):
+        r.problems.append(Problem(source, line, column, ".".join(dup_path),
+                                  "key given twice; accepted: each key once per mapping"))
+    for key in data:
+        if key not in DESIGN_KEYS:
+            r.unknown((), str(key), "key", list(DESIGN_KEYS))
+    for key in _REQUIRED:
+        if key not in data:
+            r.problem((), f"missing required key '{key}'; accepted: brief: <file or mapping>, topology: <id>")
+    catalog = load_catalog(extra=catalog_files)
+    brief = _read_brief(r, data["brief"], path.resolve(), root) if "brief" in data else None
+    if brief is not None and brief_changes:
+        brief = brief.replace(brief_changes)
+    cls = _read_topology(r, data["topology"], catalog) if "topology" in data else None
+    options = _read_options(r, data.get("options"), cls, catalog) if cls is not None else {}
+    overrides = _read_overrides(r, data.get("overrides"), catalog)
+    topology = build_topology(cls.id, brief, catalog) if cls is not None and brief is not None else None
+    values = _read_values(r, data.get("values"), topology) if topology is not None else {}
+    r.raise_if_any()
+    design = Design(topology=topology.id, values=values, options=options, overrides=overrides)
+    _probe(topology, design, r)
+    return brief, topology, design

@@ -1,0 +1,179 @@
+"""Terminal report of one evaluated design, and its bill of materials.
+
+rich draws the tables; on a pipe its Console writes the same text without colour codes. Every
+figure carries its unit (tradeoff.units.format_quantity); a delay that never ends says so.
+`render_evaluation` and `render_bom` are shared by `tradeoff analyze` and the study report.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from typing import TYPE_CHECKING
+
+from rich import box
+from rich.console import Console
+from rich.table import Table
+from rich.text import Text
+
+from tradeoff.cautions import cautions
+from tradeoff.report.evaluation import rating_findings
+from tradeoff.units import format_quantity as fq
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.analysis import Uncertain
+    from tradeoff.brief import Brief
+    from tradeoff.topologies.base import BomLine, Evaluation
+
+__all__ = ["render_evaluation", "render_bom", "delay_text", "quantity_text"]
+
+_SUFFIX_UNITS = (("_ohm", "ohm"), ("_hz", "Hz"), ("_s", "s"), ("_v", "V"), ("_a", "A"), ("_f", "F"), ("_c", "degC"),
+                 ("_w", "W"))
+"""Units implied by the name suffixes of CONTRIBUTING.md, for quantities whose unit is not given."""
+
+
+def delay_text(seconds: float) -> str:
+    """A delay with its unit, or 'never ends' for a unit that never times out."""
+    return fq(seconds, "s") if math.isfinite(seconds) else "never ends"
+
+
+def quantity_text(name: str, value: float, unit: str | None = None) -> str:
+    """A spread quantity's value with its unit (given, or implied by the name's suffix; plain if dimensionless)."""
+    if unit is None:
+        unit = next((u for suffix, u in _SUFFIX_UNITS if name.endswith(suffix)), "")
+    return fq(value, unit) if math.isfinite(value) else "infinite"
+
+
+def _corner_text(corner: Mapping[str, float], quantities: "Mapping[str, Uncertain] | None") -> str:
+    """The quantities of a corner that sit away from nominal, with their units and which limit."""
+    parts = []
+    for name, value in corner.items():
+        q = quantities.get(name) if quantities else None
+        if q is None:
+            parts.append(f"{name} {quantity_text(name, value)}")
+            continue
+        if math.isclose(value, q.nominal, rel_tol=1e-12, abs_tol=1e-300):
+            continue
+        where = "low" if math.isclose(value, q.lo, rel_tol=1e-12) else "high" if math.isclose(
+            value, q.hi, rel_tol=1e-12) else "interior"
+        parts.append(f"{name} {quantity_text(name, value, q.unit)} ({where})")
+    return ", ".join(parts) or "all nominal"
+
+
+def _role_unit(name: str, quantities: "Mapping[str, Uncertain] | None") -> str:
+    """Unit of a value role: its spread quantity's unit, else the role naming rule (r_* ohm, c_* F)."""
+    if quantities and name in quantities and quantities[name].unit:
+        return quantities[name].unit
+    return "ohm" if name.startswith("r_") else "F"
+
+
+def _options_text(options: Mapping[str, object], units: Mapping[str, str | None]) -> str:
+    return ", ".join(f"{k} {fq(v, units[k]) if units.get(k) and isinstance(v, float) else v}"
+                     for k, v in options.items()) or "none (topology defaults)"
+
+
+def render_bom(bom: "list[BomLine]", console: Console, title: str = "Bill of materials") -> None:
+    """The bill of materials: references, part class, value, quantity, unit and line cost [EUR, indicative]."""
+    table = Table(box=box.SIMPLE_HEAD, title=title, title_justify="left")
+    for name, justify, no_wrap in (("refs", "left", True), ("part class", "left", True), ("value", "left", False),
+                                   ("qty", "right", True), ("unit cost [EUR]", "right", True),
+                                   ("cost [EUR]", "right", True), ("note", "left", False)):
+        table.add_column(name, justify=justify, no_wrap=no_wrap)
+    for line in bom:
+        table.add_row(line.refs, line.part, line.value, str(line.quantity), f"{line.unit_cost:.3f}",
+                      f"{line.cost:.3f}", line.note)
+    total = sum(line.cost for line in bom)
+    table.add_row("total", "", "", str(sum(line.quantity for line in bom)), "", f"{total:.3f}", "indicative")
+    console.print(table)
+
+
+def _delay_table(ev: "Evaluation", quantities: "Mapping[str, Uncertain] | None") -> Table:
+    lo, hi = ev.band
+    mc = ev.mc
+    table = Table(box=box.SIMPLE_HEAD, title=f"Delay (brief's band {fq(lo, 's')} to {fq(hi, 's')})", title_justify="left")
+    table.add_column("figure")
+    table.add_column("value", justify="right")
+    table.add_column("where / how")
+    table.add_row("nominal", delay_text(ev.nominal_s), "every quantity at its nominal value")
+    table.add_row("worst-case minimum", delay_text(ev.worst.min_s), _corner_text(ev.worst.at_min, quantities))
+    table.add_row("worst-case maximum", delay_text(ev.worst.max_s), _corner_text(ev.worst.at_max, quantities))
+    table.add_row("corner method", "", ev.worst.method)
+    for q, value in sorted(mc.percentiles.items()):
+        table.add_row(f"Monte Carlo {fq(q, '%')} percentile", delay_text(value),
+                      f"coverage {fq(ev.coverage, '%')}, {mc.samples} samples, seed {mc.seed}")
+    table.add_row("Monte Carlo mean", delay_text(mc.mean_s),
+                  f"standard deviation {delay_text(mc.std_s)}" if math.isfinite(mc.std_s) else "")
+    table.add_row("yield", fq(mc.yield_frac, "%"),
+                  f"units inside the band; 95 % confidence interval {fq(mc.yield_ci[0], '%')} to "
+                  f"{fq(mc.yield_ci[1], '%')} (Wilson)")
+    if mc.never_ends_frac > 0:
+        table.add_row("never time out", fq(mc.never_ends_frac, "%"), "of the Monte Carlo units")
+    return table
+
+
+def _supply_table(ev: "Evaluation") -> Table:
+    table = Table(box=box.SIMPLE_HEAD, title=f"Supply and parts (nominal supply {fq(ev.supply_v, 'V')})", title_justify="left")
+    table.add_column("figure")
+    table.add_column("value", justify="right")
+    table.add_column("note")
+    table.add_row("current during timing", fq(ev.standby.during_a, "A"), "including the relay coil when energised")
+    table.add_row("current after timeout", fq(ev.standby.after_a, "A"), "what the circuit still draws")
+    table.add_row("power after timeout", fq(ev.after_w, "W"), "circuit only")
+    if ev.adapter_no_load_w is not None:
+        table.add_row("power after timeout, with adapter", fq(ev.after_w + ev.adapter_no_load_w, "W"),
+                      f"adds the adapter's own no-load {fq(ev.adapter_no_load_w, 'W')}")
+    table.add_row("supply rails", str(ev.rails), "the supply itself counts as one")
+    table.add_row("parts", f"{ev.placements} placements", f"{ev.lines} BOM lines")
+    table.add_row("cost", f"{ev.cost:.2f} EUR", "indicative; replace with your own prices (--catalog)")
+    ratings = rating_findings(ev)
+    table.add_row("supply within ratings", "yes" if not ratings else "no",
+                  "; ".join(f.message for f in ratings) or f"{fq(ev.supply_v, 'V')} nominal; every part rated "
+                  "for the brief's supply range")
+    return table
+
+
+def _findings_table(ev: "Evaluation") -> Table | None:
+    if not ev.findings:
+        return None
+    table = Table(box=box.SIMPLE_HEAD, title="Findings (design-rule checks)", title_justify="left")
+    for name in ("severity", "check", "finding"):
+        table.add_column(name)
+    order = {"violation": 0, "warning": 1, "info": 2}
+    for f in sorted(ev.findings, key=lambda f: order[f.severity]):
+        table.add_row(f.severity, f.code, f.message)
+    return table
+
+
+def render_evaluation(ev: "Evaluation", brief: "Brief", console: Console,
+                      quantities: "Mapping[str, Uncertain] | None" = None,
+                      option_units: Mapping[str, str | None] | None = None) -> None:
+    """Everything `tradeoff analyze` says about one design: values, delay (nominal, worst case with its
+    corners, Monte Carlo, yield), supply current and power, rails, parts, cost, ratings, BOM, findings,
+    the verdict against the brief and the mains cautions.
+
+    quantities: the design's spread quantities (Topology.quantities), to name each corner's units and
+    limits; option_units: the topology's option units, to show quantity options with their unit.
+    """
+    design = ev.design
+    console.print(Text(f"{ev.topology}: {brief.title}", style="bold"))
+    roles = ", ".join(f"{k} {quantity_text(k, v, _role_unit(k, quantities))}" for k, v in design.values.items())
+    console.print(f"values: {roles or 'none (no value roles)'}", highlight=False)
+    console.print(f"options: {_options_text(design.options, option_units or {})}", highlight=False)
+    if design.overrides:
+        console.print("overrides: " + "; ".join(f"{part}: " + ", ".join(
+            f"{k} {v:g} (SI)" if isinstance(v, float) else f"{k} {v}" for k, v in params.items())
+                                                for part, params in design.overrides.items()), highlight=False)
+    console.print(_delay_table(ev, quantities))
+    console.print(_supply_table(ev))
+    render_bom(ev.bom, console)
+    findings = _findings_table(ev)
+    if findings is not None:
+        console.print(findings)
+    if ev.feasible:
+        console.print(Text("Meets the brief: every corner inside the band, every limit and design rule kept.",
+                           style="bold green"))
+    else:
+        console.print(Text("Does not meet the brief:", style="bold red"))
+        for reason in ev.reasons:
+            console.print(f"  - {reason}", highlight=False)
+    for caution in cautions(brief):
+        console.print(f"CAUTION: {caution}", highlight=False)
