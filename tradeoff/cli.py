@@ -128,20 +128,36 @@ def catalog_command(query, catalogs):
 @click.option("--samples", type=click.IntRange(100, 10_000_000), default=None,
               help="Monte Carlo samples per design (overrides the brief's analysis.samples).")
 @click.option("--seed", type=int, default=None, help="Monte Carlo seed (overrides the brief's analysis.seed).")
+@click.option("--xlsx", "xlsx_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the workbook (ranking, BOMs, corners, Monte Carlo, infeasible, brief, cautions).")
+@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+              help="Write the workbook's tables as CSV files, one per sheet, into this folder.")
+@click.option("--plots", "plots_dir", type=click.Path(file_okay=False), default=None,
+              help="Write waveform, Monte Carlo histogram and Pareto plots (PNG and SVG) into this folder.")
+@click.option("--netlist", "netlist_dir", type=click.Path(file_okay=False), default=None,
+              help="Write each feasible design's SPICE netlist (DESIGN.cir) into this folder.")
+@click.option("--review", "review_dir", type=click.Path(file_okay=False), default=None,
+              help="Write the full review set into this folder: report.txt, study.json, study.xlsx, tables/, "
+                   "plots/, netlists/.")
+@click.option("--force", is_flag=True, help="Replace output files that exist (otherwise nothing is written).")
 @catalog_option
 @_translate_errors
-def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, catalogs):
+def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, xlsx_path, csv_dir,
+                  plots_dir, netlist_dir, review_dir, force, catalogs):
     """Run the trade study on BRIEF: for every allowed topology the best E-series
     design proven at the worst-case corners and by Monte Carlo, then a ranking by
     the brief's weights, the winner's bill of materials, the reasons, and why the
     other topologies cannot meet the brief.
 
     Exits 1 when no topology meets the brief (the report still says why), 2 on
-    input errors.
+    input errors. Output files are written atomically; an existing one is left
+    untouched (and nothing is written) unless --force is given.
 
-    Example:
+    Examples:
 
         tradeoff study examples/towel_rail_boost.yaml --alternatives 2 --method topsis
+
+        tradeoff study examples/towel_rail_boost.yaml --review out/review
     """
     from tradeoff.study import study
 
@@ -149,13 +165,22 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
     result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
                    samples=samples, seed=seed, catalog_files=catalogs)
     if output_format == "json":
-        import json
+        from tradeoff.report.review import json_text
 
-        click.echo(json.dumps(result.to_dict(), indent=2, allow_nan=False))
+        click.echo(json_text(result), nl=False)
     else:
         from tradeoff.report.study_text import render_study, report_console
 
         render_study(result, report_console())
+    targets = dict(xlsx=xlsx_path, csv=csv_dir, plots=plots_dir, netlists=netlist_dir, review=review_dir)
+    if any(path is not None for path in targets.values()):
+        from tradeoff.report.review import export
+
+        done = export(result, force=force, **targets)
+        for name in done.without_netlist:
+            click.echo(f"no SPICE netlist for {name}: its topology provides none", err=True)
+        for path in done.written:
+            click.echo(f"wrote {path}", err=True)
     if not result.feasible:
         sys.exit(1)
 
