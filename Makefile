@@ -1,12 +1,14 @@
-# Two entry points for a fresh machine: `make demo` (set up, run the study on an example brief)
-# and `make test` (set up, run the test suite). Both create .venv on first use.
+# Entry points for a fresh machine: `make demo` (set up, run the study on an example brief),
+# `make review` (set up, write the full review set for the brief into out/review) and `make test`
+# (set up, run the test suite). Each creates .venv on first use.
 PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 BRIEF ?= examples/towel_rail_boost.yaml
+REVIEW ?= out/review
 
-.PHONY: demo test bench clean
+.PHONY: demo review test bench clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -16,6 +18,9 @@ $(STAMP): pyproject.toml
 
 demo: $(STAMP)
 	$(BIN)/tradeoff study $(BRIEF)
+
+review: $(STAMP)
+	$(BIN)/tradeoff study $(BRIEF) --review $(REVIEW) --force
 
 test: $(STAMP)
 	$(BIN)/python -m pytest
