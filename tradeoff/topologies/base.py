@@ -17,6 +17,8 @@ import numpy as np
 from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, worst_case
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
+    import pandas as pd
+
     from tradeoff.brief import Brief
     from tradeoff.catalog import Catalog, Part
     from tradeoff.selection import SelectionModel
@@ -213,6 +215,19 @@ class Evaluation:
             "feasible": self.feasible,
             "reasons": list(self.reasons),
         }
+
+    def to_frame(self) -> "pd.DataFrame":
+        """The headline figures as a one-row pandas frame (SI units in column suffixes; a delay that
+        never ends is NaN here, null in to_dict())."""
+        import pandas as pd
+
+        return pd.DataFrame([{
+            "topology": self.topology, "delay_nominal_s": self.nominal_s, "delay_worst_min_s": self.worst.min_s,
+            "delay_worst_max_s": self.worst.max_s, "yield_frac": self.mc.yield_frac,
+            "standby_during_a": self.standby.during_a, "standby_after_a": self.standby.after_a,
+            "rails": self.rails, "placements": self.placements, "bom_lines": self.lines, "cost_eur": self.cost,
+            "effort": self.effort, "feasible": self.feasible, "reasons": "; ".join(self.reasons),
+        }]).replace([math.inf, -math.inf], math.nan)
 
 
 class Topology(ABC):

@@ -1,0 +1,216 @@
+"""Sweeps: the --vary syntax and its errors, identical results on every engine (in-process, a local
+process pool, a Dask LocalCluster), the decision map against the table, and the Python API."""
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+
+import numpy as np
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+import tradeoff
+from tradeoff.brief import load_brief
+from tradeoff.cli import cli
+from tradeoff.errors import InputError
+from tradeoff.sweep import _axes_and_briefs, sweep
+
+from conftest import EXAMPLES, ROOT
+
+FAST = ["mcu", "rc-counter", "crystal-counter"]  # the quickest topologies to optimise (measured here)
+GRID = ["delay.nominal=10min,1h", "weights.effort=0,3"]
+SAMPLES = 1000
+
+
+@pytest.fixture(scope="module")
+def brief_file(tmp_path_factory):
+    """The fan run-on demo brief with a ±10 % delay tolerance instead of its wide min/max band."""
+    text = (EXAMPLES / "fan_run_on.yaml").read_text(encoding="utf-8")
+    text = text.replace("  min: 10 min               # shortest acceptable run-on\n", "  tolerance: 10 %\n")
+    text = text.replace("  max: 20 min               # longest acceptable run-on\n", "")
+    path = tmp_path_factory.mktemp("sweep") / "fan_tolerance.yaml"
+    path.write_text(text, encoding="utf-8")
+    assert load_brief(path).delay.max_s == pytest.approx(990.0)  # 15 min + 10 %
+    return path
+
+
+@pytest.fixture(scope="module")
+def local(brief_file):
+    """The reference sweep, run in this process."""
+    return sweep(brief_file, GRID, only=FAST, samples=SAMPLES)
+
+
+def _run(*args):
+    return CliRunner().invoke(cli, [str(a) for a in args])
+
+
+def test_grid_order_and_the_winner_changes(local):
+    frame = local.to_frame()
+    assert list(frame["delay.nominal_s"]) == [600.0, 600.0, 3600.0, 3600.0]
+    assert list(frame["weights.effort"]) == [0.0, 3.0, 0.0, 3.0]
+    assert frame["winner"].nunique() > 1  # the grid is chosen so the answer changes with the effort weight
+    assert (frame["winner_score"] >= frame["runner_up_score"]).all()
+    assert (frame["winner_delay_worst_min_s"] >= 0.9 * frame["delay.nominal_s"] - 1e-9).all()
+    json.dumps(local.to_dict(), allow_nan=False)
+
+
+def test_jobs_2_gives_the_same_table_as_jobs_1(brief_file, tmp_path):
+    tables = []
+    for jobs in (1, 2):
+        out = tmp_path / f"jobs{jobs}.csv"
+        result = _run("sweep", brief_file, "--vary", GRID[0], "--vary", GRID[1], "--only", ",".join(FAST),
+                      "--samples", SAMPLES, "--jobs", jobs, "--csv", out)
+        assert result.exit_code == 0, result.output
+        tables.append(out.read_text(encoding="utf-8"))
+    assert tables[0] == tables[1]
+    assert tables[0].count("\n") == 5  # header and four grid points
+
+
+def test_dask_local_cluster_gives_identical_results(brief_file, local):
+    distributed = pytest.importorskip("distributed") if not os.environ.get("CI") else __import__("distributed")
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, host="127.0.0.1", scheduler_port=0,
+                                  dashboard_address=None) as cluster:
+        remote = sweep(brief_file, GRID, only=FAST, samples=SAMPLES, scheduler=cluster.scheduler_address)
+    pd.testing.assert_frame_equal(remote.to_frame(), local.to_frame())
+    assert remote.points == local.points
+
+
+def test_unreachable_scheduler_is_an_input_error(brief_file):
+    result = _run("sweep", brief_file, "--vary", "weights.cost=1,2", "--only", "mcu", "--scheduler",
+                  "tcp://127.0.0.1:9")
+    assert result.exit_code == 2
+    assert "cannot reach a Dask scheduler at 'tcp://127.0.0.1:9'" in result.output
+
+
+def test_decision_map_cells_match_the_table(local, tmp_path):
+    import matplotlib.image
+
+    drawn = local.plot_decision_map(tmp_path / "map.png")
+    frame = local.to_frame()
+    # rows follow the second field (weights.effort), columns the first (delay.nominal), both ascending here
+    for r, effort in enumerate((0.0, 3.0)):
+        for c, nominal in enumerate((600.0, 3600.0)):
+            row = frame[(frame["delay.nominal_s"] == nominal) & (frame["weights.effort"] == effort)].iloc[0]
+            assert drawn.winners[r, c] == row["winner"]
+    assert drawn.x_text == ["10 min", "1 h"]
+    pixels = matplotlib.image.imread(drawn.path)[..., :3]
+    for (r, c), winner in np.ndenumerate(drawn.winners):
+        x, y = (int(round(v)) for v in drawn.centres_px[r, c])
+        expected = np.array([int(drawn.colours[winner][i:i + 2], 16) / 255 for i in (1, 3, 5)])
+        np.testing.assert_allclose(pixels[y, x], expected, atol=2 / 255)
+    with pytest.raises(Exception, match="exists and was left untouched"):
+        local.plot_decision_map(tmp_path / "map.png")
+    svg = local.plot_decision_map(tmp_path / "map.svg").path.read_text(encoding="utf-8")
+    assert svg.lstrip().startswith("<?xml") and "delay.nominal [s]" in svg  # 2 values 6x apart: linear axis
+
+
+def test_workbook_reads_back_with_the_same_numbers(local, tmp_path):
+    local.write_xlsx(tmp_path / "sweep.xlsx")
+    sheets = pd.read_excel(tmp_path / "sweep.xlsx", sheet_name=None)
+    assert set(sheets) == {"sweep", "axes", "settings"}
+    back = sheets["sweep"]
+    np.testing.assert_allclose(back["winner_score"], local.to_frame()["winner_score"])
+    assert pd.api.types.is_numeric_dtype(back["winner_cost_eur"])
+
+
+def test_ranges_are_read_with_the_fields_units(brief_file):
+    base = load_brief(brief_file)
+    axes, points = _axes_and_briefs(base, ["supply.nominal=10V..15V:3:log", "ambient.max=30degC..50degC:3"], {})
+    supply, ambient = axes
+    np.testing.assert_allclose(supply.values, np.geomspace(10, 15, 3))  # geometric progression by definition
+    assert supply.log and not ambient.log
+    assert ambient.values == (30.0, 40.0, 50.0)
+    assert len(points) == 9 and points[5][0] == (1, 2)
+    assert points[5][1].supply.nominal_v == pytest.approx(np.sqrt(150))
+    # the brief gives supply min and max (10.8 V, 15 V at 12 V): they move with the nominal, same ratios
+    assert points[5][1].supply.min_v == pytest.approx(np.sqrt(150) * 10.8 / 12)
+    assert points[5][1].supply.max_v == pytest.approx(np.sqrt(150) * 15 / 12)
+
+
+def test_a_given_delay_band_moves_with_the_nominal():
+    base = load_brief(EXAMPLES / "fan_run_on.yaml")  # nominal 15 min, min 10 min, max 20 min
+    axes, points = _axes_and_briefs(base, {"delay.nominal": ["30 min", "1 h"]}, {})
+    assert [(p.delay.min_s, p.delay.max_s) for _, p in points] == [(1200.0, 2400.0), (2400.0, 4800.0)]
+
+
+@pytest.mark.parametrize("option, message", [
+    ("delay.nominal", "no '=' between the key and its values"),
+    ("delay.nominl=1h", "is not a brief key (did you mean 'delay.nominal'?)"),
+    ("title=a,b", "'title' cannot be varied in a sweep"),
+    ("delay.nominal=", "no values after '='"),
+    ("delay.nominal=1h,,2h", "an empty value in the list"),
+    ("delay.nominal=1h,1h", "a value is listed twice"),
+    ("delay.nominal=1h..2h", "a range is START..STOP:COUNT"),
+    ("delay.nominal=1h..2h:1", "count '1' is not a whole number from 2 to 10000"),
+    ("delay.nominal=1h..2h:3:geo", "spacing 'geo' is not known; use :lin or :log"),
+    ("delay.nominal=1V..2V:3", "range endpoint:"),
+    ("ambient.max=10degC..30degC:3:log", "temperatures have no log scale"),
+    ("start=a..b:3", "this field takes a choice"),
+    ("analysis.samples=1000..1001:5", "rounding to whole numbers leaves fewer than 5 distinct values"),
+    ("delay.nominal=12", "bare number"),
+    ("delay.nominal=30 days", "outside the accepted range"),
+    ("weights.cost=1..1:3", "START and STOP are equal"),
+])
+def test_vary_errors_exit_2_naming_option_and_key(brief_file, option, message):
+    result = _run("sweep", brief_file, "--vary", option, "--only", "mcu")
+    assert result.exit_code == 2, result.output
+    assert result.output.startswith("Error: --vary:")
+    assert message in result.output
+    assert "Traceback" not in result.output
+
+
+def test_same_key_twice_and_too_many_fields_for_a_map(brief_file, tmp_path):
+    twice = _run("sweep", brief_file, "--vary", "analysis.seed=1,2", "--seed", 3, "--only", "mcu")
+    assert twice.exit_code == 2 and "'analysis.seed' is set twice" in twice.output
+    three = _run("sweep", brief_file, "--vary", "weights.cost=1,2", "--vary", "weights.parts=1,2", "--vary",
+                 "weights.rails=1,2", "--plot", tmp_path / "m.png", "--only", "mcu")
+    assert three.exit_code == 2 and "a decision map shows one or two varied fields; 3 are varied" in three.output
+
+
+def test_a_point_with_nothing_feasible_says_so(tmp_path):
+    # the propagator brief (8 to 10 h, 1 rail, cost 3) is beyond the mcu class here: nothing is feasible
+    result = _run("sweep", EXAMPLES / "propagator_mat.yaml", "--vary", "weights.cost=1,2", "--only", "mcu",
+                  "--samples", SAMPLES, "--format", "json", "--plot", tmp_path / "strip.png")
+    assert result.exit_code == 1
+    points = json.loads(result.output)["points"]
+    assert [p["winner"] for p in points] == [None, None]
+    assert all(p["note"] == "no topology meets the brief here" and p["infeasible"] == 1 for p in points)
+
+
+def test_python_api(brief_file, tmp_path):
+    brief = tradeoff.load_brief(brief_file).replace({"delay.nominal": "1 h"})
+    assert brief.delay.max_s == pytest.approx(3960.0)  # the brief's ±10 % tolerance is kept
+    frame = tradeoff.study(brief, only=["mcu", "crystal-counter"], samples=SAMPLES).to_frame()
+    assert set(frame["topology"]) <= {"mcu", "crystal-counter"} and list(frame["rank"]) == list(range(1, len(frame) + 1))
+    design = EXAMPLES / "designs" / "mcu.yaml"
+    analysis = tradeoff.analyze(design, brief_changes={"analysis.samples": SAMPLES})
+    cli_json = json.loads(_run("analyze", design, "--samples", SAMPLES, "--format", "json").output)
+    assert json.loads(json.dumps(analysis.to_dict())) == cli_json
+    row = analysis.to_frame().iloc[0]
+    assert row["delay_nominal_s"] == pytest.approx(cli_json["delay"]["nominal_s"])
+    with pytest.raises(AttributeError):
+        tradeoff.no_such_function  # noqa: B018
+
+
+def test_import_stays_light():
+    code = "import sys, tradeoff; print(sorted(m for m in ('pandas', 'pint', 'numpy') if m in sys.modules))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True,
+                         env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert out.stdout.strip() == "[]"
+
+
+def test_example_script_runs():
+    out = subprocess.run([sys.executable, str(ROOT / "examples" / "what_if.py")], capture_output=True, text=True,
+                         cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)}, timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert "winner" in out.stdout and "delay.nominal_s" in out.stdout
+
+
+def test_bad_value_at_a_grid_point_stops_before_running():
+    base = load_brief(EXAMPLES / "fan_run_on.yaml")
+    with pytest.raises(InputError, match="nominal 1 h lies outside min..max"):
+        # delay.min is varied too, so the band does not move: 1 h is outside 10 to 20 min
+        _axes_and_briefs(base, ["delay.nominal=15min,1h", "delay.min=5min,10min"], {})
