@@ -91,13 +91,14 @@ def reference(model, band, limits, weights):
 # ---- random small models -------------------------------------------------------------------
 
 
-def random_model(seed: int, combine: str):
-    """A random model of 1 to 3 blocks with up to 8 rows each, a band near a random combination,
-    random links, limits and weights; about a third of them are infeasible."""
+def random_model(seed: int, combine: str, blocks: tuple[int, int] = (1, 3), rows: tuple[int, int] = (1, 8)):
+    """A random model of 1 to 3 blocks (or `blocks`) with 1 to 8 rows (or `rows`) each, a band near
+    a random combination, random links, limits and weights; about a third of them are infeasible."""
     rng = np.random.default_rng(seed)
+    count = int(rng.integers(blocks[0], blocks[1] + 1))
     blocks = []
-    for b in range(int(rng.integers(1, 4))):
-        n = int(rng.integers(1, 9))
+    for b in range(count):
+        n = int(rng.integers(rows[0], rows[1] + 1))
         if combine == "product":
             nom = np.exp(rng.uniform(-1, 1, n)) * (100.0 if b == 0 else 1.0)
         else:
@@ -174,6 +175,19 @@ def test_alternatives_are_distinct_sorted_and_the_k_best(seed, combine):
     assert objectives == sorted(objectives)
     assert len({tuple(r.rows.values()) for r in results}) == len(results)
     assert objectives == pytest.approx([e[0] for e in expected[:4]], abs=TIE)
+
+
+@pytest.mark.parametrize("seed", range(5))
+@pytest.mark.parametrize("combine", ["sum", "product"])
+def test_large_tables_pruned_by_the_incumbent_bound_stay_exact(seed, combine):
+    """Blocks above the incumbent program's row count are pruned by objective bounds; alternatives
+    beyond the bound make the problem fall back to every row. Both must match exhaustive search."""
+    model, band, limits, weights = random_model(seed, combine, blocks=(2, 2), rows=(100, 250))
+    expected = exhaustive(model, band, limits, weights, k=6)
+    problem = SelectionProblem(model, band, limits, weights)
+    results = problem.best(6)
+    assert [r.objective for r in results] == pytest.approx([e.objective for e in expected], abs=TIE)
+    assert all(problem.feasible(r.rows) for r in results)
 
 
 @pytest.mark.parametrize("seed", [3, 17, 2024])

@@ -80,10 +80,13 @@ STANDBY_SHARES = {"after_a": 0.75, "during_a": 0.25}
 """Split of the standby term between the current after the timeout and while timing (as the ranking)."""
 
 _TOLERANCE = 1e-9
-"""Relative slack allowed on a requirement: value (sense) rhs ± 1e-9·max(1, |rhs|)."""
+"""Relative slack allowed on a requirement and on objective comparisons."""
 
 _GAP_ABS = 1e-9
 """Absolute optimality gap asked of the solver (objective terms are of order 1)."""
+
+_INCUMBENT_ROWS = 64
+"""Rows per block, those with the smallest objective bounds, in the small program solved first for an incumbent."""
 
 _CHUNK = 1 << 18
 """Combinations evaluated per vectorised step of exhaustive search."""
@@ -158,10 +161,15 @@ class _Requirement:
         """The requirement's left-hand side at the chosen rows."""
         return self.constant + _gather(self.amounts, idx)
 
+    @functools.cached_property
+    def slack(self) -> float:
+        """Tolerance on the requirement: _TOLERANCE times the magnitude of its sides."""
+        size = abs(self.constant) + sum(float(np.max(np.abs(a))) for a in self.amounts if a.size)
+        return _TOLERANCE * max(abs(self.rhs), size)
+
     def holds(self, value: np.ndarray | float) -> np.ndarray | bool:
         """True where `value` meets the requirement (within the relative tolerance)."""
-        slack = _TOLERANCE * max(1.0, abs(self.rhs))
-        return value <= self.rhs + slack if self.sense == "<=" else value >= self.rhs - slack
+        return value <= self.rhs + self.slack if self.sense == "<=" else value >= self.rhs - self.slack
 
     def best(self) -> float:
         """Best left-hand side the tables allow, ignoring every other requirement."""
@@ -372,13 +380,15 @@ class _Tables:
                 options[option] = v.item() if isinstance(v, np.generic) else v
         return Design(self.model.topology, values=values, options=options, pairs=pairs)
 
-    def prune(self, requirements: Sequence[_Requirement]) -> list[np.ndarray]:
-        """Rows of each block that can still meet every requirement given the other blocks' extremes.
+    def prune(self, requirements: Sequence[_Requirement], rows: Sequence[np.ndarray] | None = None
+              ) -> list[np.ndarray]:
+        """Rows of each block (among `rows`, default all) that can still meet every requirement
+        given the other blocks' extremes.
 
         Exact: a removed row breaks a requirement whatever the other blocks choose (by more than
         twice the tolerance, so rounding never removes a row exhaustive search would accept).
         """
-        keep = [np.arange(n) for n in self.sizes]
+        keep = [np.arange(n) for n in self.sizes] if rows is None else list(rows)
         changed = True
         while changed and all(k.size for k in keep):
             changed = False
@@ -387,7 +397,7 @@ class _Tables:
                 kept = [a[k] for a, k in zip(r.amounts, keep)]
                 ends = [float(a.max() if largest else a.min()) for a in kept]
                 total = r.constant + sum(ends)
-                slack = 2 * _TOLERANCE * max(1.0, abs(r.rhs))
+                slack = 2 * r.slack
                 for b, a in enumerate(kept):
                     rest = total - ends[b]
                     ok = a + rest >= r.rhs - slack if largest else a + rest <= r.rhs + slack
@@ -396,6 +406,24 @@ class _Tables:
                         if not keep[b].size:
                             return keep
         return keep
+
+    def lower_bounds(self, keep: Sequence[np.ndarray]) -> list[np.ndarray]:
+        """For each kept row, a lower bound of the objective of every combination of kept rows using it.
+
+        Linear part: the row's coefficient plus the other blocks' smallest; accuracy: the
+        distance from the centre to the interval the nominal delay can still reach.
+        """
+        lin = [c[k] for c, k in zip(self.linear, keep)]
+        nom = [n[k] for n, k in zip(self.nominal, keep)]
+        lin_min = sum(float(a.min()) for a in lin)
+        n_min, n_max = (sum(float(f(a)) for a in nom) for f in (np.min, np.max))
+        out = []
+        for a, n in zip(lin, nom):
+            lo = n + (n_min - float(n.min()))
+            hi = n + (n_max - float(n.max()))
+            gap = np.maximum(0.0, np.maximum(lo - self.centre, self.centre - hi))
+            out.append(self.linear_constant + a + (lin_min - float(a.min())) + self.accuracy_k * gap)
+        return out
 
 
 _DELAYS = ("delay_lo", "delay_nom", "delay_hi")
@@ -433,12 +461,13 @@ def _solver(name: str) -> pulp.LpSolver:
 
 
 class _Program:
-    """One PuLP model over the rows of the tables that survive pruning by `requirements`."""
+    """One PuLP model over the rows of the tables (or of `rows`) that survive pruning by `requirements`."""
 
-    def __init__(self, tables: _Tables, requirements: Sequence[_Requirement], solver: str):
+    def __init__(self, tables: _Tables, requirements: Sequence[_Requirement], solver: str,
+                 rows: Sequence[np.ndarray] | None = None):
         self.tables, self.requirements, self.solver_name = tables, list(requirements), solver
         self.solver = _solver(solver)
-        self.keep = tables.prune(self.requirements)
+        self.keep = tables.prune(self.requirements, rows)
         self.empty = not all(k.size for k in self.keep)
         self.lp = pulp.LpProblem("selection", pulp.LpMinimize)
         self.cuts = 0
@@ -584,21 +613,50 @@ class SelectionProblem:
 
     def __init__(self, model: SelectionModel, band: tuple[float, float], limits, weights,
                  scales: Scales | None = None, solver: str = "highs"):
+        start = time.perf_counter()
         self.model = model
         self.tables = _Tables(model, band, limits, weights, scales)
         self.solver = solver
-        self.program = _Program(self.tables, self.tables.requirements, solver)
-        self._objective()
         self.excluded: list[tuple[int, ...]] = []
+        self._rows_meeting = self.tables.prune(self.tables.requirements)
+        self.bound = self._incumbent()
+        self.program = self._build(self._within_bound())
+        self.build_s = time.perf_counter() - start
+        """Time to prune and build the program [s]."""
 
-    def _objective(self) -> None:
-        t, p = self.tables, self.program
-        if p.empty:
-            return
-        objective = p.expression(t.linear) + t.linear_constant
-        if t.accuracy_k > 0:
-            objective += t.accuracy_k * p.absolute(t.nominal, t.centre, 1.0, "accuracy")
-        p.minimise(objective)
+    def _build(self, rows: Sequence[np.ndarray]) -> _Program:
+        """The program over `rows` with the weighted objective and every cut made so far."""
+        t = self.tables
+        p = _Program(t, t.requirements, self.solver, rows)
+        if not p.empty:
+            objective = p.expression(t.linear) + t.linear_constant
+            if t.accuracy_k > 0:
+                objective += t.accuracy_k * p.absolute(t.nominal, t.centre, 1.0, "accuracy")
+            p.minimise(objective)
+        for rows_cut in self.excluded:
+            p.cut(rows_cut)
+        return p
+
+    def _incumbent(self) -> float:
+        """Objective of a good feasible combination, from a small program over the rows with the
+        smallest objective bounds (inf when the tables are small enough or it finds none)."""
+        rows = self._rows_meeting
+        if not all(k.size for k in rows) or max(k.size for k in rows) <= _INCUMBENT_ROWS:
+            return math.inf
+        bounds = self.tables.lower_bounds(rows)
+        best = [k[np.argsort(b, kind="stable")[:_INCUMBENT_ROWS]] for k, b in zip(rows, bounds)]
+        found = self._build(best).run()
+        return math.inf if found is None else self.objective_of(found)
+
+    def _within_bound(self) -> list[np.ndarray]:
+        """Rows whose objective bound does not exceed the incumbent's (exact: no better combination uses the others)."""
+        rows = self._rows_meeting
+        if math.isinf(self.bound):
+            return rows
+        return [k[b <= self.bound + self._slack()] for k, b in zip(rows, self.tables.lower_bounds(rows))]
+
+    def _slack(self) -> float:
+        return _TOLERANCE * max(1.0, abs(self.bound))
 
     @property
     def scales(self) -> Scales:
@@ -628,6 +686,11 @@ class SelectionProblem:
         """The best combination not yet excluded; status 'Infeasible' with reasons when there is none."""
         start = time.perf_counter()
         rows = self.program.run()
+        if not math.isinf(self.bound) and (rows is None or self.objective_of(rows) > self.bound + self._slack()):
+            # The best left lies beyond the incumbent's bound (earlier designs were excluded): all rows again.
+            self.bound = math.inf
+            self.program = self._build(self._rows_meeting)
+            rows = self.program.run()
         elapsed = time.perf_counter() - start
         if rows is not None:
             return _result(self.tables, rows, elapsed, self)
