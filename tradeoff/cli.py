@@ -306,6 +306,86 @@ def netlist_command(design, output, force, catalogs):
     click.echo(f"wrote {output}", err=True)
 
 
+@cli.command("sweep")
+@click.argument("brief", type=click.Path(dir_okay=False))
+@click.option("--vary", multiple=True, required=True, metavar="KEY=VALUES",
+              help="A brief field and its values: a list (delay.nominal=10min,1h,4h) or a range with a count, "
+                   "linear or log (supply.nominal=5V..24V:5:log). Repeatable: the grid is every combination.")
+@click.option("--jobs", type=click.IntRange(1, 256), default=1, show_default=True,
+              help="Local worker processes (1 runs in this process).")
+@click.option("--scheduler", metavar="ADDRESS", default=None,
+              help="Run on an existing Dask cluster at ADDRESS (pip install 'tradeoff[cluster]'); --jobs is ignored.")
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), default=None, help="Write the table as CSV.")
+@click.option("--xlsx", "xlsx_path", type=click.Path(dir_okay=False), default=None, help="Write the table as a workbook.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the decision map (.png or .svg): the winner over one or two varied fields.")
+@format_option
+@click.option("--only", multiple=True, metavar="TOPOLOGY",
+              help="Study only these topologies at each point (repeatable, or comma-separated).")
+@click.option("--method", type=click.Choice(["wsm", "topsis"]), default="wsm", show_default=True,
+              help="Ranking method at each point.")
+@click.option("--samples", type=click.IntRange(100, 10_000_000), default=None,
+              help="Monte Carlo samples per design (fewer make a sweep faster; overrides analysis.samples).")
+@click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=None,
+              help="Monte Carlo seed at every point (overrides analysis.seed).")
+@click.option("--force", is_flag=True, help="Replace existing output files.")
+@catalog_option
+@_translate_errors
+def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, output_format, only, method,
+                  samples, seed, force, catalogs):
+    """Run the study at every point of a grid over brief fields and tabulate, per
+    point, the winner and the runner-up with their scores, the winner's worst-case
+    delay band, yield, standby current after the timeout, parts and cost, and how
+    many topologies cannot meet the brief there.
+
+    Each --vary takes KEY=V1,V2,... or KEY=START..STOP:COUNT[:lin|:log], values
+    with the field's unit. Every point is checked before any runs. Exits 1 when no
+    point has a feasible design, 2 on input errors.
+
+    Example:
+
+        tradeoff sweep examples/fan_run_on.yaml --vary delay.nominal=10min..4h:5:log
+        --vary weights.effort=0,1,2,4 --jobs 2 --samples 2000 --plot map.png
+    """
+    from rich.console import Console
+    from rich.progress import Progress
+
+    from tradeoff.report.files import check_writable
+    from tradeoff.report.sweep_report import check_mappable, render_sweep
+    from tradeoff.sweep import sweep
+
+    outputs = [p for p in (csv_path, xlsx_path, plot_path) if p]
+    if len(set(outputs)) != len(outputs):
+        raise click.UsageError("--csv, --xlsx and --plot name the same file; give each its own")
+    for path in outputs:
+        check_writable(path, force)
+    if plot_path:
+        check_mappable([item.partition("=")[0].strip() for item in vary])
+    only = [name.strip() for item in only for name in item.split(",") if name.strip()]
+    bar = Console(stderr=True)
+    with Progress(console=bar, disable=not bar.is_terminal, transient=True) as progress:
+        task = progress.add_task("grid points", total=None)
+        result = sweep(brief, list(vary), jobs=jobs, scheduler=scheduler, only=only or None, samples=samples,
+                       seed=seed, method=method, catalog_files=catalogs,
+                       progress=lambda done, total: progress.update(task, completed=done, total=total))
+    if output_format == "json":
+        import json
+
+        click.echo(json.dumps(result.to_dict(), indent=2, allow_nan=False))
+    else:
+        from tradeoff.report.terminal import report_console
+
+        render_sweep(result, report_console())
+    if csv_path:
+        result.write_csv(csv_path, force)
+    if xlsx_path:
+        result.write_xlsx(xlsx_path, force)
+    if plot_path:
+        result.plot_decision_map(plot_path, force)
+    if not any(point["winner"] for point in result.points):
+        sys.exit(1)
+
+
 def main():
     """Console-script entry point."""
     cli(prog_name="tradeoff")
