@@ -3,9 +3,11 @@ stage delays, crystal corner search against a dense sweep, selection tables agai
 from __future__ import annotations
 
 import dataclasses
+import itertools
 import math
 
 import numpy as np
+import pandas as pd
 import pytest
 
 from spice_measures import measures
@@ -15,7 +17,8 @@ from tradeoff.catalog import load_catalog
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.registry import build_topology
 from tradeoff.topologies.ripple_counter import (
-    RS_MIN_OHM, crystal_period_s, oscillator_netlist, rc_period_s, stage_factor, threshold_factor,
+    NODE_DROP_V, RS_MIN_OHM, crystal_period_s, decoded_count, oscillator_netlist, output_bit, parse_decode,
+    rc_period_s, stage_factor, threshold_factor,
 )
 
 from conftest import EXAMPLES
@@ -104,8 +107,10 @@ def test_only_brought_out_stages(rc):
     findings = {f.code: f for f in rc.checks(_rc_design(stage=11))}
     assert findings["stage"].severity == "violation" and "12, 13, 14" in findings["stage"].message
     stages = rc.selection().blocks[1].table
-    single = stages[stages.cascade == 0]
+    single = stages[(stages.cascade == 0) & (stages.decode == "")]
     assert 11 not in set(single.stage) and set(single.stage) <= {4, 5, 6, 7, 8, 9, 10, 12, 13, 14}
+    decoded = [parse_decode(t) for t in stages.decode if t]
+    assert decoded and all(n in {4, 5, 6, 7, 8, 9, 10, 12, 13, 14} for outs in decoded for _, n in outs)
 
 
 def test_crystal_single_counter_quarter_second(xtal):
@@ -124,7 +129,7 @@ def test_crystal_corner_search_finds_the_parabola_extreme(xtal):
     temps = np.linspace(params["ambient_c"].lo, params["ambient_c"].hi, 2001)
     t0s = np.linspace(params["crystal_turnover_c"].lo, params["crystal_turnover_c"].hi, 101)
     tt, t00 = np.meshgrid(temps, t0s)
-    factor = float(stage_factor(xtal.n_total(d)))
+    factor = float(xtal.periods(d))
     dense = []
     for sign in (-1.0, 1.0):
         dense.append(factor * crystal_period_s(32768.0, sign * 20e-6, sign * 3e-6, -0.034e-6, t00, tt))
@@ -144,23 +149,36 @@ def test_rc_threshold_is_an_interior_corner(rc):
     assert wc.at_min["vt_frac"] == 0.5 and wc.at_max["vt_frac"] in (0.3, 0.7)
 
 
+def _row_design(topo, model, o, s):
+    """The Design the optimiser builds from oscillator row `o` and stage row `s`."""
+    plain = lambda v: v.item() if hasattr(v, "item") else v
+    return Design(topo.id, values={r: float(o[r]) for r in model.blocks[0].roles},
+                  options={**{k: plain(o[k]) for k in model.blocks[0].options},
+                           **{k: plain(s[k]) for k in model.blocks[1].options}})
+
+
 @pytest.mark.parametrize("topology", ["rc", "xtal"])
-def test_selection_tables_agree_with_evaluate(request, topology):
+@pytest.mark.parametrize("decoded", [False, True])
+def test_selection_tables_agree_with_evaluate(request, topology, decoded):
     topo = request.getfixturevalue(topology)
     model = topo.selection()
     assert model.combine == "product"
     osc, stages = model.blocks[0].table, model.blocks[1].table
+    stages = stages[(stages.decode != "") == decoded]
     assert len(osc) and len(stages)
     band = topo.brief.delay
+    path = osc["latch_path_ohm"] if "latch_path_ohm" in osc.columns else pd.Series(np.inf, index=osc.index)
     rng = np.random.default_rng(5)
-    for i in rng.choice(len(osc), min(4, len(osc)), replace=False):
+    checked = 0
+    for i in rng.permutation(len(osc)):
         o = osc.iloc[i]
-        fit = stages[(stages.delay_nom * o.delay_lo >= band.min_s) & (stages.delay_nom * o.delay_hi <= band.max_s)]
+        fit = stages[(stages.delay_nom * o.delay_lo >= band.min_s) & (stages.delay_nom * o.delay_hi <= band.max_s)
+                     & (stages.latch_path_min_ohm <= path.iloc[i])]     # the selection's links
+        if fit.empty:
+            continue
         s = fit.iloc[int(rng.integers(len(fit)))]
-        d = Design(topo.id, values={r: float(o[r]) for r in model.blocks[0].roles},
-                   options={**{k: o[k] for k in model.blocks[0].options},
-                            **{k: (s[k].item() if hasattr(s[k], "item") else s[k]) for k in model.blocks[1].options}})
-        ev = topo.evaluate(d, samples=2000)
+        ev = topo.evaluate(_row_design(topo, model, o, s), samples=2000)
+        assert not [f.message for f in ev.findings if f.severity == "violation"]
         assert ev.worst.method.startswith("exhaustive")
         assert o.delay_lo * s.delay_lo == pytest.approx(ev.worst.min_s, rel=1e-12)
         assert o.delay_hi * s.delay_hi == pytest.approx(ev.worst.max_s, rel=1e-12)
@@ -168,16 +186,34 @@ def test_selection_tables_agree_with_evaluate(request, topology):
         assert o.cost + s.cost + model.fixed_cost == pytest.approx(ev.cost)
         assert o.placements + s.placements + model.fixed_placements == ev.placements
         assert o.lines + s.lines + model.fixed_lines == ev.lines
-        assert o.after_a + s.after_a + model.fixed_after_a == pytest.approx(ev.standby.after_a)
         assert o.during_a + s.during_a + model.fixed_during_a == pytest.approx(ev.standby.during_a)
+        after = o.after_a + s.after_a + model.fixed_after_a
+        if decoded and topology == "rc":
+            # the pull-up in series with Rs + Rt lowers the latch current; the table keeps the bound
+            # (V − Vf)/(Rs + Rt), at most the pull-up's share of the latch path above it
+            counter = topo._counter(ev.design)
+            rp = topo._pullup_ohm(counter, topo._plan(counter))
+            latch = (12.0 - topo._vf()) / float(o.latch_path_ohm)
+            assert after >= ev.standby.after_a
+            assert after - ev.standby.after_a == pytest.approx(latch * rp / (rp + o.latch_path_ohm), rel=1e-9)
+        else:
+            assert after == pytest.approx(ev.standby.after_a, rel=1e-12)
         assert band.min_s <= ev.worst.min_s and ev.worst.max_s <= band.max_s
+        checked += 1
+        if checked == 3:
+            break
+    assert checked == 3
 
 
 def test_crystal_dropped_reason_names_nearest_delays(catalog):
-    # glue pot 3 h to 4 h: crystal delays are powers of two of 1/32768 s, 2.28 h and 4.55 h either side
-    model = build_topology("crystal-counter", load_brief(EXAMPLES / "glue_pot_warmer.yaml"), catalog).selection()
+    # 4 h ±0.1 %: crystal delays are whole counts of sums of at most three powers of two; the nearest
+    # are 2^28 + 2^27 + 2^26 periods (3.98 h) and 2^29 periods (4.55 h) of 1/32768 s (binary arithmetic)
+    brief = load_brief(EXAMPLES / "glue_pot_warmer.yaml").replace({"delay.nominal": "4 h", "delay.min": "3.996 h",
+                                                                   "delay.max": "4.004 h"})
+    model = build_topology("crystal-counter", brief, catalog).selection()
     assert model.blocks[1].table.empty
-    assert any("2.28 h and 4.55 h" in k for k in model.blocks[0].dropped)
+    assert any("3.98 h and 4.55 h" in k for k in model.blocks[0].dropped), model.blocks[0].dropped
+    assert (2**28 + 2**27 + 2**26) / 32768 / 3600 == pytest.approx(3.98, abs=0.005)
 
 
 def test_latch_current_and_series_resistor(rc):
@@ -191,10 +227,194 @@ def test_latch_current_and_series_resistor(rc):
     assert "latch" in bom["D2"].note and bom["R2"].value == "200 kΩ" and bom["Q1"].part == "pnp-small"
 
 
-def test_supply_above_rating_drops_the_counter(catalog):
-    # towel rail: 16 V supply maximum above the 15 V recommended maximum (4060-type datasheets)
-    model = build_topology("rc-counter", load_brief(EXAMPLES / "towel_rail_boost.yaml"), catalog).selection()
-    assert model.blocks[0].table.empty and any("outside" in k for k in model.blocks[0].dropped)
+def _ripple_chain_first_all_high(bits_of, cascade: int, link: int, outputs, periods: int) -> int:
+    """Simulate the chain period by period as binary counters (numpy over the count sequence): counter 0
+    counts oscillator periods, counter j + 1 counts falling edges of counter j's stage `link`; return
+    the first period count at which every (counter, stage) output is high."""
+    counts = [np.arange(periods + 1, dtype=np.int64)]
+    for _ in range(cascade):
+        q = (counts[-1] >> (link - 1)) & 1
+        falls = np.concatenate([[0], (q[:-1] == 1) & (q[1:] == 0)]).astype(np.int64)
+        counts.append(np.cumsum(falls))
+    high = np.ones(periods + 1, dtype=bool)
+    for j, n in outputs:
+        high &= ((counts[j] % (1 << 14)) >> (n - 1)) & 1 == 1
+    return int(np.argmax(high)) if high.any() else -1
+
+
+def test_decoded_count_matches_a_simulated_ripple_chain():
+    # ripple-counter arithmetic (4060-type datasheets: stage N toggles every 2^(N−1) periods, the next
+    # counter is clocked by the link stage's falling edge): the AND of the outputs first goes high at
+    # Σ 2^(N − 1 + L·j); checked against a period-by-period binary simulation for random output sets
+    rng = np.random.default_rng(11)
+    outs = (4, 5, 6, 7, 8, 9, 10, 12, 13, 14)
+    for _ in range(25):
+        cascade = int(rng.integers(0, 3))
+        link = int(rng.choice([4, 5, 6, 7]))          # short links keep the simulated sequence small
+        size = int(rng.integers(1, 4))
+        chosen = {(int(rng.integers(0, cascade + 1)), int(rng.choice(outs))) for _ in range(size)}
+        if cascade == 2:
+            chosen = {(j, min(n, 9)) for j, n in chosen}
+        want = decoded_count(output_bit(n, j, link) for j, n in chosen)
+        assert _ripple_chain_first_all_high(None, cascade, link, sorted(chosen), want + 10) == want, (chosen, link)
+
+
+def test_stage_block_has_each_exact_count_once_within_the_oscillator_range(xtal):
+    # every count of one to three outputs that the crystal row can bring into the band appears once,
+    # with the fewest counters; no other count appears (brute force over the same chains)
+    model = xtal.selection()
+    osc, stages = model.blocks[0].table, model.blocks[1].table
+    band = xtal.brief.delay
+    outs = (4, 5, 6, 7, 8, 9, 10, 12, 13, 14)
+    fewest: dict[int, int] = {}
+    for cascade in range(3):
+        for link in (outs if cascade else (14,)):
+            avail = {output_bit(n, j, link) for j in range(cascade + 1) for n in outs}
+            for size in (1, 2, 3):
+                for combo in itertools.combinations(sorted(avail), size):
+                    count = decoded_count(combo)
+                    fewest.setdefault(count, cascade)
+    fits = {c for c in fewest if any(c * lo >= band.min_s and c * hi <= band.max_s
+                                     for lo, hi in zip(osc.delay_lo, osc.delay_hi))}
+    got = stages.delay_nom.astype(int).tolist()
+    assert sorted(got) == sorted(fits) and len(got) == len(set(got))
+    for _, s in stages.iterrows():
+        assert s.cascade == fewest[int(s.delay_nom)]
+        d = _xtal_design(stage=int(s.stage) or 14, cascade=int(s.cascade))
+        d = dataclasses.replace(d, options={**d.options, "link_stage": int(s.link_stage), "decode": s.decode})
+        assert xtal.periods(d) == int(s.delay_nom)
+
+
+def test_four_hours_within_5_percent_by_a_decoded_crystal_chain(catalog):
+    # 4 h = 471,859,200 periods of 1/32768 s; no power of two is within 5 % (2^28: 2.28 h, 2^29: 4.55 h),
+    # 2^28 + 2^27 + 2^26 = 469,762,048 periods (3.98 h, −0.44 %) is: U3.Q7 + U3.Q8 + U3.Q9 with link stage 10
+    text = """
+title: four hours
+delay: {nominal: 4 h, tolerance: 5 %}
+ambient: {min: 0 degC, max: 50 degC}
+supply: {kind: regulated, nominal: 12 V, min: 11.4 V, max: 12.6 V}
+start: button
+load:
+  relay: {coil_voltage: 12 V, coil_resistance: 400 ohm, must_operate: 75 %, must_release: 10 %}
+  switched: {voltage: 230 V, current: 2 A, mains: true}
+"""
+    topo = build_topology("crystal-counter", load_brief(text), catalog)
+    stages = topo.selection().blocks[1].table
+    assert set(stages.delay_nom.astype(int)) == {2**28 + 2**27 + 2**26}
+    d = _xtal_design(cascade=2, crystal="crystal-32k-50ppm")
+    d = dataclasses.replace(d, options={**d.options, "link_stage": 10, "decode": "U3.Q7+U3.Q8+U3.Q9"})
+    ev = topo.evaluate(d, samples=2000)
+    assert ev.nominal_s == pytest.approx((2**28 + 2**27 + 2**26) / 32768.0, rel=1e-12) and ev.feasible, ev.reasons
+
+
+def test_decoded_parts_and_currents(xtal):
+    # diode-AND: one diode per output and a pull-up; while timing a low output sinks the pull-up current
+    # (V − Vf)/Rp; after the timeout all outputs are high and the AND diodes block, so the pull-up only
+    # carries the latch current, now (V − Vf)/(Rp + R_bias) (standard circuit analysis)
+    plain = _xtal_design(stage=12, cascade=1)
+    dec = dataclasses.replace(plain, options={**plain.options, "decode": "U2.Q11+U2.Q12"})
+    with pytest.raises(Exception, match="decode"):
+        xtal.periods(dataclasses.replace(plain, options={**plain.options, "decode": "Q12 of U2"}))
+    counter = xtal._counter(dec)
+    plan = xtal._plan(counter)
+    rp, vf, v = xtal._pullup_ohm(counter, plan), xtal._vf(), 12.0
+    bom = {b.refs: b for b in xtal.bom(dec)}
+    assert bom["D11, D12"].quantity == 2 and bom["R12"].part.startswith("res")
+    assert len(xtal.bom(dec)) == len(xtal.bom(plain)) + 2
+    a, b = xtal.standby(plain), xtal.standby(dec)
+    base = (v - catalog_vbe(xtal) - vf) / plan.switch.base_ohm - (v - catalog_vbe(xtal)) / plan.switch.base_ohm
+    assert b.during_a - a.during_a == pytest.approx((v - vf) / rp + base, rel=1e-9)
+    assert b.after_a - a.after_a == pytest.approx((v - vf) / (rp + 10e6) - (v - vf) / 10e6, rel=1e-9)
+    # the pull-up is the smallest standard value whose current and the PNP's base current fit the sink rating
+    findings = {f.code: f for f in xtal.checks(dec)}
+    assert "output-sink" not in findings and findings["decode"].severity == "info"
+    # an 11-bit count on stage 11 is not brought out
+    bad = dataclasses.replace(plain, options={**plain.options, "decode": "U2.Q11+U1.Q11"})
+    assert any(f.code == "stage" and f.severity == "violation" for f in xtal.checks(bad))
+
+
+def catalog_vbe(topo):
+    return topo.catalog.part("pnp-small").value("vbe_on_typ", "V")
+
+
+def test_decoded_rc_needs_a_latch_path_the_pull_up_can_hold(rc):
+    # the latch current (V − Vf)/(Rp + Rs + Rt) through the pull-up must leave the node within NODE_DROP_V
+    # of the rail (common practice), so Rs + Rt >= Rp·(Vmax − Vf − drop)/drop: small Rt fails, large passes
+    counter = rc._counter(_rc_design())
+    plan = rc._plan(counter)
+    rp = rc._pullup_ohm(counter, plan)
+    need = rp * (14.0 - rc._vf() - NODE_DROP_V) / NODE_DROP_V
+    for rt, ok in ((100e3, False), (680e3, True)):
+        d = _rc_design(rt=rt, ct=100e-9, cascade=1)
+        d = dataclasses.replace(d, options={**d.options, "decode": "U2.Q4+U2.Q5"})
+        assert (rc._latch_path_ohm(d) >= need) == ok
+        bad = [f for f in rc.checks(d) if f.code == "decode-latch"]
+        assert bool(bad) != ok
+    model = rc.selection()
+    link = [l for l in model.links if "latch" in l.reason]
+    assert link and link[0].terms[0][1] == "latch_path_ohm"
+    stages = model.blocks[1].table
+    assert np.allclose(stages.latch_path_min_ohm[stages.decode != ""], need, rtol=1e-12)
+
+
+def test_supply_above_rating_gets_a_logic_rail(catalog):
+    # towel rail: 11 to 16 V unregulated, above the counter's 15 V rating (4060-type datasheets): the counter
+    # runs from a regulator rail (logic.py), the rail count is 2 and the regulator's quiescent current stays
+    # after the timeout; the output, high at the rail, cannot turn a high-side switch at 16 V off, so a PNP
+    # at the rail drives a low-side N-MOSFET
+    topo = build_topology("rc-counter", load_brief(EXAMPLES / "towel_rail_boost.yaml"), catalog)
+    model = topo.selection()
+    assert len(model.blocks[0].table) and len(model.blocks[1].table) and model.rails == 2
+    ldo = catalog.part("ldo-micropower")
+    d = _rc_design(rt=470e3, ct=1e-6, stage=14, cascade=1, link=12)
+    plan = topo._plan(topo._counter(d))
+    assert plan.rail.regulator.id == ldo.id and plan.rail.nominal_v == 5.0 and plan.switch.kind == "inverted-n-mosfet"
+    assert topo.rails(d) == 2
+    bom = {b.refs: b for b in topo.bom(d)}
+    assert bom["U9"].part == ldo.id and bom["Q1"].part == "mosfet-n-logic-small" and bom["Q2"].part == "pnp-small"
+    after = topo.standby(d).after_a
+    latch = (5.0 - topo._vf()) / (topo.rs_ohm(470e3) + 470e3)
+    leak = catalog.part("pnp-small").value("iceo", "A") + catalog.part("mosfet-n-logic-small").value("idss", "A")
+    q = 2 * catalog.part(COUNTER).values("quiescent_typ", "A")[0]   # 0.04 uA at every listed supply
+    assert after == pytest.approx(q + latch + leak + ldo.value("quiescent_typ", "A"), rel=1e-9)
+    assert not [f for f in topo.checks(d) if f.severity == "violation"]
+    assert model.fixed_after_a == pytest.approx(leak + ldo.value("quiescent_typ", "A"))
+
+
+def test_large_dc_load_gets_a_p_mosfet_with_its_dissipation_check(catalog, tmp_path):
+    # propagator mat: 1.7 A, above the small PNP's 0.2 A: a P-MOSFET high side; its loss I²·R_DS(on) at the
+    # maximum junction temperature against p_tot derated linearly to 0 at Tj max (datasheet derating curve)
+    brief = load_brief(EXAMPLES / "propagator_mat.yaml")
+    topo = build_topology("crystal-counter", brief, catalog)
+    d = _xtal_design()
+    plan = topo._plan(topo._counter(d))
+    fet = catalog.part("mosfet-p-logic-power")
+    assert plan.switch.kind == "p-mosfet" and {b.refs: b for b in topo.bom(d)}["Q1"].part == fet.id
+    r_hot = 0.1 * (1 + 0.005 * (150 - 25))
+    loss, allowed = 1.7**2 * r_hot, 1.0 * (150 - 35) / (150 - 25)
+    assert plan.switch.notes and f"{loss * 1e3:.3g} mW" in plan.switch.notes[0]       # 470 mW
+    assert f"{allowed * 1e3:.3g} mW" in plan.switch.notes[0]                             # 920 mW
+    assert not [f for f in topo.checks(d) if f.code in ("load-switch", "output-sink") and f.severity == "violation"]
+    # a class with five times the on-resistance overheats: no switch works, the counter is dropped with the reason
+    hot = tmp_path / "hot.yaml"
+    hot.write_text("""parts:
+  - id: mosfet-p-logic-power
+    category: mosfet
+    description: hotter P-channel class
+    params:
+""" + "".join(f"      {k}: {{value: {v!r}, source: test}}\n" for k, v in {
+        "p_channel": 1, "vth_min": "1.0 V", "vth_typ": "1.7 V", "vth_max": "2.5 V", "vgs_on": "4.5 V",
+        "rds_on": "0.5 ohm", "rds_on_tempco": "0.5 %/K", "vgs_max": "20 V", "vds_max": "30 V", "id_max": "3 A",
+        "p_tot": "1 W", "tj_max": "150 degC", "idss": "1 uA", "cost": 0.12}.items()))
+    hot_topo = build_topology("crystal-counter", brief, load_catalog(extra=(hot,)))
+    model = hot_topo.selection()
+    assert model.blocks[1].table.empty
+    assert any("dissipates" in k and "above its" in k for k in model.blocks[0].dropped), model.blocks[0].dropped
+    # logic.py's low-side drivers never take the P-channel class: for 1.7 A no N-channel class fits
+    from tradeoff.errors import CatalogError
+    from tradeoff.topologies import logic
+    with pytest.raises(CatalogError, match="N-MOSFET"):
+        logic.output_mosfet(brief, catalog, logic.LogicRail(None, 12.0, 11.4, 12.6, 0.0, 0.0))
 
 
 def test_monte_carlo_reproducible_by_seed(rc, xtal):

@@ -3,14 +3,27 @@ counter's two on-chip inverters (`rc-counter`), or a 32.768 kHz crystal (`crysta
 
 The output of stage N goes high after 2^(N−1) oscillator periods (4060-type datasheets); only
 the stages the class brings out can be used (4 to 10 and 12 to 14). For longer delays a stage L
-(`link_stage`, normally 14) of each counter clocks the next one, so with `cascade` extra
-counters the output stage N of the last counter ends the timing at N_total = N + L·cascade,
-delay = 2^(N_total − 1)·T (the k-th falling edge of stage L comes after k·2^L periods).
-A diode from that output to the first counter's oscillator input stops the oscillator at the
-timeout (the latch); after it the supply carries the counters' quiescent current, the current
-the latch diode pushes through the oscillator's resistors, and the off-state leakage of the
-PNP that switches the load (it conducts while the output is low, i.e. during the timing). A
-power-on RC on the reset pins (or a push-button) starts the count from zero.
+(`link_stage`, normally 14) of each counter clocks the next one on its falling edge, so counter
+j (0 the first) counts floor(count/2^(L·j)) and its stage N shows bit N − 1 + L·j of the period
+count. One output (the last counter's stage N) ends the timing after 2^(N − 1 + L·cascade)
+periods; a diode-AND of two or three outputs (option `decode`, one small diode per output and a
+pull-up; common practice) ends it when all are high at once, first at count Σ 2^(bit) (binary
+counting), so delays between the powers of two are reachable.
+A diode from that output (or the AND node) to the first counter's oscillator input stops the
+oscillator at the timeout (the latch). After it the supply carries the counters' quiescent
+current, the latch current the diode pushes through the oscillator's resistors (through the
+pull-up too when decoded: all decoded outputs are high, their diodes block, so the pull-up
+carries only the latch current; while timing a low output sinks the pull-up current), the
+load switch's off-state leakage and the regulator's quiescent current. A power-on RC on the
+reset pins (or a push-button) starts the count from zero.
+
+Logic rail (tradeoff.topologies.logic): the counter runs from the supply when it is inside its
+rating (regulated or not: the count does not depend on VDD); otherwise from a regulator rail
+(two rails; its quiescent current stays after the timeout). Load switch, on while the output is
+low: a small PNP high side, or a P-MOSFET high side for loads above the PNP's rating (gate and
+drain ratings, I²·R_DS(on) against its derated dissipation); from a rail below the supply the
+output's high level cannot turn a high-side switch off, so a PNP at the rail drives a low-side
+N-MOSFET (logic.py's driver).
 
 RC oscillator (two inverters with threshold Vt, Rt, Ct and series resistor Rs ≈ 2·Rt; standard
 circuit analysis): T = Rt·Ct·F(Vt/VDD), F(v) = ln((1+v)/v) + ln((2−v)/(1−v)), F(1/2) = 2.197.
@@ -20,12 +33,14 @@ the corner search is told about.
 
 Crystal: f = 32768 Hz·(1 + tolerance + aging + β·(T − T0)²) with β < 0 about the turnover T0
 (crystal datasheets); T0 and T0 ± its spread are interior corner points of the ambient so the
-corner search finds the frequency peak. Delays are powers of two of 1/32768 s only.
+corner search finds the frequency peak. Delays are whole counts of 1/32768 s.
 """
 from __future__ import annotations
 
 import dataclasses
+import itertools
 import math
+import re
 from abc import abstractmethod
 from typing import TYPE_CHECKING, Mapping
 
@@ -34,6 +49,7 @@ import pandas as pd
 
 from tradeoff import eseries
 from tradeoff.analysis import Uncertain
+from tradeoff.errors import CatalogError, DesignError
 from tradeoff.selection import Block, Link, SelectionModel
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
@@ -48,7 +64,8 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "threshold_factor", "rc_period_s", "stage_factor", "crystal_period_s", "oscillator_netlist",
-    "RCCounter", "CrystalCounter", "RS_MIN_OHM", "RT_RANGE_OHM", "CT_MIN_F",
+    "RCCounter", "CrystalCounter", "RS_MIN_OHM", "RT_RANGE_OHM", "CT_MIN_F", "output_bit", "decoded_count",
+    "parse_decode", "decode_text", "LoadSwitch", "NODE_DROP_V", "DECODE_MAX_OUTPUTS",
 ]
 
 RT_RANGE_OHM = (10e3, 1e6)
@@ -77,6 +94,17 @@ STRAY_CAPACITANCE_F = 3e-12
 
 BASE_OVERDRIVE = 3.0
 """Base current of the PNP load switch over the minimum its hFE needs (common practice)."""
+
+INVERTER_BASE_OHM = 100e3
+"""Base resistor of the PNP that inverts the counter output to drive a low-side MOSFET gate [ohm] (common
+practice: it only has to supply the gate pull-down's microamperes)."""
+
+DECODE_MAX_OUTPUTS = 3
+"""Counter outputs a diode-AND decodes at most (common practice: two or three diodes and a pull-up)."""
+
+NODE_DROP_V = 0.2
+"""Largest drop of the diode-AND node below the rail while its pull-up carries the latch current [V]
+(common practice: keeps the latch input and the load switch's input clearly high)."""
 
 _RT = Role("r_timing", "resistor", *RT_RANGE_OHM, "oscillator timing resistor Rt")
 _CT = Role("c_timing", "capacitor", CT_MIN_F, CT_MAX_F, "oscillator timing capacitor Ct", ("film", "ceramic"))
@@ -136,10 +164,95 @@ def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, 
     return "\n".join([*lines, ".end", ""])
 
 
+# ---- decoded count ------------------------------------------------------------------------
+
+def output_bit(stage: int, counter_index: int, link_stage: int) -> int:
+    """Bit of the oscillator-period count that output `stage` of counter `counter_index` (0: the first)
+    shows: counter j counts floor(count / 2^(L·j)) (each earlier counter's stage L clocks it on its
+    falling edge), and its stage N is that count's bit N − 1, so bit N − 1 + L·j of the count."""
+    return stage - 1 + link_stage * counter_index
+
+
+def decoded_count(bits) -> int:
+    """Oscillator periods until every output showing one of `bits` is high at once for the first
+    time: the smallest count with those bits set, Σ 2^b (binary counting)."""
+    return sum(1 << int(b) for b in set(bits))
+
+
+def parse_decode(text: str) -> tuple[tuple[int, int], ...]:
+    """Option `decode` ('U1.Q4+U2.Q12': counter U1 output Q4 and counter U2 output Q12) as
+    (counter index from 0, stage) pairs; DesignError naming the option when malformed."""
+    out = []
+    for item in str(text).split("+"):
+        match = re.fullmatch(r"\s*U(\d+)\.Q(\d+)\s*", item)
+        if not match or int(match.group(1)) < 1:
+            raise DesignError.single("design", "options.decode", f"got {text!r}; accepted: outputs joined by '+', "
+                                     "each 'U<counter from 1>.Q<stage>', e.g. 'U2.Q12+U2.Q13'")
+        out.append((int(match.group(1)) - 1, int(match.group(2))))
+    return tuple(out)
+
+
+def decode_text(outputs) -> str:
+    """The `decode` option naming (counter index from 0, stage) pairs."""
+    return "+".join(f"U{j + 1}.Q{n}" for j, n in outputs)
+
+
+# ---- load switch -------------------------------------------------------------------------
+
+@dataclasses.dataclass(frozen=True)
+class LoadSwitch:
+    """How the counter output, low while timing, switches the load.
+
+    kind: 'pnp' (PNP high side from the supply), 'p-mosfet' (P-MOSFET high side) or 'inverted-n-mosfet'
+    (a PNP whose emitter sits at the logic rail turns a low-side N-MOSFET on: needed when the counter
+    runs from a rail below the supply, whose high level cannot turn a high-side switch off);
+    lines: its parts; base_ohm: resistor from the counter output (or diode-AND node) to the PNP base
+    [ohm], base_pnp: that PNP (None: a MOSFET gate, no DC drive current); rail_a: current it draws
+    from the logic rail while on besides the base current (the gate pull-down) [A]; leak_a: its
+    off-state leakage after the timeout [A]; problems: why it cannot work; notes: info findings.
+    """
+
+    kind: str
+    lines: tuple[BomLine, ...]
+    base_ohm: float
+    base_pnp: "Part | None"
+    rail_a: float
+    leak_a: float
+    problems: tuple[str, ...]
+    notes: tuple[str, ...] = ()
+
+    @property
+    def cost(self) -> float:
+        """Indicative cost of its parts [EUR]."""
+        return sum(b.cost for b in self.lines)
+
+    def base_a(self, rail_v: float, low_v: float, vbe: str = "vbe_on_typ") -> float:
+        """Base current the counter output (or node) at `low_v` [V] sinks from a `rail_v` [V] rail [A]."""
+        if self.base_pnp is None:
+            return 0.0
+        return max(rail_v - self.base_pnp.value(vbe, "V") - low_v, 0.0) / self.base_ohm
+
+
 # ---- shared counter logic -----------------------------------------------------------------
 
+@dataclasses.dataclass(frozen=True)
+class _Plan:
+    """A counter class's logic rail and load switch, and why the counter cannot be built (empty: it can)."""
+
+    rail: logic.LogicRail
+    switch: LoadSwitch
+    rail_problems: tuple[str, ...] = ()
+    switch_problems: tuple[str, ...] = ()
+
+    @property
+    def problems(self) -> tuple[str, ...]:
+        """Every reason the counter cannot be built with this plan."""
+        return self.rail_problems + self.switch_problems
+
+
 class _CounterTimer(Topology):
-    """Common base of the counter topologies: counter chain, stage choice, latch, reset, load switch.
+    """Common base of the counter topologies: counter chain, stage or decoded outputs, latch, reset,
+    logic rail and load switch.
 
     A subclass supplies its oscillator: roles, spread quantities, period, parts, currents, checks
     and the oscillator block of the optimiser tables.
@@ -159,19 +272,27 @@ class _CounterTimer(Topology):
         """Oscillator parts."""
 
     @abstractmethod
-    def _osc_currents(self, design: Design) -> tuple[float, float]:
-        """Oscillator supply current while running, and the latch current after the timeout [A] at nominal supply."""
+    def _osc_running_a(self, design: Design, rail_v: float) -> float:
+        """Oscillator supply current while running on a `rail_v` [V] rail [A]."""
+
+    @abstractmethod
+    def _latch_path_ohm(self, design: Design) -> float:
+        """Resistance the latch current flows through from the oscillator input [ohm]."""
 
     @abstractmethod
     def _osc_checks(self, design: Design) -> list[Finding]:
         """Oscillator design rules."""
 
     @abstractmethod
-    def _osc_block(self, counters: list["Part"], dropped: dict[str, int]) -> pd.DataFrame:
+    def _osc_block(self, counters: list["Part"], plans: list[_Plan], dropped: dict[str, int]) -> pd.DataFrame:
         """Oscillator block rows: period lo/nom/hi [s], cost, parts, currents, role and option columns."""
 
+    def _stage_latch_a(self, rail_v: float, pullup_ohm: float) -> float:
+        """Latch current the stage block carries [A] (the RC oscillator's depends on Rt: its block carries it)."""
+        return 0.0
+
     _OSC_OPTIONS: tuple[str, ...] = ()
-    option_units = {"stage": None, "cascade": None, "link_stage": None}
+    option_units = {"stage": None, "cascade": None, "link_stage": None, "decode": None}
     option_parts = {"counter": "counter"}
 
     # -- counter chain
@@ -186,14 +307,24 @@ class _CounterTimer(Topology):
         return (int(design.options.get("stage", last)), int(design.options.get("cascade", 0)),
                 int(design.options.get("link_stage", last)))
 
-    def n_total(self, design: Design) -> int:
-        """Binary stages from the oscillator to the output: N + L·cascade."""
-        stage, cascade, link = self._chain(design)
-        return stage + cascade * link
+    def outputs(self, design: Design) -> tuple[tuple[int, int], ...]:
+        """(counter index from 0, stage) of each output ending the timing: the decoded outputs, else
+        the last counter's output stage."""
+        stage, cascade, _ = self._chain(design)
+        decode = design.options.get("decode")
+        return parse_decode(decode) if decode else ((cascade, stage),)
+
+    def _decoded(self, design: Design) -> bool:
+        return bool(design.options.get("decode"))
+
+    def periods(self, design: Design) -> int:
+        """Oscillator periods from reset to the timeout: Σ 2^(N − 1 + L·j) over the outputs."""
+        link = self._chain(design)[2]
+        return decoded_count(output_bit(n, j, link) for j, n in self.outputs(design))
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
-        """2^(N_total − 1) oscillator periods [s]."""
-        return self.period_s(design, x) * float(stage_factor(self.n_total(design)))
+        """periods · oscillator period [s]."""
+        return self.period_s(design, x) * float(self.periods(design))
 
     def uncertain(self, design: Design) -> dict[str, Uncertain]:
         """The oscillator's spread quantities (the counter itself divides exactly)."""
@@ -203,35 +334,171 @@ class _CounterTimer(Topology):
         return self.catalog.part(self._latch_diode().part).value("vf", "V")
 
     def _latch_diode(self) -> BomLine:
-        return diode(self, "D2", "latch: the output stage holds the oscillator input high after the timeout")
+        return diode(self, "D2", "latch: the output holds the oscillator input high after the timeout")
 
-    # -- load switch: PNP high side, on while the counter output is low (timing)
+    # -- logic rail and load switch
     def _load_max_a(self) -> float:
-        load, s = self.brief.load, self.brief.supply
-        return s.max_v / load.coil_resistance_ohm if load.kind == "relay" else load.current_a
+        return logic.load_current_max(self.brief)
 
-    def _pnp(self) -> "Part":
-        return logic.cheapest(self.catalog, "pnp", lambda p: p.value("vceo_max", "V") >= self.brief.supply.max_v,
-                              f"a PNP rated {fq(self.brief.supply.max_v, 'V')} to switch the load")
+    def _flyback(self) -> list[BomLine]:
+        if self.brief.load.kind != "relay":
+            return []
+        return [diode(self, "D1", "flyback diode across the coil", logic.DIODE_REVERSE_FACTOR)]
 
-    def _base_resistor_ohm(self) -> float:
-        """Largest standard base resistor giving BASE_OVERDRIVE times the base current hFE_min needs at minimum supply."""
-        pnp, s = self._pnp(), self.brief.supply
+    def _pnp_switch(self) -> LoadSwitch:
+        """Small PNP high side: base resistor for BASE_OVERDRIVE times the base current hFE_min needs at
+        minimum supply with the output, or a diode-AND node, one diode drop above ground."""
+        s, load = self.brief.supply, self.brief.load
+        try:
+            pnp = logic.cheapest(self.catalog, "pnp", lambda p: p.value("vceo_max", "V") >= s.max_v,
+                                 f"a PNP rated {fq(s.max_v, 'V')} to switch the load")
+        except CatalogError as exc:
+            return LoadSwitch("pnp", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
         need_a = BASE_OVERDRIVE * self._load_max_a() / pnp.value("hfe_min", "")
-        target = (s.min_v - pnp.value("vbe_on_max", "V")) / need_a
-        below = eseries.values(self.brief.series.resistor, target / 10, target)
-        return float(below[-1])
-
-    def _fixed_bom(self) -> list[BomLine]:
-        """Parts that do not depend on the chosen values: reset network, latch diode, load switch."""
-        pnp, rb = self._pnp(), self._base_resistor_ohm()
-        lines = [*start_bom(self, "reset", "R10", "C10", "D3"), self._latch_diode(),
-                 BomLine("Q1", pnp.id, pnp.description, 1, pnp.cost,
+        target = (s.min_v - pnp.value("vbe_on_max", "V") - self._vf()) / need_a
+        rb = float(eseries.values(self.brief.series.resistor, target / 10, target)[-1])
+        problems = []
+        if self._load_max_a() > pnp.value("ic_max", "A"):
+            problems.append(f"the load needs {fq(self._load_max_a(), 'A')}, above the {pnp.id} rating "
+                            f"{fq(pnp.value('ic_max', 'A'), 'A')}")
+        if load.kind == "relay" and s.min_v - pnp.value("vce_sat", "V") < load.must_operate_frac * load.coil_voltage_v:
+            problems.append(f"the coil gets {fq(s.min_v - pnp.value('vce_sat', 'V'), 'V')} at minimum supply; it "
+                            f"needs {fq(load.must_operate_frac * load.coil_voltage_v, 'V')}")
+        lines = (BomLine("Q1", pnp.id, pnp.description, 1, pnp.cost,
                          "high-side load switch, on while the counter output is low (timing)"),
-                 fixed_part(self, "resistor", rb, "R11", "PNP base resistor from the counter output")]
-        if self.brief.load.kind == "relay":
-            lines.append(diode(self, "D1", "flyback diode across the coil", logic.DIODE_REVERSE_FACTOR))
-        return lines
+                 fixed_part(self, "resistor", rb, "R11", "PNP base resistor from the counter output"),
+                 *self._flyback())
+        return LoadSwitch("pnp", lines, rb, pnp, 0.0, pnp.value("iceo", "A"), tuple(problems))
+
+    def _pmos_switch(self) -> LoadSwitch:
+        """P-MOSFET high side, gate driven from the counter output through a gate resistor: on while the
+        output is low. Rules: drain and gate ratings over the supply maximum, |VGS| at the minimum supply
+        at least the R_DS(on) rating condition, I²·R_DS(on) at the maximum junction temperature within
+        the dissipation rating derated linearly from 25 degC to Tj max at the maximum ambient
+        (datasheets' derating curve), and for a relay the coil's must-operate voltage."""
+        s, load, i = self.brief.supply, self.brief.load, self._load_max_a()
+        try:
+            fet = logic.cheapest(self.catalog, "mosfet", lambda p: logic.p_channel(p)
+                                 and p.value("vds_max", "V") >= s.max_v and p.value("vgs_max", "V") >= s.max_v
+                                 and p.value("id_max", "A") >= i,
+                                 f"a P-channel MOSFET for {fq(i, 'A')} with drain and gate rated {fq(s.max_v, 'V')}")
+        except CatalogError as exc:
+            return LoadSwitch("p-mosfet", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
+        problems = []
+        vgs = s.min_v - self._vf()
+        if vgs < fet.value("vgs_on", "V"):
+            problems.append(f"the {fet.id} gate gets {fq(vgs, 'V')} at minimum supply, below the "
+                            f"{fq(fet.value('vgs_on', 'V'), 'V')} its R_DS(on) is rated at")
+        tj = fet.value("tj_max", "degC")
+        r_hot = fet.value("rds_on", "ohm") * (1.0 + fet.value("rds_on_tempco", "1/K") * (tj - TEMPCO_REFERENCE_C))
+        loss = i * i * r_hot
+        allowed = fet.value("p_tot", "W") * max(tj - self.brief.ambient.max_c, 0.0) / (tj - TEMPCO_REFERENCE_C)
+        if loss > allowed:
+            problems.append(f"the {fet.id} dissipates {fq(loss, 'W')} (I²·R_DS(on) at {fq(i, 'A')}, R_DS(on) "
+                            f"{fq(r_hot, 'ohm')} at {fq(tj, 'degC')}), above its {fq(allowed, 'W')} rating at "
+                            f"{fq(self.brief.ambient.max_c, 'degC')} ambient")
+        if load.kind == "relay" and s.min_v - i * r_hot < load.must_operate_frac * load.coil_voltage_v:
+            problems.append(f"the coil gets {fq(s.min_v - i * r_hot, 'V')} at minimum supply; it needs "
+                            f"{fq(load.must_operate_frac * load.coil_voltage_v, 'V')}")
+        lines = (BomLine("Q1", fet.id, fet.description, 1, fet.cost,
+                         "high-side load switch, on while the counter output is low (timing)"),
+                 fixed_part(self, "resistor", logic.GATE_RESISTOR_OHM, "R11", "gate resistor from the counter output"),
+                 *self._flyback())
+        note = (f"{fet.id} dissipates at most {fq(loss, 'W')} (I²·R_DS(on) with R_DS(on) at {fq(tj, 'degC')}); "
+                f"allowed {fq(allowed, 'W')} at {fq(self.brief.ambient.max_c, 'degC')} ambient")
+        return LoadSwitch("p-mosfet", lines, 1.0, None, 0.0, fet.value("idss", "A"), tuple(problems), (note,))
+
+    def _inverted_switch(self, rail: logic.LogicRail) -> LoadSwitch:
+        """A small PNP with its emitter at the logic rail, on while the counter output is low, drives the
+        gate of logic.py's low-side N-MOSFET driver (gate drive: the rail less the PNP's VCE(sat))."""
+        try:
+            pnp = logic.cheapest(self.catalog, "pnp", lambda p: p.value("vceo_max", "V") >= rail.max_v,
+                                 f"a PNP rated {fq(rail.max_v, 'V')} for the gate drive")
+        except CatalogError as exc:
+            return LoadSwitch("inverted-n-mosfet", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
+        drop = pnp.value("vce_sat", "V")
+        gate = dataclasses.replace(rail, nominal_v=rail.nominal_v - drop, min_v=rail.min_v - drop,
+                                   max_v=rail.max_v - drop)
+        problems = tuple(f.message for f in logic.output_driver_checks(self.brief, self.catalog, gate)
+                         if f.severity == "violation")
+        if problems:
+            return LoadSwitch("inverted-n-mosfet", (), INVERTER_BASE_OHM, pnp, 0.0, 0.0, problems)
+        fet = logic.output_mosfet(self.brief, self.catalog, gate)
+        lines = (BomLine("Q2", pnp.id, pnp.description, 1, pnp.cost,
+                         "inverter at the logic rail: on while the counter output is low, drives Q1's gate"),
+                 fixed_part(self, "resistor", INVERTER_BASE_OHM, "R11", "inverter base resistor from the counter output"),
+                 *logic.output_driver_bom(self.brief, self.catalog, gate, first_r=13))
+        return LoadSwitch("inverted-n-mosfet", lines, INVERTER_BASE_OHM, pnp, gate.nominal_v / logic.GATE_PULLDOWN_OHM,
+                          pnp.value("iceo", "A") + fet.value("idss", "A"), ())
+
+    def _switch_for(self, rail: logic.LogicRail) -> LoadSwitch:
+        """The cheapest load switch that works from `rail`: high side (PNP, else P-MOSFET) when the counter
+        runs from the supply, the inverted N-MOSFET when it runs from a lower rail; else one with every reason."""
+        if rail.regulator is not None:
+            return self._inverted_switch(rail)
+        options = [self._pnp_switch(), self._pmos_switch()]
+        working = [o for o in options if not o.problems]
+        if working:
+            return min(working, key=lambda o: o.cost)
+        return dataclasses.replace(options[0], problems=tuple(p for o in options for p in o.problems))
+
+    @staticmethod
+    def _rail_text(rail: logic.LogicRail) -> str:
+        return "counter on the supply" if rail.regulator is None else \
+            f"{fq(rail.nominal_v, 'V')} rail from {rail.regulator.id}"
+
+    def _plan(self, counter: "Part") -> _Plan:
+        """Rail and switch for `counter`: the supply itself when inside the counter's rating (a CMOS counter
+        needs no regulation); else the regulator rail, among those whose switch works, with the lowest
+        quiescent current, then the lowest voltage (least latch and oscillator current), then cost."""
+        rails, reasons = logic.rail_options(self.brief, self.catalog, counter.value("supply_min", "V"),
+                                            counter.value("supply_max", "V"), regulated_only=False, every_output=True)
+        direct = [r for r in rails if r.regulator is None]
+        planned = [(r, self._switch_for(r)) for r in direct or rails]
+        working = [(r, sw) for r, sw in planned if not sw.problems]
+        if working:
+            rail, switch = min(working, key=lambda p: (p[0].quiescent_typ_a, p[0].nominal_v, p[0].regulator.cost
+                                                       if p[0].regulator else 0.0))
+            return _Plan(rail, switch)
+        if not planned:
+            s = self.brief.supply
+            rail = logic.LogicRail(None, s.nominal_v, s.min_v, s.max_v, 0.0, 0.0)
+            return _Plan(rail, self._pnp_switch(), (supply_problem(self, counter) or "no logic rail fits",
+                                                    *(f"logic rail: {r}" for r in reasons)))
+        return _Plan(planned[0][0], planned[0][1],
+                     switch_problems=tuple(f"{self._rail_text(r)}: {p}" for r, sw in planned for p in sw.problems))
+
+    # -- diode-AND decoding
+    def _pullup_ohm(self, counter: "Part", plan: _Plan) -> float | None:
+        """Pull-up of the diode-AND node [ohm]: the smallest standard value whose current (V − Vf)/Rp plus the
+        switch's base current stays within the counter output's sink current at both rail limits (one
+        output may sink it all); None when the base current alone leaves no room."""
+        vf, need = self._vf(), 0.0
+        for v in (plan.rail.min_v, plan.rail.max_v):
+            room = on_supply(counter, "output_supply", "output_sink", "A", v) - plan.switch.base_a(v, vf, "vbe_on_min")
+            if room <= 0:
+                return None
+            need = max(need, (v - vf) / room)
+        return float(eseries.values(self.brief.series.resistor, need, need * 10)[0])
+
+    def _latch_path_min_ohm(self, plan: _Plan, pullup_ohm: float) -> float:
+        """Smallest latch-path resistance that keeps the node within NODE_DROP_V of the rail maximum while
+        the pull-up carries the latch current: (Vmax − Vf)·Rp/(Rp + R) <= NODE_DROP_V [ohm]."""
+        return pullup_ohm * (plan.rail.max_v - self._vf() - NODE_DROP_V) / NODE_DROP_V
+
+    def _decode_bom(self, design: Design, pullup_ohm: float) -> list[BomLine]:
+        outs = self.outputs(design)
+        d = self._latch_diode()
+        refs = ", ".join(f"D{11 + i}" for i in range(len(outs)))
+        return [BomLine(refs, d.part, d.value, len(outs), d.unit_cost,
+                        f"diode-AND of {decode_text(outs)}: the node goes high when all are high"),
+                fixed_part(self, "resistor", pullup_ohm, "R12", "pull-up of the diode-AND node")]
+
+    # -- parts and currents
+    def _fixed_bom(self, plan: _Plan) -> list[BomLine]:
+        """Parts that do not depend on the chosen values: reset network, latch diode, load switch, regulator."""
+        return [*start_bom(self, "reset", "R10", "C10", "D3"), self._latch_diode(), *plan.switch.lines,
+                *logic.regulator_bom(self.brief, self.catalog, plan.rail, "U9", "C30, C31")]
 
     def _counter_bom(self, counter: "Part", cascade: int, link: int = 0) -> list[BomLine]:
         n = 1 + cascade
@@ -241,54 +508,99 @@ class _CounterTimer(Topology):
         return [BomLine(refs, counter.id, counter.description, n, counter.cost, note),
                 dataclasses.replace(cap, refs=", ".join(f"C{i + 20}" for i in range(n)), quantity=n)]
 
+    def _design_pullup(self, design: Design, counter: "Part", plan: _Plan) -> float | None:
+        return self._pullup_ohm(counter, plan) if self._decoded(design) else None
+
     def bom(self, design: Design) -> list[BomLine]:
-        """Oscillator parts, counters with decoupling, reset network, latch diode, PNP load switch; the coil is the load."""
-        return [*self._osc_bom(design), *self._counter_bom(self._counter(design), self._chain(design)[1],
-                                                           self._chain(design)[2]),
-                *self._fixed_bom()]
+        """Oscillator parts, counters with decoupling, diode-AND (if decoded), reset network, latch diode,
+        load switch, regulator (if any); the relay coil is the load."""
+        counter = self._counter(design)
+        plan = self._plan(counter)
+        _, cascade, link = self._chain(design)
+        pullup = self._design_pullup(design, counter, plan)
+        decode = self._decode_bom(design, pullup) if pullup is not None else []
+        return [*self._osc_bom(design), *self._counter_bom(counter, cascade, link), *decode, *self._fixed_bom(plan)]
 
-    def _driver_currents(self) -> tuple[float, float]:
-        """PNP base current during the timing and its off-state leakage after it [A] at nominal supply."""
-        pnp, v = self._pnp(), self.brief.supply.nominal_v
-        return (v - pnp.value("vbe_on_typ", "V")) / self._base_resistor_ohm(), pnp.value("iceo", "A")
+    def _quiescent(self, counter: "Part", rail_v: float) -> float:
+        return on_supply(counter, "quiescent_supply", "quiescent_typ", "A", rail_v)
 
-    def _quiescent(self, counter: "Part") -> float:
-        return on_supply(counter, "quiescent_supply", "quiescent_typ", "A", self.brief.supply.nominal_v)
+    def _output_currents(self, plan: _Plan, counters: int, counter: "Part", pullup_ohm: float | None
+                         ) -> tuple[float, float]:
+        """Counters' quiescent current plus, during timing, the switch's base current and the diode-AND
+        pull-up current (the node one diode drop above the low output) [A] at nominal rail."""
+        v, vf = plan.rail.nominal_v, self._vf()
+        q = counters * self._quiescent(counter, v)
+        if pullup_ohm is None:
+            return q + plan.switch.base_a(v, 0.0), q
+        return q + plan.switch.base_a(v, vf) + (v - vf) / pullup_ohm, q
 
     def standby(self, design: Design) -> Standby:
-        """During: load, base drive, oscillator, counters; after: counters, latch current, PNP leakage (typical)."""
-        counters = (1 + self._chain(design)[1]) * self._quiescent(self._counter(design))
-        running, latched = self._osc_currents(design)
-        base, leak = self._driver_currents()
-        return Standby(self.brief.load.current_a + base + running + counters, counters + latched + leak)
+        """During: load, switch drive, oscillator, counters, diode-AND pull-up, regulator; after: counters,
+        latch current (through the pull-up when decoded: all outputs high, the AND diodes block), switch
+        leakage, regulator (typical values)."""
+        counter = self._counter(design)
+        plan = self._plan(counter)
+        pullup = self._design_pullup(design, counter, plan)
+        during, after = self._output_currents(plan, 1 + self._chain(design)[1], counter, pullup)
+        v = plan.rail.nominal_v
+        latch = (v - self._vf()) / (self._latch_path_ohm(design) + (pullup or 0.0))
+        rail_q = plan.rail.quiescent_typ_a
+        return Standby(self.brief.load.current_a + plan.switch.rail_a + self._osc_running_a(design, v) + during
+                       + rail_q, after + latch + plan.switch.leak_a + rail_q)
+
+    def rails(self, design: Design) -> int:
+        """1 when the counter runs from the supply, 2 with a regulator rail."""
+        return self._plan(self._counter(design)).rail.rails
 
     # -- design rules
-    def _driver_problems(self, counter: "Part") -> list[str]:
-        """Why the PNP load switch cannot work: current rating, coil voltage, counter output sink current."""
-        pnp, s, load = self._pnp(), self.brief.supply, self.brief.load
-        out = []
-        if self._load_max_a() > pnp.value("ic_max", "A"):
-            out.append(f"the load needs {fq(self._load_max_a(), 'A')}, above the {pnp.id} rating "
-                       f"{fq(pnp.value('ic_max', 'A'), 'A')}")
-        if load.kind == "relay" and s.min_v - pnp.value("vce_sat", "V") < load.must_operate_frac * load.coil_voltage_v:
-            out.append(f"the coil gets {fq(s.min_v - pnp.value('vce_sat', 'V'), 'V')} at minimum supply; it needs "
-                       f"{fq(load.must_operate_frac * load.coil_voltage_v, 'V')}")
-        rb = self._base_resistor_ohm()
-        for v in (s.min_v, s.max_v):
-            base = (v - pnp.value("vbe_on_min", "V")) / rb
+    def _sink_problems(self, counter: "Part", plan: _Plan, pullup_ohm: float | None) -> list[str]:
+        """Why the counter output cannot sink the switch's base current (and the pull-up's) at the rail limits."""
+        out, low = [], (0.0 if pullup_ohm is None else self._vf())
+        for v in (plan.rail.min_v, plan.rail.max_v):
+            draw = plan.switch.base_a(v, low, "vbe_on_min") + (0.0 if pullup_ohm is None else (v - low) / pullup_ohm)
             sink = on_supply(counter, "output_supply", "output_sink", "A", v)
-            if base > sink:
-                out.append(f"the PNP base current {fq(base, 'A')} at {fq(v, 'V')} exceeds the {counter.id} output's "
-                           f"{fq(sink, 'A')} sink current")
+            if draw > sink * (1 + 1e-9):
+                out.append(f"the output must sink {fq(draw, 'A')} at {fq(v, 'V')} (switch base"
+                           f"{'' if pullup_ohm is None else ' and diode-AND pull-up'}), above the {counter.id} "
+                           f"output's {fq(sink, 'A')}")
+        return out
+
+    def _decode_checks(self, design: Design, counter: "Part", plan: _Plan) -> list[Finding]:
+        outs, (_, cascade, link) = self.outputs(design), self._chain(design)
+        out = []
+        if len(outs) > DECODE_MAX_OUTPUTS:
+            out.append(Finding("violation", "decode", f"{len(outs)} decoded outputs; accepted: 2 to "
+                                                      f"{DECODE_MAX_OUTPUTS} (one diode each)"))
+        for j, n in outs:
+            if j > cascade:
+                out.append(Finding("violation", "decode", f"U{j + 1}.Q{n}: the chain has {cascade + 1} counter(s); "
+                                                          f"accepted: U1 to U{cascade + 1}"))
+        pullup = self._pullup_ohm(counter, plan)
+        if pullup is None:
+            return out + [Finding("violation", "decode", "the switch's base current leaves the counter output no "
+                                                         "sink current for a diode-AND pull-up")]
+        v, vf = plan.rail.max_v, self._vf()
+        drop = (v - vf) * pullup / (pullup + self._latch_path_ohm(design))
+        if drop > NODE_DROP_V * (1 + 1e-9):
+            out.append(Finding("violation", "decode-latch",
+                               f"the latch current through the {fq(pullup, 'ohm')} pull-up drops the diode-AND node "
+                               f"{fq(drop, 'V')} below the rail; the latch and the switch need it within "
+                               f"{fq(NODE_DROP_V, 'V')} (latch path {fq(self._latch_path_ohm(design), 'ohm')}, needs "
+                               f"{fq(self._latch_path_min_ohm(plan, pullup), 'ohm')})"))
+        out.append(Finding("info", "decode", f"count {self.periods(design)} = Σ 2^(N−1+{link}·j) over "
+                                             f"{decode_text(outs)}; pull-up {fq(pullup, 'ohm')}"))
         return out
 
     def checks(self, design: Design) -> list[Finding]:
-        """Supply rating, stage brought out, cascade length, load switch, latch, power-on reset, oscillator."""
+        """Rail, stages brought out, cascade length, decoding, load switch, output sink, latch, reset, oscillator."""
         counter = self._counter(design)
+        plan = self._plan(counter)
         stage, cascade, link = self._chain(design)
-        out = [Finding("violation", "supply-range", p) for p in [supply_problem(self, counter)] if p]
+        out = [Finding("violation", "rail", p) for p in plan.rail_problems]
+        out += [Finding("violation", "load-switch", p) for p in plan.switch_problems]
         outs = [int(v) for v in counter.values("stages_out", "")]
-        for what, n in (("stage", stage), ("link_stage", link if cascade else stage)):
+        used = [("stage", n) for _, n in self.outputs(design)] + ([("link_stage", link)] if cascade else [])
+        for what, n in used:
             if n not in outs:
                 out.append(Finding("violation", what, f"{what} {n} is not brought out on {counter.id}; "
                                                       f"accepted: {', '.join(map(str, outs))}"))
@@ -296,109 +608,181 @@ class _CounterTimer(Topology):
         if not 0 <= cascade < most:
             out.append(Finding("violation", "cascade", f"cascade {cascade} needs {cascade + 1} counters; "
                                                        f"accepted: 0 to {most - 1}"))
-        out += [Finding("violation", "load-switch", p) for p in self._driver_problems(counter)]
-        vt_max = counter.value("vt_max", "")
-        s = self.brief.supply
-        if s.min_v - self._vf() < vt_max * s.min_v:
+        pullup = self._design_pullup(design, counter, plan)
+        if self._decoded(design):
+            out += self._decode_checks(design, counter, plan)
+        out += [Finding("violation", "output-sink", p) for p in self._sink_problems(counter, plan, pullup)]
+        out += [Finding("info", "load-switch", n) for n in plan.switch.notes]
+        if plan.rail.regulator is not None:
+            out.append(Finding("info", "rail", f"{self._rail_text(plan.rail)}: the supply exceeds the counter's "
+                                               f"rating; the regulator draws {fq(plan.rail.quiescent_typ_a, 'A')} "
+                                               "after the timeout too"))
+        vt_max, r = counter.value("vt_max", ""), plan.rail
+        high = r.min_v - self._vf() - (NODE_DROP_V if pullup is not None else 0.0)
+        if high < vt_max * r.min_v:
             out.append(Finding("violation", "latch", f"the latch diode leaves the oscillator input at "
-                                                     f"{fq(s.min_v - self._vf(), 'V')}, below the highest threshold "
-                                                     f"{fq(vt_max * s.min_v, 'V')} at minimum supply"))
+                                                     f"{fq(high, 'V')}, below the highest threshold "
+                                                     f"{fq(vt_max * r.min_v, 'V')} at minimum rail"))
         out += start_checks(self, "reset", 1.0 - vt_max, counter.value("supply_min", "V"),
                             counter.value("reset_pulse_min", "s"))
         out += self._osc_checks(design)
         out.append(Finding("info", "quiescent", f"{counter.id}: standby uses the typical quiescent current "
-                           f"{fq(self._quiescent(counter), 'A')} per counter; the datasheet maximum is "
-                           f"{fq(on_supply(counter, 'quiescent_supply', 'quiescent_max', 'A', s.nominal_v), 'A')}"))
+                           f"{fq(self._quiescent(counter, r.nominal_v), 'A')} per counter; the datasheet maximum is "
+                           f"{fq(on_supply(counter, 'quiescent_supply', 'quiescent_max', 'A', r.nominal_v), 'A')}"))
         return out
 
     # -- optimiser tables
-    def _stage_block(self, counters: list["Part"], dropped: dict[str, int]) -> pd.DataFrame:
-        """Every (counter class, output stage, cascade) with its factor 2^(N_total − 1)."""
+    def _chains(self, outs: list[int]):
+        """Every (cascade, link stage, bit set) the chain can decode, each bit set once, first with the
+        fewest counters (the same count with more counters only adds parts): a single bit is a plain
+        output stage; two or three bits a diode-AND. Yields (cascade, link, {bit: (counter index, stage)})."""
         most = int(self.entry.value("max_counters", ""))
+        seen: set[tuple[int, ...]] = set()
+        for cascade in range(most):
+            for link in sorted(outs, reverse=True) if cascade else [max(outs)]:
+                avail: dict[int, tuple[int, int]] = {}
+                for j in range(cascade + 1):
+                    for n in outs:
+                        avail.setdefault(output_bit(n, j, link), (j, n))
+                bits = sorted(avail)
+                for size in range(1, DECODE_MAX_OUTPUTS + 1):
+                    for combo in itertools.combinations(bits, size):
+                        if combo not in seen:
+                            seen.add(combo)
+                            yield cascade, link, [avail[b] for b in combo], decoded_count(combo)
+
+    def _stage_block(self, counters: list["Part"], plans: list[_Plan], factor_range: tuple[float, float],
+                     period_s: float | None, dropped: dict[str, int]) -> pd.DataFrame:
+        """Every (counter class, outputs, cascade, link) with its exact factor (periods to the timeout)
+        inside `factor_range`, the only factors the oscillator block can bring into the band; for a
+        fixed nominal period `period_s` [s] the reason for the others names the nearest delays."""
         rows = []
-        for index, counter in enumerate(counters):
+        lo, hi = factor_range
+        diode_cost = self._latch_diode().unit_cost
+        for index, (counter, plan) in enumerate(zip(counters, plans)):
             outs = [int(v) for v in counter.values("stages_out", "")]
             lines = self._counter_bom(counter, 0)
-            seen = set()
-            for cascade in range(most):
+            pullup = self._pullup_ohm(counter, plan)
+            if pullup is not None and self._sink_problems(counter, plan, pullup):
+                pullup = None
+            rp_cost = 0.0 if pullup is None else fixed_part(self, "resistor", pullup, "R12", "pull-up").unit_cost
+            path_min = 0.0 if pullup is None else self._latch_path_min_ohm(plan, pullup)
+            v = plan.rail.nominal_v
+            out_of_range = no_pullup = 0
+            below, above = 0, math.inf
+            for cascade, link, chosen, count in self._chains(outs):
+                if not lo <= count <= hi:
+                    out_of_range += 1
+                    below, above = (max(below, count), above) if count < lo else (below, min(above, count))
+                    continue
+                decoded = len(chosen) > 1
+                if decoded and pullup is None:
+                    no_pullup += 1
+                    continue
                 n = 1 + cascade
-                for link in sorted(outs, reverse=True) if cascade else [max(outs)]:
-                    for stage in outs:
-                        n_total = stage + link * cascade
-                        if n_total in seen:   # same delay as a row with no more counters: dominated
-                            continue
-                        seen.add(n_total)
-                        factor = float(stage_factor(n_total))
-                        rows.append(dict(delay_lo=factor, delay_nom=factor, delay_hi=factor,
-                                         cost=n * sum(b.unit_cost for b in lines), placements=n * len(lines),
-                                         lines=len(lines), during_a=n * self._quiescent(counter),
-                                         after_a=n * self._quiescent(counter), counter=counter.id, stage=stage,
-                                         cascade=cascade, link_stage=link, counter_index=float(index)))
+                during, after = self._output_currents(plan, n, counter, pullup if decoded else None)
+                after += self._stage_latch_a(v, pullup if decoded else 0.0)
+                extra_cost = len(chosen) * diode_cost + rp_cost if decoded else 0.0
+                rows.append(dict(delay_lo=float(count), delay_nom=float(count), delay_hi=float(count),
+                                 cost=n * sum(b.unit_cost for b in lines) + extra_cost,
+                                 placements=n * len(lines) + (len(chosen) + 1 if decoded else 0),
+                                 lines=len(lines) + (2 if decoded else 0), during_a=during, after_a=after,
+                                 counter=counter.id, stage=0 if decoded else chosen[0][1], cascade=cascade,
+                                 link_stage=link, decode=decode_text(chosen) if decoded else "",
+                                 counter_index=float(index), latch_path_min_ohm=path_min if decoded else 0.0))
+            near = [fq(c * period_s, "s") for c in (below, above) if period_s and 0 < c < math.inf]
+            drop_count(dropped, f"{counter.id}: output sets whose count no oscillator candidate can bring into the "
+                                "band" + (f" (nearest nominal delays {' and '.join(near)})" if near else ""),
+                       out_of_range)
+            drop_count(dropped, f"{counter.id}: diode-AND decoding: the switch's base current leaves the output no "
+                                "sink current for the pull-up", no_pullup)
         return pd.DataFrame(rows, columns=["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines",
                                            "during_a", "after_a", "counter", "stage", "cascade", "link_stage",
-                                           "counter_index"])
+                                           "decode", "counter_index", "latch_path_min_ohm"])
 
     def selection(self) -> SelectionModel:
-        """Oscillator block (period [s]) times stage block (2^(N−1)): combine='product'.
+        """Oscillator block (period [s]) times stage block (periods to the timeout): combine='product'.
 
-        The stage factor has no spread, so the product of the blocks' extremes is the exact
-        worst case of the design; counter classes the supply or the load switch rule out are
-        dropped with the reason.
-        """
+        The count has no spread, so the product of the blocks' extremes is the exact worst case of
+        the design; counter classes no rail or load switch can serve are dropped with the reason. A
+        decoded row needs a latch path of at least `latch_path_min_ohm` (a Link to the RC oscillator's
+        Rs + Rt; the crystal's fixed bias resistor is checked here)."""
         dropped: dict[str, int] = {}
-        counters = []
+        counters, plans = [], []
         for counter in self.catalog.parts("counter"):
-            problems = [p for p in [supply_problem(self, counter)] if p] + self._driver_problems(counter)
-            for p in problems:
+            plan = self._plan(counter)
+            for p in plan.problems:
                 drop_count(dropped, f"{counter.id}: {p}", 1)
-            if not problems:
+            if not plan.problems:
                 counters.append(counter)
-        osc = self._osc_block(counters, dropped)
-        stages = self._stage_block(counters, dropped)
+                plans.append(plan)
+        osc = self._osc_block(counters, plans, dropped)
+        band = self.brief.delay
+        factor_range = ((band.min_s / osc["delay_lo"].max(), band.max_s / osc["delay_hi"].min()) if len(osc)
+                        else (np.inf, 0.0))
+        periods = np.unique(osc["delay_nom"].to_numpy())
+        stages = self._stage_block(counters, plans, factor_range, float(periods[0]) if len(periods) == 1 else None,
+                                   dropped)
         osc, stages = self._prune(osc, stages, dropped)
-        fixed = self._fixed_bom()
-        running, latched = self._driver_currents()
         links = []
         if len(counters) > 1 and "counter_index" in osc.columns:
             for sense in ("<=", ">="):
                 links.append(Link((("oscillator", "counter_index", 1.0), ("stages", "counter_index", -1.0)), sense,
                                   0.0, "the oscillator's constant belongs to the chosen counter class"))
+        if "latch_path_ohm" in osc.columns and (stages["latch_path_min_ohm"] > 0).any():
+            links.append(Link((("oscillator", "latch_path_ohm", 1.0), ("stages", "latch_path_min_ohm", -1.0)), ">=",
+                              0.0, f"the diode-AND node stays within {fq(NODE_DROP_V, 'V')} of the rail while its "
+                                   "pull-up carries the latch current through Rs + Rt"))
+        plan = plans[0] if plans else self._plan(self.catalog.parts("counter")[0])
+        fixed = self._fixed_bom(plan)
+        rail_q = plan.rail.quiescent_typ_a
         return SelectionModel(
             self.id, "product",
             [Block("oscillator", osc, roles=tuple(r.name for r in self.roles()), options=self._OSC_OPTIONS,
                    dropped=dropped),
-             Block("stages", stages, options=("counter", "stage", "cascade", "link_stage"))],
+             Block("stages", stages, options=("counter", "stage", "cascade", "link_stage", "decode"))],
             links=links, fixed_cost=sum(b.cost for b in fixed), fixed_placements=sum(b.quantity for b in fixed),
-            fixed_lines=len(fixed), fixed_during_a=self.brief.load.current_a + running, fixed_after_a=latched,
-            rails=1, effort=self.entry.value("effort", ""),
+            fixed_lines=len(fixed), fixed_during_a=self.brief.load.current_a + plan.switch.rail_a + rail_q,
+            fixed_after_a=plan.switch.leak_a + rail_q, rails=plan.rail.rails, effort=self.entry.value("effort", ""),
+            notes=["RC counter with a diode-AND: the tables bound the latch current by (V − Vf)/(Rs + Rt); the "
+                   "pull-up in series lowers it by at most its share of the latch path"] if self.roles() else [],
         )
 
     def _prune(self, osc: pd.DataFrame, stages: pd.DataFrame, dropped: dict[str, int]):
-        """Remove oscillator rows no stage brings inside the band at every corner, and stage rows no oscillator row does."""
+        """Remove oscillator rows no stage row brings inside the band at every corner, and stage rows no
+        oscillator row does (exact: sorted searches, no pair matrix); a decoded row counts only the
+        oscillator rows whose latch path its pull-up allows."""
         band = self.brief.delay
         if osc.empty or stages.empty:
             return osc.iloc[0:0], stages.iloc[0:0]
-        factor = stages["delay_nom"].to_numpy()
-        lo, hi = osc["delay_lo"].to_numpy()[:, None] * factor, osc["delay_hi"].to_numpy()[:, None] * factor
-        fits = (lo >= band.min_s) & (hi <= band.max_s)
-        osc_ok, stage_ok = fits.any(axis=1), fits.any(axis=0)
+        f = stages["delay_nom"].to_numpy()
+        need = stages["latch_path_min_ohm"].to_numpy()
+        path = osc["latch_path_ohm"].to_numpy() if "latch_path_ohm" in osc.columns else np.full(len(osc), np.inf)
+        lo, hi = osc["delay_lo"].to_numpy(), osc["delay_hi"].to_numpy()
+        osc_ok, stage_ok = np.zeros(len(osc), dtype=bool), np.zeros(len(stages), dtype=bool)
+        for limit in np.unique(need):
+            rows, eligible = need == limit, path >= limit
+            if not eligible.any():
+                continue
+            # stage f fits an oscillator row o when lo_o >= min/f and hi_o <= max/f
+            order = np.argsort(-lo[eligible], kind="stable")
+            lo_desc, hi_prefix_min = lo[eligible][order], np.minimum.accumulate(hi[eligible][order])
+            reach = np.searchsorted(-lo_desc, -band.min_s / f[rows], side="right")
+            fits = np.zeros(rows.sum(), dtype=bool)
+            has = reach > 0
+            fits[has] = hi_prefix_min[reach[has] - 1] <= band.max_s / f[rows][has]
+            stage_ok[rows] |= fits
+            # oscillator row o fits a factor in [min/lo_o, max/hi_o]
+            factors = np.sort(f[rows])
+            first = np.searchsorted(factors, band.min_s / lo[eligible], side="left")
+            top = np.searchsorted(factors, band.max_s / hi[eligible], side="right")
+            osc_ok[np.flatnonzero(eligible)[top > first]] = True
         span = f"{fq(band.min_s, 's')} to {fq(band.max_s, 's')}"
-        drop_count(dropped, f"oscillator: at no counter stage do 2^(N−1) worst-case periods stay inside {span}",
+        drop_count(dropped, f"oscillator: at no counter output do the worst-case periods stay inside {span}",
                    int((~osc_ok).sum()))
-        drop_count(dropped, f"counter stage: no oscillator candidate keeps 2^(N−1) worst-case periods inside {span}"
-                   + self._nearest_stages(osc, stages), int((~stage_ok).sum()))
+        drop_count(dropped, f"counter output: no oscillator candidate keeps its worst-case periods inside {span}",
+                   int((~stage_ok).sum()))
         return osc[osc_ok], stages[stage_ok]
-
-    def _nearest_stages(self, osc: pd.DataFrame, stages: pd.DataFrame) -> str:
-        """For a fixed-period oscillator: the stage delays either side of the band (else empty)."""
-        periods = np.unique(osc["delay_nom"].to_numpy())
-        if len(periods) != 1:
-            return ""
-        delays = np.sort(periods[0] * stages["delay_nom"].to_numpy())
-        band = self.brief.delay
-        below, above = delays[delays < band.min_s], delays[delays > band.max_s]
-        near = [fq(d, "s") for d in (below[-1:].tolist() + above[:1].tolist())]
-        return f" (nearest nominal delays {' and '.join(near)})" if near else ""
 
 
 # ---- RC oscillator ---------------------------------------------------------------------
@@ -442,25 +826,29 @@ class RCCounter(_CounterTimer):
                 *role_bom(self, design, _CT, "C1", "oscillator timing capacitor Ct"),
                 fixed_part(self, "resistor", rs, "R2", "oscillator series resistor Rs (about 2·Rt)")]
 
-    def _currents_of(self, rt, ct, period):
+    def _currents_of(self, rt, ct, period, rail_v: float):
         """Supply current of the running oscillator, 2·Ct·VDD per period, and the latch current
-        (VDD − Vf)/(Rs + Rt) after the timeout [A] at nominal supply (standard circuit analysis)."""
-        v = self.brief.supply.nominal_v
-        return 2.0 * ct * v / period, (v - self._vf()) / (self.rs_ohm(rt) + rt)
+        (VDD − Vf)/(Rs + Rt) after the timeout [A] on a `rail_v` [V] rail (standard circuit analysis)."""
+        return 2.0 * ct * rail_v / period, (rail_v - self._vf()) / (self.rs_ohm(rt) + rt)
 
-    def _osc_currents(self, design: Design) -> tuple[float, float]:
+    def _osc_running_a(self, design: Design, rail_v: float) -> float:
         rt, ct = design.values["r_timing"], design.values["c_timing"]
         period = self.period_s(design, {n: np.array([v]) for n, v in self.nominal_point(design).items()})[0]
-        running, latched = self._currents_of(rt, ct, period)
-        return float(running), float(latched)
+        return float(self._currents_of(rt, ct, period, rail_v)[0])
+
+    def _latch_path_ohm(self, design: Design) -> float:
+        """Rs + Rt: the latched input drives DC through them into the first inverter's low output [ohm]."""
+        rt = design.values["r_timing"]
+        return float(self.rs_ohm(rt) + rt)
 
     def _osc_checks(self, design: Design) -> list[Finding]:
         counter = self._counter(design)
         return [Finding("info", "oscillator-constant",
                         f"{counter.id}: k = {counter.value('k', ''):g} ({counter.source('k')})")]
 
-    def _osc_block(self, counters: list["Part"], dropped: dict[str, int]) -> pd.DataFrame:
-        """Every (counter class, Rt, Ct) with its period [s] at the worst corners.
+    def _osc_block(self, counters: list["Part"], plans: list[_Plan], dropped: dict[str, int]) -> pd.DataFrame:
+        """Every (counter class, Rt, Ct) with its period [s] at the worst corners and its currents on the
+        counter's rail; `latch_path_ohm` = Rs + Rt for the diode-AND link.
 
         Within an ambient corner the period rises with Rt, Ct and |v − 1/2|; tempcos act with the
         sign of T − 25 degC, so the extremes are the 2 ambient corners × monotone choices, with
@@ -471,25 +859,26 @@ class RCCounter(_CounterTimer):
                                  "tolerance, tempco, cost and parts", dropped) for role in (_RT, _CT))
         env = self.environment()
         tables = []
-        for index, counter in enumerate(counters):
+        for index, (counter, plan) in enumerate(zip(counters, plans)):
             vt = self._threshold(counter)
             vt_corners = np.array(vt.corner_values())
             f = threshold_factor(vt_corners) / threshold_factor(counter.value("vt_typ", ""))
             k = counter.value("k", "")
             for _, rg in rs.groupby("part", sort=False):
                 for _, cg in cs.groupby("part", sort=False):
-                    tables.append(self._rc_rows(index, counter, k, f, rg, cg, env))
+                    tables.append(self._rc_rows(index, plan.rail.nominal_v, k, f, rg, cg, env))
         columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
                    "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
-                   "counter_index"]
+                   "counter_index", "latch_path_ohm"]
         if not tables:
             return pd.DataFrame(columns=columns)
         return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
                               ("delay_hi", "cost", "placements", "lines", "during_a", "after_a"),
                               "oscillator: another Rt, Ct pair with the same nominal period is as good or better "
-                              "in spread, cost, parts and current", dropped, higher=("delay_lo",))
+                              "in spread, cost, parts, current and latch path", dropped,
+                              higher=("delay_lo", "latch_path_ohm"))
 
-    def _rc_rows(self, index, counter, k, f_corners, rg, cg, env) -> pd.DataFrame:
+    def _rc_rows(self, index, rail_v, k, f_corners, rg, cg, env) -> pd.DataFrame:
         ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rg)), np.arange(len(cg)), indexing="ij"))
         rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
         r_tol, r_tc = rg["tolerance"].to_numpy()[ri], rg["tempco"].to_numpy()[ri]
@@ -502,7 +891,7 @@ class RCCounter(_CounterTimer):
             hi = np.maximum(hi, base * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt) * f_corners.max())
         # nominal: tempcos at 0 and the threshold at its typical value, so F(v_typ)/F(v_typ) = 1
         nom = base
-        running, latched = self._currents_of(rt, ct, nom)
+        running, latched = self._currents_of(rt, ct, nom, rail_v)
         rs_part_cost = fixed_part(self, "resistor", RS_MIN_OHM, "R2", "Rs").unit_cost
         first, second = rg["first"].to_numpy()[ri], rg["second"].to_numpy()[ri]
         return pd.DataFrame({
@@ -513,6 +902,7 @@ class RCCounter(_CounterTimer):
             "during_a": running, "after_a": latched, "r_timing": rt, "c_timing": ct,
             "r_timing_part": rg["part"].iat[0], "c_timing_part": cg["part"].iat[0],
             "r_timing_first": first, "r_timing_second": second, "counter_index": float(index),
+            "latch_path_ohm": self.rs_ohm(rt) + rt,
         })
 
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
@@ -531,11 +921,11 @@ class RCCounter(_CounterTimer):
                         "inverter threshold Vt")
 
     def spice(self, design: Design) -> str | None:
-        """Behavioural two-inverter oscillator at nominal values; `delay` = period·2^(N_total − 1)."""
+        """Behavioural two-inverter oscillator at nominal values; `delay` = period·(periods to the timeout)."""
         counter = self._counter(design)
         rt, ct = design.values["r_timing"], design.values["c_timing"]
         return oscillator_netlist(rt, ct, self.rs_ohm(rt), self.brief.supply.nominal_v, counter.value("vt_typ", ""),
-                                  f"{self.id}: {self.brief.title}", float(stage_factor(self.n_total(design))))
+                                  f"{self.id}: {self.brief.title}", float(self.periods(design)))
 
 
 # ---- crystal oscillator ----------------------------------------------------------------
@@ -606,17 +996,22 @@ class CrystalCounter(_CounterTimer):
     def _osc_bom(self, design: Design) -> list[BomLine]:
         return self._crystal_bom(self._crystal(design))
 
-    def _latch_current_a(self) -> float:
-        """After the timeout the latch diode drives (VDD − Vf) through the bias resistor [A]."""
-        return (self.brief.supply.nominal_v - self._vf()) / CRYSTAL_BIAS_OHM
-
-    def _osc_currents(self, design: Design) -> tuple[float, float]:
+    def _osc_running_a(self, design: Design, rail_v: float) -> float:
         # the inverter's class-A bias current while oscillating is not in the catalog: left out (stated)
-        return 0.0, self._latch_current_a()
+        return 0.0
+
+    def _latch_path_ohm(self, design: Design) -> float:
+        """The bias resistor: the latched input drives DC through it into the inverter's low output [ohm]."""
+        return CRYSTAL_BIAS_OHM
+
+    def _stage_latch_a(self, rail_v: float, pullup_ohm: float) -> float:
+        """(VDD − Vf)/(Rp + R_bias): the latch current, exact in the stage block (fixed bias resistor) [A]."""
+        return (rail_v - self._vf()) / (pullup_ohm + CRYSTAL_BIAS_OHM)
 
     def _osc_checks(self, design: Design) -> list[Finding]:
-        return [Finding("info", "crystal", "delays are 2^(N−1)/32768 s only; the running oscillator's inverter "
-                                           "bias current is not modelled (no catalog figure)")]
+        return [Finding("info", "crystal", "delays are whole counts of 1/32768 s (powers of two, or sums of two or "
+                                           "three with a diode-AND); the running oscillator's inverter bias current "
+                                           "is not modelled (no catalog figure)")]
 
     def _extremes(self, crystal: "Part") -> tuple[float, float, float]:
         """Nominal and extreme periods [s] over the ambient × turnover lattice, tolerance and aging at their limits."""
@@ -633,14 +1028,14 @@ class CrystalCounter(_CounterTimer):
         nominal = {"ambient_c": np.array([amb.nominal]), **{k: np.array([u.nominal]) for k, u in q.items()}}
         return float(self._period_of(crystal, nominal)[0]), float(out[1].min()), float(out[0].max())
 
-    def _osc_block(self, counters: list["Part"], dropped: dict[str, int]) -> pd.DataFrame:
+    def _osc_block(self, counters: list["Part"], plans: list[_Plan], dropped: dict[str, int]) -> pd.DataFrame:
+        """One row per crystal class; its latch current is in the stage block (it depends on the rail and pull-up)."""
         rows = []
-        latched = self._latch_current_a()
         for crystal in self.catalog.parts("crystal"):
             nom, lo, hi = self._extremes(crystal)
             lines = self._crystal_bom(crystal)
             rows.append(dict(delay_lo=lo, delay_nom=nom, delay_hi=hi, cost=sum(b.cost for b in lines),
                              placements=sum(b.quantity for b in lines), lines=len(lines), during_a=0.0,
-                             after_a=latched, crystal=crystal.id))
+                             after_a=0.0, crystal=crystal.id))
         return pd.DataFrame(rows, columns=["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines",
                                            "during_a", "after_a", "crystal"])
