@@ -1,5 +1,5 @@
 """Logic rail and logic-output relay driver, shared by the timers built around an IC with a
-low supply rating (the microcontroller and the micropower comparator).
+low supply rating (the microcontroller, the micropower comparator and the ripple counters).
 
 The logic rail: when the brief's supply is a regulated supply inside the IC's rating, the IC
 runs straight from it (one rail); otherwise a linear regulator class from the catalog makes a
@@ -26,7 +26,7 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = [
     "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom", "cheapest",
     "resistor_class", "output_driver_bom", "on_state_drop_v", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM",
-    "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet",
+    "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet", "regulator_bom", "p_channel",
 ]
 
 NO_REGULATOR = "none"
@@ -71,8 +71,10 @@ class LogicRail:
         return 1 if self.regulator is None else 2
 
 
-def _regulated(brief: "Brief", part: "Part", load_min_v: float, load_max_v: float) -> LogicRail | str:
-    """The rail regulator class `part` makes for a load rated load_min_v..load_max_v [V], or why it cannot."""
+def _regulated(brief: "Brief", part: "Part", load_min_v: float, load_max_v: float,
+               every_output: bool = False) -> LogicRail | list[LogicRail] | str:
+    """The rail regulator class `part` makes for a load rated load_min_v..load_max_v [V] (with
+    `every_output`, one rail per output voltage that fits), or why it cannot."""
     supply = brief.supply
     input_max = part.value("input_max", "V")
     if supply.max_v > input_max:
@@ -86,15 +88,16 @@ def _regulated(brief: "Brief", part: "Part", load_min_v: float, load_max_v: floa
         return (f"{part.id}: no output voltage both inside the IC's {fq(load_min_v, 'V')} to {fq(load_max_v, 'V')} "
                 f"(with its {100 * tol:g} % tolerance) and at least the {fq(dropout, 'V')} dropout below the supply "
                 f"minimum {fq(supply.min_v, 'V')}")
-    v = min(fits, key=lambda out: (abs(out - PREFERRED_RAIL_V), out))
-    return LogicRail(part, v, v * (1 - tol), v * (1 + tol),
-                     part.value("quiescent_typ", "A"), part.value("quiescent_max", "A"))
+    made = [LogicRail(part, v, v * (1 - tol), v * (1 + tol), part.value("quiescent_typ", "A"),
+                      part.value("quiescent_max", "A")) for v in sorted(fits)]
+    return made if every_output else min(made, key=lambda r: (abs(r.nominal_v - PREFERRED_RAIL_V), r.nominal_v))
 
 
-def _direct(brief: "Brief", load_min_v: float, load_max_v: float) -> LogicRail | str:
-    """The brief's own supply as the logic rail, or why it cannot be."""
+def _direct(brief: "Brief", load_min_v: float, load_max_v: float, regulated_only: bool = True) -> LogicRail | str:
+    """The brief's own supply as the logic rail, or why it cannot be (`regulated_only`: the IC needs
+    a regulated supply, as a microcontroller does; a CMOS counter runs from any supply in its rating)."""
     s = brief.supply
-    if s.kind != "regulated":
+    if regulated_only and s.kind != "regulated":
         return (f"none: the supply is unregulated ({fq(s.min_v, 'V')} to {fq(s.max_v, 'V')}); the IC needs a "
                 "regulated rail")
     if s.min_v < load_min_v or s.max_v > load_max_v:
@@ -103,14 +106,19 @@ def _direct(brief: "Brief", load_min_v: float, load_max_v: float) -> LogicRail |
     return LogicRail(None, s.nominal_v, s.min_v, s.max_v, 0.0, 0.0)
 
 
-def rail_options(brief: "Brief", catalog: "Catalog", load_min_v: float,
-                 load_max_v: float) -> tuple[list[LogicRail], list[str]]:
+def rail_options(brief: "Brief", catalog: "Catalog", load_min_v: float, load_max_v: float,
+                 regulated_only: bool = True, every_output: bool = False) -> tuple[list[LogicRail], list[str]]:
     """Every way to power an IC rated load_min_v..load_max_v [V] from the brief's supply, and the
-    reasons the other ways fail (in the designer's terms)."""
+    reasons the other ways fail (in the designer's terms). regulated_only: the IC cannot run from
+    an unregulated supply even inside its rating; every_output: one rail per regulator output
+    voltage that fits (else the one nearest PREFERRED_RAIL_V)."""
     rails, reasons = [], []
-    for made in (_direct(brief, load_min_v, load_max_v),
-                 *(_regulated(brief, p, load_min_v, load_max_v) for p in catalog.parts("ldo"))):
-        (rails if isinstance(made, LogicRail) else reasons).append(made)
+    for made in (_direct(brief, load_min_v, load_max_v, regulated_only),
+                 *(_regulated(brief, p, load_min_v, load_max_v, every_output) for p in catalog.parts("ldo"))):
+        if isinstance(made, str):
+            reasons.append(made)
+        else:
+            rails.extend(made if isinstance(made, list) else [made])
     return rails, reasons
 
 
@@ -157,12 +165,18 @@ def rail_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, ic_ref: str, i
     decoupling = _ceramic(catalog, _DECOUPLING_F, rail.max_v)
     lines = [BomLine(ic_ref, ic.id, ic.description, 1, ic.cost),
              BomLine("C1", decoupling.id, fq(_DECOUPLING_F, "F"), 1, decoupling.cost, "decoupling at the IC")]
-    if rail.regulator is not None:
-        cap = _ceramic(catalog, _RAIL_CAP_F, brief.supply.max_v)
-        reg = rail.regulator
-        lines += [BomLine("U2", reg.id, f"{fq(rail.nominal_v, 'V')} regulator", 1, reg.cost, "logic rail"),
-                  BomLine("C2, C3", cap.id, fq(_RAIL_CAP_F, "F"), 2, cap.cost, "regulator input and output")]
-    return lines
+    return lines + regulator_bom(brief, catalog, rail)
+
+
+def regulator_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, ref: str = "U2",
+                  cap_refs: str = "C2, C3") -> list[BomLine]:
+    """The rail's regulator with its input and output capacitors; nothing for the brief's own supply."""
+    if rail.regulator is None:
+        return []
+    cap = _ceramic(catalog, _RAIL_CAP_F, brief.supply.max_v)
+    reg = rail.regulator
+    return [BomLine(ref, reg.id, f"{fq(rail.nominal_v, 'V')} regulator", 1, reg.cost, "logic rail"),
+            BomLine(cap_refs, cap.id, fq(_RAIL_CAP_F, "F"), 2, cap.cost, "regulator input and output")]
 
 
 def load_current_max(brief: "Brief") -> float:
@@ -172,10 +186,15 @@ def load_current_max(brief: "Brief") -> float:
     return brief.load.current_a
 
 
+def p_channel(part: "Part") -> bool:
+    """True for a P-channel MOSFET class (param `p_channel`); the low-side drivers here need N-channel."""
+    return part.has("p_channel")
+
+
 def output_mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part":
     """The cheapest logic-level N-MOSFET class rated for the load that the rail's minimum turns on."""
     return cheapest(catalog, "mosfet",
-                    lambda p: p.value("vds_max", "V") >= brief.supply.max_v
+                    lambda p: not p_channel(p) and p.value("vds_max", "V") >= brief.supply.max_v
                     and p.value("id_max", "A") >= load_current_max(brief)
                     and p.value("vth_max", "V") < rail.min_v,
                     f"an N-MOSFET for {fq(load_current_max(brief), 'A')} at {fq(brief.supply.max_v, 'V')} "
