@@ -23,7 +23,7 @@ review: $(STAMP)
 	$(BIN)/tradeoff study $(BRIEF) --review $(REVIEW) --force
 
 test: $(STAMP)
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -q
 
 bench: $(STAMP)
 	for f in bench/bench_*.py; do echo "== $$f"; $(BIN)/python $$f || exit 1; done
