@@ -292,6 +292,9 @@ class _CounterTimer(Topology):
         return 0.0
 
     _OSC_OPTIONS: tuple[str, ...] = ()
+    _DECODE_MAX_CASCADE = 2
+    """Longest chain (extra counters) whose outputs a diode-AND may decode in the optimiser's tables."""
+
     option_units = {"stage": None, "cascade": None, "link_stage": None, "decode": None}
     option_parts = {"counter": "counter"}
 
@@ -635,7 +638,8 @@ class _CounterTimer(Topology):
     def _chains(self, outs: list[int]):
         """Every (cascade, link stage, bit set) the chain can decode, each bit set once, first with the
         fewest counters (the same count with more counters only adds parts): a single bit is a plain
-        output stage; two or three bits a diode-AND. Yields (cascade, link, {bit: (counter index, stage)})."""
+        output stage; two or three bits a diode-AND (for chains up to _DECODE_MAX_CASCADE extra counters).
+        Yields (cascade, link, [(counter index, stage) per bit], count)."""
         most = int(self.entry.value("max_counters", ""))
         seen: set[tuple[int, ...]] = set()
         for cascade in range(most):
@@ -645,7 +649,7 @@ class _CounterTimer(Topology):
                     for n in outs:
                         avail.setdefault(output_bit(n, j, link), (j, n))
                 bits = sorted(avail)
-                for size in range(1, DECODE_MAX_OUTPUTS + 1):
+                for size in range(1, DECODE_MAX_OUTPUTS + 1 if cascade <= self._DECODE_MAX_CASCADE else 2):
                     for combo in itertools.combinations(bits, size):
                         if combo not in seen:
                             seen.add(combo)
@@ -670,6 +674,7 @@ class _CounterTimer(Topology):
             v = plan.rail.nominal_v
             out_of_range = no_pullup = 0
             below, above = 0, math.inf
+            currents: dict[tuple[int, bool], tuple[float, float]] = {}
             for cascade, link, chosen, count in self._chains(outs):
                 if not lo <= count <= hi:
                     out_of_range += 1
@@ -680,8 +685,10 @@ class _CounterTimer(Topology):
                     no_pullup += 1
                     continue
                 n = 1 + cascade
-                during, after = self._output_currents(plan, n, counter, pullup if decoded else None)
-                after += self._stage_latch_a(v, pullup if decoded else 0.0)
+                if (n, decoded) not in currents:
+                    during, after = self._output_currents(plan, n, counter, pullup if decoded else None)
+                    currents[n, decoded] = during, after + self._stage_latch_a(v, pullup if decoded else 0.0)
+                during, after = currents[n, decoded]
                 extra_cost = len(chosen) * diode_cost + rp_cost if decoded else 0.0
                 rows.append(dict(delay_lo=float(count), delay_nom=float(count), delay_hi=float(count),
                                  cost=n * sum(b.unit_cost for b in lines) + extra_cost,
@@ -792,6 +799,9 @@ class RCCounter(_CounterTimer):
 
     id = "rc-counter"
     _OSC_OPTIONS = ("r_timing_part", "c_timing_part")
+    _DECODE_MAX_CASCADE = 0
+    """Decoding within one counter only: Rt and Ct already tune the delay finely, so decoded counts of a
+    cascade add thousands of table rows (and minutes of solver time) for little (a modelling choice)."""
     option_parts = {**_CounterTimer.option_parts, "r_timing_part": "resistor", "c_timing_part": "capacitor"}
 
     def roles(self) -> list[Role]:
