@@ -146,7 +146,8 @@ def large(series: str) -> None:
     print(f"  table building {tables_s * 1e3:.0f} ms; program prune and build {build_s * 1e3:.0f} ms "
           f"(rows after exact pruning {kept}); solve {solve_s * 1e3:.0f} ms; status {result.status}, "
           f"objective {result.objective}")
-    print(f"  program total {(build_s + solve_s):.2f} s (target < 1 s)")
+    print(f"  program solve {solve_s:.3f} s (target < 1 s); with exact pruning and model build "
+          f"{build_s + solve_s:.2f} s; with table building {tables_s + build_s + solve_s:.2f} s")
 
 
 def main() -> None:

@@ -468,3 +468,57 @@ def test_alternatives_stop_when_the_tables_run_out():
     model = SelectionModel("fake", "sum", [rc_block("hold", [18, 20, 40], spread=0.01)])
     results = optimise(FakeTopology(model), brief_for((15, 26)), k=5, verify=False)
     assert [r.design.values["r"] for r in results] == [20.0, 18.0]
+
+
+# ---- the registered topologies on reduced catalogs -------------------------------------------
+
+REDUCED_SERIES = {"series.resistor": "E6", "series.electrolytic": "E3", "series.film": "E3", "series.ceramic": "E3",
+                  "series.pairs": False}
+"""Short E-series keep every topology's tables small enough to enumerate."""
+
+REAL_BRIEFS = {
+    "fan run-on, button start": ("fan_run_on.yaml", {}),
+    "propagator mat, power-on start": ("propagator_mat.yaml", {}),
+    "fan run-on at 20 s to 40 s, power-on start": ("fan_run_on.yaml", {"start": "power-on", "delay.nominal": "30 s",
+                                                                       "delay.min": "20 s", "delay.max": "40 s"}),
+}
+
+
+def _topology_ids():
+    from tradeoff.catalog import load_catalog
+    from tradeoff.topologies.registry import topology_ids
+
+    return topology_ids(load_catalog())
+
+
+@pytest.fixture(scope="module")
+def catalog():
+    from tradeoff.catalog import load_catalog
+
+    return load_catalog()
+
+
+@pytest.mark.parametrize("brief_name", list(REAL_BRIEFS))
+@pytest.mark.parametrize("topology_id", _topology_ids())
+def test_registered_topologies_program_equals_exhaustive(topology_id, brief_name, catalog):
+    """Every template with two or more value roles: the program's optimum is exhaustive search's."""
+    from tradeoff.brief import load_brief
+    from tradeoff.topologies.registry import build_topology
+
+    file, changes = REAL_BRIEFS[brief_name]
+    brief = load_brief(t_examples() / file).replace({**REDUCED_SERIES, **changes})
+    topology = build_topology(topology_id, brief, catalog)
+    if len(topology.roles()) < 2:
+        pytest.skip(f"{topology_id} has fewer than two value roles")
+    model = topology.selection()
+    band = (brief.delay.min_s, brief.delay.max_s)
+    found = exhaustive(model, band, brief.limits, brief.weights, k=1, max_combinations=20_000_000)
+    result = SelectionProblem(model, band, brief.limits, brief.weights).solve()
+    if not found:
+        assert result.status == "Infeasible" and result.reasons
+        return
+    assert result.feasible and result.objective == pytest.approx(found[0].objective, abs=TIE)
+
+
+def t_examples():
+    return Path(__file__).resolve().parents[1] / "examples"

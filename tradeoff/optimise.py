@@ -226,6 +226,7 @@ class _Tables:
         if not model.blocks:
             raise ValueError(f"selection model of {model.topology!r} has no blocks")
         self.model, self.band = model, (lo, hi)
+        self._columns: dict[str, list[np.ndarray]] = {}
         self.product = model.combine == "product"
         self.sizes = [len(b.table) for b in model.blocks]
         self._check_finite()
@@ -239,6 +240,12 @@ class _Tables:
         self._objective_arrays()
 
     # -- construction
+    def column(self, name: str) -> list[np.ndarray]:
+        """`name` of every block as float arrays, converted once (zeros where an optional column is absent)."""
+        if name not in self._columns:
+            self._columns[name] = _column(self.model, name)
+        return self._columns[name]
+
     def _check_finite(self) -> None:
         for b in self.model.blocks:
             for c in (*_DELAYS, *(c for parts in _LINEAR_TERMS.values() for c, _, _ in parts)):
@@ -251,7 +258,7 @@ class _Tables:
                     raise ValueError(f"block {b.name!r} column {c!r}: {int(bad.sum())} rows are not {need}")
 
     def _delay_amounts(self, column: str) -> tuple[np.ndarray, ...]:
-        values = _column(self.model, column)
+        values = self.column(column)
         return tuple(np.log(v) if self.product else v for v in values)
 
     def _band(self, lo: float, hi: float) -> list[_Requirement]:
@@ -283,7 +290,7 @@ class _Tables:
         for key, attribute, column, fixed, label, template, fmt in table:
             limit = getattr(limits, attribute)
             if limit is not None:
-                out.append(_Requirement(key, key, label, tuple(_column(m, column)), float(fixed), "<=",
+                out.append(_Requirement(key, key, label, tuple(self.column(column)), float(fixed), "<=",
                                         float(limit), template, fmt))
         return out
 
@@ -311,7 +318,7 @@ class _Tables:
         for term, parts in _LINEAR_TERMS.items():
             for column, fixed, share in parts:
                 k = w[term] * share / s.span[column]
-                for b, a in enumerate(_column(self.model, column)):
+                for b, a in enumerate(self.column(column)):
                     self.linear[b] = self.linear[b] + k * a
                 self.linear_constant += k * (getattr(self.model, fixed) - s.origin[column])
         lo, hi = self.band
@@ -352,7 +359,7 @@ class _Tables:
         idx, s = self.index(rows), self.scales
         out = {"accuracy": float(self.deviation(idx)[0]) / s.span["accuracy"]}
         for term, parts in _LINEAR_TERMS.items():
-            out[term] = sum(share * (getattr(self.model, fixed) + float(_gather(_column(self.model, c), idx)[0])
+            out[term] = sum(share * (getattr(self.model, fixed) + float(_gather(self.column(c), idx)[0])
                                      - s.origin[c]) / s.span[c] for c, fixed, share in parts)
         return out
 
@@ -362,7 +369,7 @@ class _Tables:
         fixed = {"cost": m.fixed_cost, "placements": m.fixed_placements, "lines": m.fixed_lines,
                  "during_a": m.fixed_during_a, "after_a": m.fixed_after_a, "effort": m.effort, "rails": m.rails}
         out = {f"{c}_s": self.combined(c, idx) for c in _DELAYS}
-        out.update({c: v + float(_gather(_column(m, c), idx)[0]) for c, v in fixed.items()})
+        out.update({c: v + float(_gather(self.column(c), idx)[0]) for c, v in fixed.items()})
         return out
 
     def design(self, rows: Sequence[int]) -> Design:
@@ -644,16 +651,22 @@ class SelectionProblem:
         if not all(k.size for k in rows) or max(k.size for k in rows) <= _INCUMBENT_ROWS:
             return math.inf
         bounds = self.tables.lower_bounds(rows)
-        best = [k[np.argsort(b, kind="stable")[:_INCUMBENT_ROWS]] for k, b in zip(rows, bounds)]
+        best = [k[np.sort(np.argpartition(b, _INCUMBENT_ROWS)[:_INCUMBENT_ROWS])] if b.size > _INCUMBENT_ROWS else k
+                for k, b in zip(rows, bounds)]
         found = self._build(best).run()
         return math.inf if found is None else self.objective_of(found)
 
     def _within_bound(self) -> list[np.ndarray]:
-        """Rows whose objective bound does not exceed the incumbent's (exact: no better combination uses the others)."""
+        """Rows whose objective bound does not exceed the incumbent's (exact: no better combination
+        uses the others), alternating with requirement pruning until neither removes a row."""
         rows = self._rows_meeting
-        if math.isinf(self.bound):
-            return rows
-        return [k[b <= self.bound + self._slack()] for k, b in zip(rows, self.tables.lower_bounds(rows))]
+        while not math.isinf(self.bound) and all(k.size for k in rows):
+            within = [k[b <= self.bound + self._slack()] for k, b in zip(rows, self.tables.lower_bounds(rows))]
+            within = self.tables.prune(self.tables.requirements, within)
+            if sum(map(len, within)) == sum(map(len, rows)):
+                break
+            rows = within
+        return rows
 
     def _slack(self) -> float:
         return _TOLERANCE * max(1.0, abs(self.bound))
