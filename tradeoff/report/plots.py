@@ -14,10 +14,11 @@ imported only when a plot is drawn, so importing this module stays cheap.
 """
 from __future__ import annotations
 
+import functools
 import io
 import math
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Callable
 
 import numpy as np
 
@@ -32,8 +33,8 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.study import StudyResult
     from tradeoff.topologies.base import Evaluation, Topology
 
-__all__ = ["FORMATS", "time_scale", "waveform_figure", "histogram_figure", "pareto_figure", "study_figures",
-           "figure_bytes", "plot_files"]
+__all__ = ["FORMATS", "HISTOGRAM_BINS", "time_scale", "waveform_figure", "histogram_figure", "pareto_figure",
+           "figure_makers", "study_figures", "figure_bytes", "plot_file_makers", "plot_files"]
 
 FORMATS = ("png", "svg")
 """File formats every plot is written in."""
@@ -200,22 +201,32 @@ def pareto_figure(result: "StudyResult") -> "Figure | None":
     return fig
 
 
-def study_figures(result: "StudyResult") -> dict[str, "Figure"]:
-    """Every plot of `result` by file stem (without extension), in a fixed order, in the project's style."""
+def figure_makers(result: "StudyResult") -> dict[str, Callable[[], "Figure"]]:
+    """Every plot of `result` by file stem (without extension), in a fixed order, each as a function
+    that draws it: the names are known before any drawing."""
+    makers: dict[str, Callable[[], Figure]] = {}
+    for name, ev, outcome in result.designs():
+        stem = design_stem(name)
+        if outcome.model.waveform(ev.design, outcome.model.nominal_point(ev.design)) is not None:
+            makers[f"waveform-{stem}"] = functools.partial(waveform_figure, name, ev, outcome.model)
+        makers[f"histogram-{stem}"] = functools.partial(histogram_figure, name, ev)
+    if result.designs():
+        makers["pareto"] = functools.partial(pareto_figure, result)
+    return makers
+
+
+def _styled(make: Callable[[], "Figure"]) -> "Figure":
+    """The figure `make` draws, in the project's style (style.RC_PARAMS)."""
     _figure_class()
     import matplotlib
 
-    figures: dict[str, Figure] = {}
     with matplotlib.rc_context(style.RC_PARAMS):
-        for name, ev, outcome in result.designs():
-            wave = waveform_figure(name, ev, outcome.model)
-            if wave is not None:
-                figures[f"waveform-{design_stem(name)}"] = wave
-            figures[f"histogram-{design_stem(name)}"] = histogram_figure(name, ev)
-        pareto = pareto_figure(result)
-        if pareto is not None:
-            figures["pareto"] = pareto
-    return figures
+        return make()
+
+
+def study_figures(result: "StudyResult") -> dict[str, "Figure"]:
+    """Every plot of `result` by file stem, drawn."""
+    return {stem: _styled(make) for stem, make in figure_makers(result).items()}
 
 
 def figure_bytes(fig: "Figure", formats: tuple[str, ...] = FORMATS) -> dict[str, bytes]:
@@ -233,7 +244,25 @@ def figure_bytes(fig: "Figure", formats: tuple[str, ...] = FORMATS) -> dict[str,
     return out
 
 
+def plot_file_makers(result: "StudyResult", directory: str | Path) -> dict[Path, Callable[[], bytes]]:
+    """`<directory>/<stem>.<png|svg>` -> a function giving the file's bytes, for every plot of `result`;
+    each figure is drawn once, when the first of its files is asked for."""
+    out: dict[Path, Callable[[], bytes]] = {}
+    for stem, make in figure_makers(result).items():
+        encoded = functools.cache(functools.partial(_encoded, make))
+        for fmt in FORMATS:
+            out[Path(directory) / f"{stem}.{fmt}"] = functools.partial(_pick, encoded, fmt)
+    return out
+
+
+def _encoded(make: Callable[[], "Figure"]) -> dict[str, bytes]:
+    return figure_bytes(_styled(make))
+
+
+def _pick(encoded: Callable[[], dict[str, bytes]], fmt: str) -> bytes:
+    return encoded()[fmt]
+
+
 def plot_files(result: "StudyResult", directory: str | Path) -> dict[Path, bytes]:
     """Every plot of `result` in every format: `<directory>/<stem>.<png|svg>` -> file bytes."""
-    return {Path(directory) / f"{stem}.{fmt}": data for stem, fig in study_figures(result).items()
-            for fmt, data in figure_bytes(fig).items()}
+    return {path: make() for path, make in plot_file_makers(result, directory).items()}

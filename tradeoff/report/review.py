@@ -1,10 +1,11 @@
 """The review set of a study, and the study's file exports in one call.
 
-`export(result, xlsx=..., csv=..., plots=..., netlists=..., review=..., force=...)` builds every
-requested file in memory first, then writes them with `files.write_all`: each file atomically
-(temporary file and rename), every target checked before the first is written, so an existing
-file without `force` writes nothing, and a failure part-way leaves the files already written
-complete. Directories given for CSV, plots, netlists and the review set are created if missing.
+`export(result, xlsx=..., csv=..., plots=..., netlists=..., review=..., force=...)` first checks
+every target (an existing file without `force`, or two exports naming one file, refuses before
+anything is drawn or written), then builds the files in memory and writes them with
+`files.write_all`: each atomically (temporary file and rename), so none is ever half-written, and a
+failure part-way leaves the files already written complete. Directories given for CSV, plots,
+netlists and the review set are created if missing.
 
 The review set (`review=DIR`) is, with fixed names:
 
@@ -19,20 +20,23 @@ The review set (`review=DIR`) is, with fixed names:
 """
 from __future__ import annotations
 
+import functools
 import io
 import json
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Callable
 
 from tradeoff.errors import OutputError
-from tradeoff.report.files import write_all
-from tradeoff.report.tables import csv_files, design_stem, study_tables
+from tradeoff.report.files import check_writable, write_all
+from tradeoff.report.tables import TABLES, csv_files, design_stem, study_tables
 
 if TYPE_CHECKING:  # pragma: no cover
+    import pandas as pd
+
     from tradeoff.study import StudyResult
 
-__all__ = ["REVIEW_LAYOUT", "Export", "report_text", "json_text", "netlist_files", "review_files", "export"]
+__all__ = ["REVIEW_LAYOUT", "Export", "report_text", "json_text", "netlist_files", "export"]
 
 REVIEW_LAYOUT = {"report": "report.txt", "json": "study.json", "workbook": "study.xlsx", "csv": "tables",
                  "plots": "plots", "netlists": "netlists"}
@@ -51,7 +55,8 @@ def report_text(result: "StudyResult") -> str:
     """The terminal report of `result` as plain text (no colour codes), as it reads on a pipe."""
     from rich.console import Console
 
-    from tradeoff.report.study_text import PIPED_WIDTH, render_study
+    from tradeoff.report.study_text import render_study
+    from tradeoff.report.terminal import PIPED_WIDTH
 
     buffer = io.StringIO()
     render_study(result, Console(file=buffer, width=PIPED_WIDTH, color_system=None, force_terminal=False))
@@ -89,62 +94,84 @@ def _directory(path: str | Path) -> Path:
     return target
 
 
-def review_files(result: "StudyResult", directory: str | Path) -> tuple[dict[Path, str | bytes], list[str]]:
-    """Every file of the review set in `directory` (layout `REVIEW_LAYOUT`), and the designs without a
-    netlist. Creates the folders."""
-    from tradeoff.report.plots import plot_files
+Maker = Callable[[], "str | bytes"]
+"""A function giving one file's contents, called only after every target was checked."""
+
+
+def _planned_review(result: "StudyResult", directory: str | Path,
+                    tables: Callable[[], "dict[str, pd.DataFrame]"]) -> tuple[dict[Path, Maker], list[str]]:
+    """Every file of the review set in `directory` (layout `REVIEW_LAYOUT`) with its maker, and the
+    designs without a netlist."""
+    from tradeoff.report.plots import plot_file_makers
     from tradeoff.report.workbook import workbook_bytes
 
-    root = _directory(directory)
-    tables = study_tables(result)
-    netlists, without = netlist_files(result, _directory(root / REVIEW_LAYOUT["netlists"]))
-    files: dict[Path, str | bytes] = {
-        root / REVIEW_LAYOUT["report"]: report_text(result),
-        root / REVIEW_LAYOUT["json"]: json_text(result),
-        root / REVIEW_LAYOUT["workbook"]: workbook_bytes(result, tables),
-        **csv_files(result, _directory(root / REVIEW_LAYOUT["csv"]), tables),
-        **plot_files(result, _directory(root / REVIEW_LAYOUT["plots"])),
-        **netlists,
+    root = Path(directory)
+    netlists, without = netlist_files(result, root / REVIEW_LAYOUT["netlists"])
+    planned: dict[Path, Maker] = {
+        root / REVIEW_LAYOUT["report"]: functools.partial(report_text, result),
+        root / REVIEW_LAYOUT["json"]: functools.partial(json_text, result),
+        root / REVIEW_LAYOUT["workbook"]: lambda: workbook_bytes(result, tables()),
+        **_csv_makers(result, root / REVIEW_LAYOUT["csv"], tables),
+        **plot_file_makers(result, root / REVIEW_LAYOUT["plots"]),
+        **{path: functools.partial(str, text) for path, text in netlists.items()},
     }
-    return files, without
+    return planned, without
+
+
+def _csv_makers(result: "StudyResult", directory: Path,
+                tables: Callable[[], "dict[str, pd.DataFrame]"]) -> dict[Path, Maker]:
+    texts = functools.cache(lambda: csv_files(result, directory, tables()))
+    return {path: functools.partial(_entry, texts, path) for path in (directory / f"{n}.csv" for n in TABLES)}
+
+
+def _entry(files: Callable[[], dict[Path, str]], path: Path) -> str:
+    return files()[path]
 
 
 def export(result: "StudyResult", *, xlsx: str | Path | None = None, csv: str | Path | None = None,
            plots: str | Path | None = None, netlists: str | Path | None = None, review: str | Path | None = None,
            force: bool = False) -> Export:
     """Write the requested exports of `result`: a workbook file, CSV tables, plots and netlists into
-    directories, and the whole review set into a folder. Nothing is written when a target exists and
-    `force` is False, or when two exports would write the same file (OutputError names it)."""
-    files: list[tuple[Path, str | bytes]] = []
+    directories, and the whole review set into a folder (directories are created if missing).
+
+    Every target is checked before anything is drawn or written: when one exists and `force` is False,
+    or two exports would write the same file, OutputError names it and nothing is written.
+    """
+    from tradeoff.report.plots import plot_file_makers
+    from tradeoff.report.workbook import workbook_bytes
+
+    tables = functools.cache(functools.partial(study_tables, result))
+    planned: list[tuple[Path, Maker]] = []
     without: list[str] = []
-    tables = study_tables(result) if xlsx is not None or csv is not None else None
-    if xlsx is not None:
-        from tradeoff.report.files import check_writable
-        from tradeoff.report.workbook import workbook_bytes
-
-        check_writable(xlsx, force)  # refuse before the work, not after it
-        files.append((Path(xlsx), workbook_bytes(result, tables)))
-    if csv is not None:
-        files += csv_files(result, _directory(csv), tables).items()
-    if plots is not None:
-        from tradeoff.report.plots import plot_files
-
-        files += plot_files(result, _directory(plots)).items()
-    if netlists is not None:
-        found, without = netlist_files(result, _directory(netlists))
-        files += found.items()
+    folders = [Path(d) for d in (csv, plots, netlists) if d is not None]
     if review is not None:
-        found, without = review_files(result, review)
-        files += found.items()
-    _check_distinct(files)
-    return Export(written=write_all(files, force), without_netlist=without)
+        folders += [Path(review), *(Path(review) / REVIEW_LAYOUT[k] for k in ("csv", "plots", "netlists"))]
+    if xlsx is not None:
+        planned.append((Path(xlsx), lambda: workbook_bytes(result, tables())))
+    if csv is not None:
+        planned += _csv_makers(result, Path(csv), tables).items()
+    if plots is not None:
+        planned += plot_file_makers(result, plots).items()
+    if netlists is not None:
+        found, without = netlist_files(result, netlists)
+        planned += ((path, functools.partial(str, text)) for path, text in found.items())
+    if review is not None:
+        found, without = _planned_review(result, review, tables)
+        planned += found.items()
+    _check_targets([path for path, _ in planned], folders, force)
+    return Export(written=write_all([(path, make()) for path, make in planned], force), without_netlist=without)
 
 
-def _check_distinct(files: list[tuple[Path, str | bytes]]) -> None:
-    """OutputError when two exports would write the same file (e.g. --csv DIR inside the --review folder)."""
+def _check_targets(paths: list[Path], folders: list[Path], force: bool) -> None:
+    """OutputError when two exports would write the same file (e.g. --csv DIR inside the --review
+    folder); then create the output `folders` and raise OutputError if a target may not be written."""
     seen: set[Path] = set()
-    for path, _ in files:
+    for path in paths:
         if path.resolve() in seen:
             raise OutputError(f"{path}: two of the requested exports would write this file; accepted: "
                               "separate folders for --csv, --plots, --netlist and --review")
         seen.add(path.resolve())
+    for folder in folders:
+        _directory(folder)
+    for path in paths:
+        check_writable(path, force)

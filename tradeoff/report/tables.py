@@ -139,7 +139,7 @@ def corners_table(result: "StudyResult") -> pd.DataFrame:
         quantities = outcome.model.quantities(ev.design)
         for q_name, q in quantities.items():
             rows.append({
-                "design": name, "quantity": q_name, "unit": q.unit or "1", "nominal": q.nominal,
+                "design": name, "quantity": q_name, "unit": q.unit or "dimensionless", "nominal": q.nominal,
                 "at shortest delay": ev.worst.at_min.get(q_name, q.nominal),
                 "at longest delay": ev.worst.at_max.get(q_name, q.nominal),
                 "distribution": q.dist if q.spreads else "fixed", "note": q.note,
