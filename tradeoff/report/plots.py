@@ -44,6 +44,9 @@ _TIME_UNITS = ((3600.0, "h"), (60.0, "min"), (1.0, "s"), (1e-3, "ms"), (1e-6, "Â
 HISTOGRAM_BINS = 60
 """Bins of the Monte Carlo histogram."""
 
+ZOOM_BELOW = 0.2
+"""The histogram gets a zoomed inset when the delays span less than this fraction of the band's width."""
+
 
 def _figure_class():
     """matplotlib's Figure on the Agg backend, imported on first use."""
@@ -132,8 +135,27 @@ def waveform_figure(name: str, ev: "Evaluation", model: "Topology") -> "Figure |
     return fig
 
 
+def _histogram(ax: "Axes", ev: "Evaluation", finite: np.ndarray, factor: float, unit: str, label: bool) -> None:
+    """Bars of the finite Monte Carlo delays with the percentile and nominal lines, on `ax` in `unit`."""
+    ax.hist(finite / factor, bins=HISTOGRAM_BINS, color=style.PALETTE[0], linewidth=0,
+            label=f"{ev.mc.samples} samples, seed {ev.mc.seed}" if label else None)
+    for q, v in sorted(ev.mc.percentiles.items()):
+        if math.isfinite(v):
+            ax.axvline(v / factor, color=style.LINE_COLOUR, linestyle=":", linewidth=1)
+            ax.text(v / factor, 1.0, f" p{100 * q:g}", transform=ax.get_xaxis_transform(), fontsize=7,
+                    va="top", ha="left")
+    ax.axvline(ev.nominal_s / factor, color=style.NOMINAL_COLOUR, linestyle="--",
+               label=f"nominal {fq(ev.nominal_s, 's')}" if label else None)
+    ax.set_xlabel(f"delay [{unit}]")
+    ax.set_ylabel("samples per bin [count]")
+
+
 def histogram_figure(name: str, ev: "Evaluation") -> "Figure":
-    """Histogram of the Monte Carlo delays against the delay band, with the percentiles at the coverage."""
+    """Histogram of the Monte Carlo delays against the delay band, with the percentiles at the coverage.
+
+    When the delays fill less than `ZOOM_BELOW` of the band's width, an inset repeats the histogram
+    over the delays' own range, so a tight design still shows its distribution.
+    """
     delays = np.asarray(ev.mc.delays, dtype=float)
     finite = delays[np.isfinite(delays)]
     factor, unit = time_scale(max(ev.band[1], float(finite.max()) if finite.size else ev.band[1]))
@@ -141,19 +163,16 @@ def histogram_figure(name: str, ev: "Evaluation") -> "Figure":
     ax = fig.subplots()
     ax.axvspan(ev.band[0] / factor, ev.band[1] / factor, color=style.BAND_COLOUR, label=_band_text(ev))
     if finite.size:
-        ax.hist(finite / factor, bins=HISTOGRAM_BINS, color=style.PALETTE[0], edgecolor="white", linewidth=0.4,
-                label=f"{ev.mc.samples} samples, seed {ev.mc.seed}")
-    for q, v in sorted(ev.mc.percentiles.items()):
-        if math.isfinite(v):
-            ax.axvline(v / factor, color=style.LINE_COLOUR, linestyle=":", linewidth=1)
-            ax.text(v / factor, 1.0, f" p{100 * q:g}", transform=ax.get_xaxis_transform(), fontsize=8,
-                    va="top", ha="left")
-    ax.axvline(ev.nominal_s / factor, color=style.NOMINAL_COLOUR, linestyle="--",
-               label=f"nominal {fq(ev.nominal_s, 's')}")
+        _histogram(ax, ev, finite, factor, unit, label=True)
+        if np.ptp(finite) < ZOOM_BELOW * (ev.band[1] - ev.band[0]):
+            inset = ax.inset_axes((0.64, 0.42, 0.34, 0.45))
+            _histogram(inset, ev, finite, factor, unit, label=False)
+            inset.set_title("zoomed to the delays", fontsize=8)
+            inset.tick_params(labelsize=7)
+            inset.xaxis.label.set_size(7)
+            inset.yaxis.label.set_size(7)
     never = f"; {100 * ev.mc.never_ends_frac:.2g} % never end (not drawn)" if ev.mc.never_ends_frac else ""
     ax.set_title(f"{name}: Monte Carlo delay, yield {100 * ev.mc.yield_frac:.2f} % inside the band{never}")
-    ax.set_xlabel(f"delay [{unit}]")
-    ax.set_ylabel("samples per bin [count]")
     ax.legend(loc="upper left", fontsize=8)
     return fig
 
@@ -165,7 +184,7 @@ def pareto_figure(result: "StudyResult") -> "Figure | None":
     if not designs:
         return None
     from matplotlib.lines import Line2D
-    from matplotlib.ticker import EngFormatter, MaxNLocator, NullFormatter
+    from matplotlib.ticker import EngFormatter, LogLocator, MaxNLocator, NullFormatter
 
     from tradeoff.topologies.registry import topology_ids
 
@@ -181,6 +200,7 @@ def pareto_figure(result: "StudyResult") -> "Figure | None":
                     markeredgewidth=1.6, linestyle="none")
             ax.annotate(name, (x, y), textcoords="offset points", xytext=(6, 5), fontsize=8)
     accuracy.set_xscale("log")
+    accuracy.xaxis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
     accuracy.xaxis.set_major_formatter(EngFormatter(unit="A"))
     accuracy.xaxis.set_minor_formatter(NullFormatter())
     cost.xaxis.set_major_locator(MaxNLocator(integer=True))

@@ -40,6 +40,7 @@ RC_PARAMS = {
     "font.size": 9,
     "axes.titlesize": 10,
     "axes.grid": True,
+    "axes.axisbelow": True,
     "grid.color": "#e6e6e6",
     "axes.spines.top": False,
     "axes.spines.right": False,
