@@ -344,8 +344,9 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
 
     Example:
 
-        tradeoff sweep examples/fan_run_on.yaml --vary delay.nominal=10min..4h:5:log
-        --vary weights.effort=0,1,2,4 --jobs 2 --samples 2000 --plot map.png
+    \b
+        tradeoff sweep examples/fan_run_on.yaml --vary delay.nominal=10min..4h:5:log \\
+            --vary weights.effort=0,1,2,4 --jobs 2 --samples 2000 --plot map.png
     """
     from rich.console import Console
     from rich.progress import Progress
