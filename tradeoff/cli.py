@@ -169,7 +169,8 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
 
         click.echo(json_text(result), nl=False)
     else:
-        from tradeoff.report.study_text import render_study, report_console
+        from tradeoff.report.study_text import render_study
+        from tradeoff.report.terminal import report_console
 
         render_study(result, report_console())
     targets = dict(xlsx=xlsx_path, csv=csv_dir, plots=plots_dir, netlists=netlist_dir, review=review_dir)
@@ -183,14 +184,6 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
             click.echo(f"wrote {path}", err=True)
     if not result.feasible:
         sys.exit(1)
-
-
-def _report_console():
-    """rich Console for reports: the terminal's width, or 140 columns of plain text on a pipe."""
-    from rich.console import Console
-
-    console = Console()
-    return console if console.is_terminal else Console(width=140)
 
 
 def format_option(func):
@@ -261,9 +254,9 @@ def analyze_command(design, output_format, samples, seed, catalogs):
 
         click.echo(json.dumps(evaluation_dict(ev, brief), indent=2, allow_nan=False))
         return
-    from tradeoff.report.terminal import render_evaluation
+    from tradeoff.report.terminal import render_evaluation, report_console
 
-    render_evaluation(ev, brief, _report_console(), quantities=topology.quantities(loaded),
+    render_evaluation(ev, brief, report_console(), quantities=topology.quantities(loaded),
                       option_units=topology.option_units)
 
 
