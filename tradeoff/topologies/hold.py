@@ -396,7 +396,7 @@ class HoldState:
     """One batch of hold evaluations (arrays broadcast over samples or candidates x corners).
 
     r_ohm, c_f: hold resistor [ohm] and capacitor [F]; temp_c [degC]; supply_v [V]; release_a:
-    relay release current [A]; coil_ohm: coil resistance at temp_c [ohm]; leak with (a_typ, a_lim):
+    the unit's relay release current [A] (release_frac·Vc/R_coil at 25 degC); coil_ohm: coil resistance at temp_c [ohm]; leak with (a_typ, a_lim):
     capacitor leakage law; shunt_ohm: external shunt or None; x: every sample quantity by name
     (driver-specific ones included); driver: the driver part class.
     """
@@ -593,21 +593,22 @@ class RcHoldTopology(Topology):
             return (0.10, 0.00393) if self.brief.load.kind == "relay" else (0.0, 0.0)
         return relay.value("coil_resistance_tol", ""), relay.value("coil_tempco", "1/K")
 
-    def release_band_a(self) -> tuple[float, float]:
-        """Release current range [A]: must-release to must-operate currents of any unit.
+    def release_band_frac(self) -> tuple[float, float, float]:
+        """(must-release, must-operate) fractions of the coil's rated current and that rated voltage [V].
 
-        The datasheet's must-release / must-operate voltages hold for every unit within the coil
-        tolerance, so a unit's release current lies between must_release·Vc/R_max and
-        must_operate·Vc/R_min (release never exceeds that unit's pick-up current). A dc load
-        ends at half its current (stated assumption).
+        The datasheet's must-release / must-operate voltages hold for every unit at 20-25 degC with
+        its own coil resistance, and a relay releases at a current (ampere-turns), so a unit releases at
+        release_frac·Vc/R_unit with release_frac anywhere between must-release and must-operate (release
+        never exceeds that unit's pick-up). A dc load ends at half its current (stated assumption).
         """
         load = self.brief.load
         if load.kind != "relay":
-            return 0.5 * load.current_a, 0.5 * load.current_a
-        tol, _ = self.coil_tolerance()
-        r = load.coil_resistance_ohm
-        return (load.must_release_frac * load.coil_voltage_v / (r * (1 + tol)),
-                load.must_operate_frac * load.coil_voltage_v / (r * (1 - tol)))
+            return 0.5, 0.5, self.brief.supply.nominal_v
+        return load.must_release_frac, load.must_operate_frac, load.coil_voltage_v
+
+    def release_current_a(self, release_frac, coil_ohm) -> np.ndarray:
+        """Release current [A] of a unit at `release_frac` with coil resistance coil_ohm at 25 degC [ohm]."""
+        return np.asarray(release_frac, dtype=float) * self.release_band_frac()[2] / np.asarray(coil_ohm, dtype=float)
 
     def coil_ohm_at(self, coil_ohm, temp_c) -> np.ndarray:
         """Coil resistance at `temp_c` [degC] from its 25 degC value [ohm] (copper tempco)."""
@@ -646,13 +647,13 @@ class RcHoldTopology(Topology):
                                      self.brief, "F: hold capacitor"),
             LEAK_LEVEL: self.leakage(design).uncertain(),
         }
-        lo, hi = self.release_band_a()
-        q["release_a"] = Uncertain((lo + hi) / 2, lo, hi, unit="A", note="relay release current of a real unit: "
-                                   "between the must-release and must-operate currents (uniform)")
-        if "coil_ohm" in self.directions:
-            tol, _ = self.coil_tolerance()
-            q["coil_ohm"] = Uncertain.band(self.coil_nominal_ohm(), tol, unit="ohm",
-                                           note="coil resistance at 25 degC, relay class tolerance (uniform)")
+        lo, hi, _ = self.release_band_frac()
+        q["release_frac"] = Uncertain((lo + hi) / 2, lo, hi, unit="", note="release point of a real unit as a "
+                                      "fraction of its coil's rated current Vc/R_coil: between must-release and "
+                                      "must-operate (uniform)")
+        tol, _ = self.coil_tolerance()
+        q["coil_ohm"] = Uncertain.band(self.coil_nominal_ohm(), tol, unit="ohm",
+                                       note="coil resistance at 25 degC, relay class tolerance (uniform)")
         q.update(self.driver_uncertain(self.driver(design)))
         if self.power_on:
             q["r_start"] = component_band(design.values["r_start"],
@@ -681,9 +682,9 @@ class RcHoldTopology(Topology):
         leak = leak or self.leakage(design)
         temp = np.asarray(x["ambient_c"], dtype=float)
         a_typ, a_lim = leak.coefficients(temp, x[LEAK_LEVEL])
-        coil = x["coil_ohm"] if "coil_ohm" in x else self.coil_nominal_ohm()
+        coil = np.asarray(x["coil_ohm"], dtype=float)
         return HoldState(np.asarray(x["r_hold"], dtype=float), np.asarray(x["c_hold"], dtype=float), temp,
-                         np.asarray(x["supply_v"], dtype=float), np.asarray(x["release_a"], dtype=float),
+                         np.asarray(x["supply_v"], dtype=float), self.release_current_a(x["release_frac"], coil),
                          self.coil_ohm_at(coil, temp), leak, a_typ, a_lim, shunt_ohm(design), x, self.driver(design))
 
     def start(self, design: "Design", s: HoldState) -> tuple[np.ndarray, StartPulse | None]:
@@ -1010,8 +1011,9 @@ class RcHoldTopology(Topology):
             fixed_after_a=standby.after_a - (float(self.start_leakage_a(design0, typical=True)) if self.power_on else 0.0),
             rails=1, effort=self.effort(design0),
             notes=["hold block delays at the corners the model's monotone directions select (tests check them "
-                   "against exhaustive corners)"] + (["power-on: hold minimum from 95 % charge, start block adds "
-                                                      "the pulse length"] if self.power_on else []))
+                   "against exhaustive corners)"] + (["power-on: hold minimum from 95 % charge; the start block adds "
+                                                      "the pulse length to the nominal and maximum only"]
+                                                     if self.power_on else []))
 
     def _start_block(self, design0: "Design", hold_rows: pd.DataFrame) -> "Block":
         """Start block: (r_start, c_start) rows with the pulse length over its corners and the charge window."""
@@ -1055,7 +1057,9 @@ class RcHoldTopology(Topology):
             typical_leak[idx] = self.start_leakage_a(design0, typical=True, c_f=sub["c_start"].to_numpy(float),
                                                      part=self.catalog.part(part_id),
                                                      rated_v=sub["c_rated_v"].to_numpy(float))
-        table = rows.assign(delay_lo=pulses.min(axis=0), delay_nom=nom, delay_hi=pulses.max(axis=0), lines=2,
+        # delay_lo takes no credit for the pulse: while the PNP fades its tail may already drain a small hold
+        # capacitor, so only the hold block's own minimum (from 95 % charge) is a guaranteed lower bound
+        table = rows.assign(delay_lo=0.0, delay_nom=nom, delay_hi=pulses.max(axis=0), lines=2,
                             during_a=0.0, after_a=typical_leak,
                             log_window=np.log(np.maximum(window, 1e-300)))[keep]
         table = table.rename(columns={"r_part": "r_start_part", "c_part": "c_start_part", "c_rated_v": "c_start_rated_v"})
