@@ -152,17 +152,19 @@ class RcDarlington(RcHoldTopology):
         u_hi = np.log(np.maximum(ib_hi, 1e-300))
         u_lo = np.log(np.maximum(ib_lo, 1e-300))
         u_sat = np.log(j["sat_a"] / j["hfe"])
-        drop_sat = jt["vbe_on_v"] + 2 * jt["n"] * jt["vt_v"] * np.log(jt["sat_a"] / jt["test_a"])
+        r, slope = jt["r_ohm"], 2 * jt["n"] * jt["vt_v"]
+        drop_sat = jt["vbe_on_v"] + slope * np.log(jt["sat_a"] / jt["test_a"])
+        drop_at_1a = jt["vbe_on_v"] + slope * np.log(jt["hfe"] / jt["test_a"])  # VBE = drop_at_1a + slope·ln IB
 
         def linear(u):
             ib = np.exp(u)
-            v = ib * jt["r_ohm"] + darlington_vbe_v(ib, jt["hfe"], jt["vbe_on_v"], jt["test_a"], jt["n"], jt["vt_v"],
-                                                    jt["sat_a"])
-            return ib * jt["r_ohm"] + 2 * jt["n"] * jt["vt_v"], ib + s.leakage_a(v)
+            ib_r = ib * r
+            return ib_r + slope, ib + s.leakage_a(ib_r + drop_at_1a + slope * u)
 
         def saturated(u):
             ib = np.exp(u)
-            return ib * jt["r_ohm"], ib + s.leakage_a(ib * jt["r_ohm"] + drop_sat)
+            ib_r = ib * r
+            return ib_r, ib + s.leakage_a(ib_r + drop_sat)
 
         c = s.c_f
         t = discharge_time_s(c, u_lo, np.minimum(u_hi, u_sat), linear)
