@@ -97,7 +97,7 @@ MALFORMED = [
     # bad YAML
     ("yaml-colon-in-value", {3: "  nominal: 2 h: x"}, [(3, 15, "", "YAML syntax error: mapping values are not allowed")]),
     ("yaml-bad-indent", {4: "   tolerance: 10 %"}, [(4, 13, "", "YAML syntax error")]),
-    ("yaml-unclosed-list", {3: "  nominal: [2 h"}, [(4, 12, "", "YAML syntax error: expected ',' or ']'")]),
+    ("yaml-unclosed-list", {3: "  nominal: [2 h"}, [(4, 12, "", "expected ',' or ']'")]),
     ("yaml-duplicate-key", {4: "  nominal: 3 h"}, [(4, 3, "delay.nominal", "key given twice")]),
     # missing required fields
     ("missing-supply-nominal", {9: "#"}, [(8, 1, "supply.nominal", "missing required key 'nominal'")]),

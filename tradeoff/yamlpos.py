@@ -19,15 +19,19 @@ __all__ = ["compose", "load", "read_file", "load_located", "node_at", "locate", 
 
 Position = tuple[int | None, int | None]
 
+_SAFE_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+"""The safe loader, in its libyaml (C) build where PyYAML has it: the same safe constructors and
+node marks, about ten times faster on the catalogs."""
+
 
 def compose(text: str) -> yaml.Node | None:
     """The node tree of `text` (None for an empty document); raises yaml.YAMLError on bad syntax."""
-    return yaml.compose(text, Loader=yaml.SafeLoader)
+    return yaml.compose(text, Loader=_SAFE_LOADER)
 
 
 def load(text: str) -> tuple[yaml.Node | None, object]:
     """(node tree, data) of `text`, parsed once with the SafeLoader (as yaml.safe_load does)."""
-    loader = yaml.SafeLoader(text)
+    loader = _SAFE_LOADER(text)
     try:
         root = loader.get_single_node()
         return root, (loader.construct_document(root) if root is not None else None)
