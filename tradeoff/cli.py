@@ -155,6 +155,7 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
 
     Examples:
 
+    \b
         tradeoff study examples/towel_rail_boost.yaml --alternatives 2 --method topsis
 
         tradeoff study examples/towel_rail_boost.yaml --review out/review
