@@ -206,10 +206,27 @@ def worst_case(delay: DelayFunction, params: Mapping[str, Uncertain],
     )
 
 
+def _uniform(rng: np.random.Generator, lo: float, hi: float, n: int) -> np.ndarray:
+    """n uniform samples in [lo, hi): the same numbers as rng.uniform(lo, hi, n) (lo + (hi - lo)·U,
+    U from rng.random), computed in place, which is faster."""
+    u = rng.random(n)
+    u *= hi - lo
+    u += lo
+    return u
+
+
 def _truncated_standard_normal(rng: np.random.Generator, a: float, b: float, n: int) -> np.ndarray:
     """Standard-normal samples restricted to [a, b] by inverse transform (no rejection loop)."""
-    u = rng.uniform(ndtr(a), ndtr(b), n)
-    return ndtri(u)
+    u = _uniform(rng, float(ndtr(a)), float(ndtr(b)), n)
+    return ndtri(u, out=u)
+
+
+def _scaled_normal(rng: np.random.Generator, centre: float, sigma: float, lo: float, hi: float, n: int) -> np.ndarray:
+    """centre + sigma·Z for a standard normal Z truncated so the result lies in [lo, hi] (in place)."""
+    z = _truncated_standard_normal(rng, (lo - centre) / sigma, (hi - centre) / sigma, n)
+    z *= sigma
+    z += centre
+    return z
 
 
 def sample(params: Mapping[str, Uncertain], n: int, rng: np.random.Generator) -> dict[str, np.ndarray]:
@@ -220,16 +237,16 @@ def sample(params: Mapping[str, Uncertain], n: int, rng: np.random.Generator) ->
         if not p.spreads:
             out[name] = np.full(n, p.nominal)
         elif p.dist == "uniform":
-            out[name] = rng.uniform(p.lo, p.hi, n)
+            out[name] = _uniform(rng, p.lo, p.hi, n)
         elif p.dist == "lognormal":
             mu = math.log(p.nominal)
             sigma = max(mu - math.log(p.lo), math.log(p.hi) - mu) / _SIGMA_AT_LIMIT
-            a, b = (math.log(p.lo) - mu) / sigma, (math.log(p.hi) - mu) / sigma
-            out[name] = np.clip(np.exp(mu + sigma * _truncated_standard_normal(rng, a, b, n)), p.lo, p.hi)
+            x = _scaled_normal(rng, mu, sigma, math.log(p.lo), math.log(p.hi), n)
+            out[name] = np.clip(np.exp(x, out=x), p.lo, p.hi, out=x)
         elif p.dist == "normal":
             sigma = max(p.nominal - p.lo, p.hi - p.nominal) / _SIGMA_AT_LIMIT
-            a, b = (p.lo - p.nominal) / sigma, (p.hi - p.nominal) / sigma
-            out[name] = np.clip(p.nominal + sigma * _truncated_standard_normal(rng, a, b, n), p.lo, p.hi)
+            x = _scaled_normal(rng, p.nominal, sigma, p.lo, p.hi, n)
+            out[name] = np.clip(x, p.lo, p.hi, out=x)
         else:
             raise ValueError(f"unknown distribution {p.dist!r} for {name}")
     return out
@@ -255,17 +272,16 @@ def monte_carlo(delay: DelayFunction, params: Mapping[str, Uncertain], samples: 
     fixed by the seed, so results are reproducible.
     """
     rng = np.random.default_rng(seed)
-    parts = []
+    d = np.empty(samples)
     for start in range(0, samples, chunk):
         n = min(chunk, samples - start)
-        parts.append(_evaluate(delay, sample(params, n, rng)))
-    d = np.concatenate(parts)
+        d[start:start + n] = _evaluate(delay, sample(params, n, rng))
     finite = np.isfinite(d)
     inside = int(np.count_nonzero((d >= band[0]) & (d <= band[1])))
     tail = (1 - coverage) / 2
     levels = (round(tail, 12), 0.5, round(1 - tail, 12))
     if finite.all():
-        pct = {q: float(np.quantile(d, q)) for q in levels}
+        pct = dict(zip(levels, (float(v) for v in np.quantile(d, levels))))  # one partition for all levels
         mean, std = float(d.mean()), float(d.std())
     else:
         # Units that never time out sit above every finite delay; quantiles are taken with them

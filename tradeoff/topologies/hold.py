@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from abc import abstractmethod
 from typing import TYPE_CHECKING, Any, Callable, ClassVar, Mapping
 
@@ -44,7 +44,8 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = [
     "CHARGE_FRACTION_MIN", "CHARGE_TIME_CONSTANTS", "INSULATION_TYPICAL_FRAC", "LEAK_LEVEL",
     "thermal_voltage_v", "button_start_v", "StartPulse", "power_on_start", "charge_window_s",
-    "CapacitorLeakage", "level_weights", "leakage_level", "shunt_ohm", "shunt_current_a", "discharge_time_s", "gauss_legendre",
+    "CapacitorLeakage", "power_sum", "level_weights", "leakage_level", "shunt_ohm", "shunt_current_a", "discharge_time_s",
+    "discharge_integral_s", "gauss_legendre", "evaluate_in_chunks", "DELAY_CHUNK",
     "component_band", "hold_pairs", "HoldWaveform", "Dropped", "option", "HoldState", "RcHoldTopology",
 ]
 
@@ -167,17 +168,34 @@ def charge_window_s(supply_min_v, supply_max_v, r_start_min, tau_s_min, r_be, r_
 
 # ---- leakage ------------------------------------------------------------------------------------
 
-def _power(v: np.ndarray, n: float) -> np.ndarray:
-    """v ** n, with the common exponents 0, 1, 2, 3 as products (much faster than pow)."""
-    if n == 0:
-        return np.ones_like(v)
-    if n == 1:
-        return v
-    if n == 2:
-        return v * v
-    if n == 3:
-        return v * v * v
-    return v ** n
+_HORNER_MAX_EXPONENT = 4
+"""Largest integer exponent `power_sum` evaluates by nested products instead of pow."""
+
+
+def power_sum(v, terms) -> np.ndarray:
+    """Sum of power laws Σ c·v**n over `terms` = ((n, c), ...) (c broadcasts against v).
+
+    Equal exponents are merged; small non-negative integer exponents are evaluated by Horner's rule
+    in one output array (a·v³ + b·v as ((a·v)·v + b)·v: four array operations, no pow), others by pow.
+    """
+    v = np.asarray(v, dtype=float)
+    merged: dict[float, Any] = {}
+    for n, c in terms:
+        merged[n] = merged[n] + c if n in merged else c
+    if not all(float(n).is_integer() and 0 <= n <= _HORNER_MAX_EXPONENT for n in merged):
+        return sum(c * v ** n for n, c in merged.items())
+    top = int(max(merged))
+    out = np.empty(np.broadcast_shapes(v.shape, *(np.shape(c) for c in merged.values())))
+    if top == 0:
+        out[...] = merged[0]
+        return out
+    np.multiply(v, merged[top], out=out)
+    for k in range(top - 1, -1, -1):
+        if k in merged:
+            out += merged[k]
+        if k > 0:
+            out *= v
+    return out
 
 
 def level_weights(level, typical, limit) -> tuple[np.ndarray, np.ndarray]:
@@ -236,10 +254,14 @@ class CapacitorLeakage:
         typ, lim = level_weights(level, typ, lim)
         return typ / self.rated_v ** self.n_typ, lim / self.rated_v ** self.n_lim
 
-    def current_a(self, v, a_typ, a_lim) -> np.ndarray:
-        """Leakage [A] at capacitor voltage v [V] >= 0 with coefficients from `coefficients`."""
-        v = np.maximum(np.asarray(v, dtype=float), 0.0)
-        return a_typ * _power(v, self.n_typ) + a_lim * _power(v, self.n_lim)
+    def current_a(self, v, a_typ, a_lim, scratch: bool = False) -> np.ndarray:
+        """Leakage [A] at capacitor voltage v [V] >= 0 with coefficients from `coefficients`.
+
+        scratch: v is the caller's temporary array, which may be clipped at 0 V in place.
+        """
+        v = np.asarray(v, dtype=float)
+        v = np.maximum(v, 0.0, out=v if scratch and v.ndim else None)
+        return power_sum(v, ((self.n_typ, a_typ), (self.n_lim, a_lim)))
 
     def uncertain(self) -> Uncertain:
         """The leakage level as a spread quantity (normal about a typical part, the limit at 3 sigma)."""
@@ -309,12 +331,25 @@ def discharge_time_s(c_f, u_end, u_start, path: Callable[[np.ndarray], tuple[np.
     Fixed-node Gauss–Legendre quadrature: exact for polynomials of degree 2·nodes - 1; the hold
     integrands are smooth in these variables (tests/test_hold.py checks < 0.1 % against solve_ivp).
     """
+    def integrand(u):
+        dv_du, current = path(u)
+        return dv_du / current
+    return discharge_integral_s(c_f, u_end, u_start, integrand, nodes)
+
+
+def discharge_integral_s(c_f, u_end, u_start, integrand: Callable[[np.ndarray], np.ndarray],
+                         nodes: int = DEFAULT_NODES) -> np.ndarray:
+    """t = C ∫ f(u) du from u_end to u_start [s] with f = (dV/du) / i given whole (see `discharge_time_s`).
+
+    `integrand(u)` receives the nodes as a fresh array of shape (..., nodes) that it may overwrite
+    (so a hot path can build its quotient in place) and returns f at them [s/F per unit of u].
+    """
     x, w = gauss_legendre(nodes)
     u_end, u_start = np.broadcast_arrays(np.asarray(u_end, dtype=float), np.asarray(u_start, dtype=float))
     half = np.maximum(u_start - u_end, 0.0) / 2
-    u = (u_end + half)[..., None] + half[..., None] * x
-    dv_du, current = path(u)
-    return np.asarray(c_f, dtype=float) * half * ((dv_du / current) @ w)
+    u = half[..., None] * x
+    u += (u_end + half)[..., None]
+    return np.asarray(c_f, dtype=float) * half * (integrand(u) @ w)
 
 
 # ---- component bands and candidate pairs --------------------------------------------------------
@@ -398,7 +433,8 @@ class HoldState:
     r_ohm, c_f: hold resistor [ohm] and capacitor [F]; temp_c [degC]; supply_v [V]; release_a:
     the unit's relay release current [A] (release_frac·Vc/R_coil at 25 degC); coil_ohm: coil resistance at temp_c [ohm]; leak with (a_typ, a_lim):
     capacitor leakage law; shunt_ohm: external shunt or None; x: every sample quantity by name
-    (driver-specific ones included); driver: the driver part class.
+    (driver-specific ones included); driver: the driver part class; memo: per-sample arrays a driver
+    derives once per state (junction or gate parameters at the samples' temperature).
     """
 
     r_ohm: np.ndarray
@@ -413,17 +449,23 @@ class HoldState:
     shunt_ohm: float | None
     x: Mapping[str, np.ndarray]
     driver: "Part"
+    memo: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
-    def leakage_a(self, v) -> np.ndarray:
+    def leakage_a(self, v, scratch: bool = False) -> np.ndarray:
         """Capacitor leakage plus shunt current at capacitor voltage v [V] [A].
 
-        v may carry one trailing axis more than the state's arrays (quadrature nodes).
+        v may carry one trailing axis more than the state's arrays (quadrature nodes). scratch: v is
+        the caller's temporary array, which may be clipped at 0 V in place (saves one array).
         """
         v = np.asarray(v, dtype=float)
         a_typ, a_lim = np.asarray(self.a_typ), np.asarray(self.a_lim)
         if v.ndim > a_typ.ndim:
             a_typ, a_lim = a_typ[..., None], a_lim[..., None]
-        return self.leak.current_a(v, a_typ, a_lim) + shunt_current_a(v, self.shunt_ohm)
+        shunt = None if self.shunt_ohm is None else v / self.shunt_ohm
+        out = self.leak.current_a(v, a_typ, a_lim, scratch)
+        if shunt is not None:
+            out += shunt
+        return out
 
     def trail(self, name: str) -> np.ndarray:
         """Sample quantity `name` with a trailing axis of length 1 (to broadcast against nodes)."""
@@ -447,6 +489,22 @@ off after its pulse (common practice: a silicon junction conducts negligibly bel
 
 DELAY_CHUNK = 16384
 """Samples evaluated at once by the hold delay models (keeps the node arrays in cache)."""
+
+
+def evaluate_in_chunks(function: Callable[[dict[str, np.ndarray]], np.ndarray], x: Mapping[str, np.ndarray],
+                       chunk: int = DELAY_CHUNK) -> np.ndarray:
+    """function(x) [s] over long one-dimensional sample arrays, `chunk` samples at a time.
+
+    The quadrature's (samples x nodes) temporaries of one chunk stay in the processor cache (about
+    2.5 times faster at a million samples than one pass). Arrays of another length (scalars) and
+    multi-dimensional batches (candidates x corners) are passed whole.
+    """
+    x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
+    n = max(v.size for v in x.values())
+    if n <= chunk or any(v.ndim > 1 for v in x.values()):
+        return function(x)
+    return np.concatenate([function({k: v[i:i + chunk] if v.size == n else v for k, v in x.items()})
+                           for i in range(0, n, chunk)])
 
 FLYBACK_REVERSE_FACTOR = 3.0
 """Flyback diode reverse rating of about 3 times the supply (relay manufacturers' application notes)."""
@@ -706,19 +764,14 @@ class RcHoldTopology(Topology):
     def delay(self, design: "Design", x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Delay [s]: (power-on pulse +) hold time from the start voltage to the relay's release.
 
-        Long sample arrays are evaluated in chunks of DELAY_CHUNK so the quadrature's temporaries stay
-        in the processor cache (about 2.5 times faster at a million samples than one pass).
+        Long sample arrays are evaluated in chunks (`evaluate_in_chunks`); the leakage law is built once.
         """
-        x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
-        n = max(v.size for v in x.values())
-        if n <= DELAY_CHUNK or any(v.ndim > 1 for v in x.values()):
-            return self._delay(design, x)
-        return np.concatenate([self._delay(design, {k: v[i:i + DELAY_CHUNK] if v.size == n else v
-                                                    for k, v in x.items()}) for i in range(0, n, DELAY_CHUNK)])
+        leak = self.leakage(design)
+        return evaluate_in_chunks(lambda chunk: self._delay(design, chunk, leak), x)
 
-    def _delay(self, design: "Design", x: Mapping[str, np.ndarray]) -> np.ndarray:
+    def _delay(self, design: "Design", x: Mapping[str, np.ndarray], leak: CapacitorLeakage | None = None) -> np.ndarray:
         """Delay [s] of one chunk of samples (see `delay`)."""
-        s = self.state(design, x)
+        s = self.state(design, x, leak)
         v0, pulse = self.start(design, s)
         t = self.hold_s(s, v0)
         return t if pulse is None else t + pulse.pulse_s

@@ -27,7 +27,7 @@ import numpy as np
 from tradeoff.analysis import Uncertain
 from tradeoff.topologies.base import Finding
 from tradeoff.topologies.hold import (
-    CHARGE_FRACTION_MIN, HoldState, RcHoldTopology, discharge_time_s, thermal_voltage_v,
+    CHARGE_FRACTION_MIN, HoldState, RcHoldTopology, discharge_integral_s, thermal_voltage_v,
 )
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -107,17 +107,24 @@ class RcDarlington(RcHoldTopology):
         }
 
     def junction(self, s: HoldState, trail: bool = False) -> dict[str, np.ndarray]:
-        """Junction-law parameters of the samples at their temperature (trailing node axis if `trail`)."""
-        d = s.driver
-        dt = s.temp_c - 25.0
-        p = {"hfe": s.x["hfe"] * np.exp(d.value("hfe_tempco", "1/K") * dt),
-             "vbe_on_v": s.x["vbe_on"] + d.value("vbe_tempco", "V/K") * dt,
-             "vt_v": thermal_voltage_v(s.temp_c), "sat_a": np.maximum(s.supply_v - d.value("vce_sat", "V"), 1e-3)
-             / s.coil_ohm, "r_ohm": s.r_ohm}
-        p = {k: np.asarray(v, dtype=float) for k, v in p.items()}
+        """Junction-law parameters of the samples at their temperature (trailing node axis if `trail`).
+
+        Computed once per state (kept in s.memo): every hold evaluation needs them several times.
+        """
+        p = s.memo.get("junction")
+        if p is None:
+            d = s.driver
+            dt = s.temp_c - 25.0
+            p = {"hfe": s.x["hfe"] * np.exp(d.value("hfe_tempco", "1/K") * dt),
+                 "vbe_on_v": s.x["vbe_on"] + d.value("vbe_tempco", "V/K") * dt,
+                 "vt_v": thermal_voltage_v(s.temp_c), "sat_a": np.maximum(s.supply_v - d.value("vce_sat", "V"), 1e-3)
+                 / s.coil_ohm, "r_ohm": s.r_ohm}
+            p = {k: np.asarray(v, dtype=float) for k, v in p.items()}
+            p.update(test_a=d.value("vbe_test_current", "A"), n=d.value("ideality", ""))
+            s.memo["junction"] = p
         if trail:
-            p = {k: v[..., None] for k, v in p.items()}
-        return {**p, "test_a": d.value("vbe_test_current", "A"), "n": d.value("ideality", "")}
+            return {k: v[..., None] if isinstance(v, np.ndarray) else v for k, v in p.items()}
+        return dict(p)
 
     def discharge_a(self, s: HoldState, v) -> np.ndarray:
         """Base current plus leakage and shunt at capacitor voltage v [V] [A]."""
@@ -148,27 +155,42 @@ class RcDarlington(RcHoldTopology):
     def time_between_ib(self, s: HoldState, ib_hi, ib_lo) -> np.ndarray:
         """Discharge time from base current ib_hi to ib_lo [A] [s]: quadrature in u = ln IB, split where
         the Darlington saturates."""
-        j, jt = self.junction(s), self.junction(s, trail=True)
+        j = self.junction(s)
         u_hi = np.log(np.maximum(ib_hi, 1e-300))
         u_lo = np.log(np.maximum(ib_lo, 1e-300))
         u_sat = np.log(j["sat_a"] / j["hfe"])
-        r, slope = jt["r_ohm"], 2 * jt["n"] * jt["vt_v"]
-        drop_sat = jt["vbe_on_v"] + slope * np.log(jt["sat_a"] / jt["test_a"])
-        drop_at_1a = jt["vbe_on_v"] + slope * np.log(jt["hfe"] / jt["test_a"])  # VBE = drop_at_1a + slope·ln IB
+        slope = 2 * j["n"] * j["vt_v"]
+        drop_sat = (j["vbe_on_v"] + slope * np.log(j["sat_a"] / j["test_a"]))[..., None]
+        # VBE = drop_at_1a + slope·ln IB
+        drop_at_1a = (j["vbe_on_v"] + slope * np.log(j["hfe"] / j["test_a"]))[..., None]
+        r, slope = j["r_ohm"][..., None], slope[..., None]
 
+        # integrands (dV/du) / i(u) at the nodes u (overwritten), built in place: dV/du = IB·r (+ slope
+        # out of saturation), i = IB + leakage(V) + shunt(V), V = IB·r + VBE
         def linear(u):
             ib = np.exp(u)
-            ib_r = ib * r
-            return ib_r + slope, ib + s.leakage_a(ib_r + drop_at_1a + slope * u)
+            dv_du = ib * r
+            v = np.multiply(u, slope, out=u)
+            v += drop_at_1a
+            v += dv_du
+            current = s.leakage_a(v, scratch=True)
+            current += ib
+            dv_du += slope
+            dv_du /= current
+            return dv_du
 
         def saturated(u):
-            ib = np.exp(u)
-            ib_r = ib * r
-            return ib_r, ib + s.leakage_a(ib_r + drop_sat)
+            ib = np.exp(u, out=u)
+            dv_du = ib * r
+            current = s.leakage_a(dv_du + drop_sat, scratch=True)
+            current += ib
+            dv_du /= current
+            return dv_du
 
         c = s.c_f
-        t = discharge_time_s(c, u_lo, np.minimum(u_hi, u_sat), linear)
-        return t + discharge_time_s(c, np.maximum(u_lo, u_sat), u_hi, saturated)
+        t = discharge_integral_s(c, u_lo, np.minimum(u_hi, u_sat), linear)
+        t += discharge_integral_s(c, np.maximum(u_lo, u_sat), u_hi, saturated)
+        return t
 
     def start_drive(self, r_hi_ohm: np.ndarray, design: "Design") -> tuple[np.ndarray, str]:
         """Base current at the start must saturate the Darlington at its worst corner.
