@@ -122,11 +122,14 @@ class MonteCarlo:
     delays: np.ndarray = field(repr=False, compare=False)
 
 
-def _evaluate(delay: DelayFunction, x: Mapping[str, np.ndarray]) -> np.ndarray:
-    """Call the delay model and check its output shape; NaN is a model bug, inf means 'never ends'."""
+def _evaluate(delay: DelayFunction, x: Mapping[str, np.ndarray], out: np.ndarray | None = None) -> np.ndarray:
+    """Call the delay model and copy its output (into `out` when given, shape checked); NaN is a model bug,
+    inf means 'never ends'."""
     n = len(next(iter(x.values())))
-    out = np.asarray(delay(x), dtype=float)
-    out = np.broadcast_to(out, (n,)).astype(float, copy=True)
+    result = np.asarray(delay(x), dtype=float)
+    if out is None:
+        out = np.empty(n)
+    out[...] = np.broadcast_to(result, (n,))
     if np.isnan(out).any():
         raise FloatingPointError("delay model returned NaN; models must return inf for 'never times out'")
     return out
@@ -206,50 +209,53 @@ def worst_case(delay: DelayFunction, params: Mapping[str, Uncertain],
     )
 
 
-def _uniform(rng: np.random.Generator, lo: float, hi: float, n: int) -> np.ndarray:
-    """n uniform samples in [lo, hi): the same numbers as rng.uniform(lo, hi, n) (lo + (hi - lo)·U,
-    U from rng.random), computed in place, which is faster."""
-    u = rng.random(n)
-    u *= hi - lo
-    u += lo
-    return u
+def _uniform(rng: np.random.Generator, lo: float, hi: float, out: np.ndarray) -> np.ndarray:
+    """Fill `out` with uniform samples in [lo, hi): the same numbers as rng.uniform(lo, hi, len(out))
+    (lo + (hi - lo)·U, U from rng.random), computed in place, which is faster."""
+    rng.random(out=out)
+    out *= hi - lo
+    out += lo
+    return out
 
 
-def _truncated_standard_normal(rng: np.random.Generator, a: float, b: float, n: int) -> np.ndarray:
-    """Standard-normal samples restricted to [a, b] by inverse transform (no rejection loop)."""
-    u = _uniform(rng, float(ndtr(a)), float(ndtr(b)), n)
-    return ndtri(u, out=u)
+def _scaled_normal(rng: np.random.Generator, centre: float, sigma: float, lo: float, hi: float,
+                   out: np.ndarray) -> np.ndarray:
+    """Fill `out` with centre + sigma·Z, Z standard normal truncated so the result lies in [lo, hi]
+    (inverse transform of a uniform between the limits' probabilities: no rejection loop)."""
+    _uniform(rng, float(ndtr((lo - centre) / sigma)), float(ndtr((hi - centre) / sigma)), out)
+    ndtri(out, out=out)
+    out *= sigma
+    out += centre
+    return out
 
 
-def _scaled_normal(rng: np.random.Generator, centre: float, sigma: float, lo: float, hi: float, n: int) -> np.ndarray:
-    """centre + sigma·Z for a standard normal Z truncated so the result lies in [lo, hi] (in place)."""
-    z = _truncated_standard_normal(rng, (lo - centre) / sigma, (hi - centre) / sigma, n)
-    z *= sigma
-    z += centre
-    return z
+def sample(params: Mapping[str, Uncertain], n: int, rng: np.random.Generator,
+           out: Mapping[str, np.ndarray] | None = None) -> dict[str, np.ndarray]:
+    """Draw n samples of every quantity from its stated distribution (names in sorted order).
 
-
-def sample(params: Mapping[str, Uncertain], n: int, rng: np.random.Generator) -> dict[str, np.ndarray]:
-    """Draw n samples of every quantity from its stated distribution (names in sorted order)."""
-    out: dict[str, np.ndarray] = {}
+    out: arrays of length n (one per name) to fill instead of new ones; `monte_carlo` reuses them
+    from chunk to chunk so no fresh memory is touched per chunk.
+    """
+    drawn: dict[str, np.ndarray] = {}
     for name in sorted(params):
         p = params[name]
+        x = np.empty(n) if out is None else out[name]
         if not p.spreads:
-            out[name] = np.full(n, p.nominal)
+            x.fill(p.nominal)
         elif p.dist == "uniform":
-            out[name] = _uniform(rng, p.lo, p.hi, n)
+            _uniform(rng, p.lo, p.hi, x)
         elif p.dist == "lognormal":
             mu = math.log(p.nominal)
             sigma = max(mu - math.log(p.lo), math.log(p.hi) - mu) / _SIGMA_AT_LIMIT
-            x = _scaled_normal(rng, mu, sigma, math.log(p.lo), math.log(p.hi), n)
-            out[name] = np.clip(np.exp(x, out=x), p.lo, p.hi, out=x)
+            _scaled_normal(rng, mu, sigma, math.log(p.lo), math.log(p.hi), x)
+            np.clip(np.exp(x, out=x), p.lo, p.hi, out=x)
         elif p.dist == "normal":
             sigma = max(p.nominal - p.lo, p.hi - p.nominal) / _SIGMA_AT_LIMIT
-            x = _scaled_normal(rng, p.nominal, sigma, p.lo, p.hi, n)
-            out[name] = np.clip(x, p.lo, p.hi, out=x)
+            np.clip(_scaled_normal(rng, p.nominal, sigma, p.lo, p.hi, x), p.lo, p.hi, out=x)
         else:
             raise ValueError(f"unknown distribution {p.dist!r} for {name}")
-    return out
+        drawn[name] = x
+    return drawn
 
 
 def wilson_interval(successes: int, n: int, confidence: float = 0.95) -> tuple[float, float]:
@@ -268,14 +274,15 @@ def monte_carlo(delay: DelayFunction, params: Mapping[str, Uncertain], samples: 
                 band: tuple[float, float], coverage: float, chunk: int = 250_000) -> MonteCarlo:
     """Monte Carlo of the delay: mean, spread, percentiles at the coverage, yield inside `band` [s].
 
-    Samples are drawn and evaluated in chunks so memory stays bounded; the draw order is
-    fixed by the seed, so results are reproducible.
+    Samples are drawn and evaluated in chunks so memory stays bounded (the chunk's sample arrays
+    are reused); the draw order is fixed by the seed, so results are reproducible.
     """
     rng = np.random.default_rng(seed)
     d = np.empty(samples)
+    buffers = {name: np.empty(min(chunk, samples)) for name in params}
     for start in range(0, samples, chunk):
         n = min(chunk, samples - start)
-        d[start:start + n] = _evaluate(delay, sample(params, n, rng))
+        _evaluate(delay, sample(params, n, rng, {k: b[:n] for k, b in buffers.items()}), out=d[start:start + n])
     finite = np.isfinite(d)
     inside = int(np.count_nonzero((d >= band[0]) & (d <= band[1])))
     tail = (1 - coverage) / 2

@@ -41,7 +41,7 @@ def electrolytic_leakage_a(c_f, v_applied, v_rated, temp_c, part, typical: bool 
     limit = np.maximum(part.value("leakage_k", "A/(F*V)") * c_f * v_rated, part.value("leakage_floor", "A"))
     exponent = part.value("leakage_voltage_exponent" if typical else "leakage_voltage_exponent_limit", "")
     doubling_k = part.value("leakage_temp_doubling", "K")
-    current = limit * (v_applied / v_rated) ** exponent * 2.0 ** ((temp_c - LEAKAGE_REFERENCE_C) / doubling_k)
+    current = limit * (v_applied / v_rated) ** exponent * np.exp2((temp_c - LEAKAGE_REFERENCE_C) / doubling_k)
     if typical:
         current = current * part.value("leakage_typical_frac", "")
     return current

@@ -243,8 +243,9 @@ class CapacitorLeakage:
         """(typical, limit) leakage at rated voltage and `temp_c` [degC] [A]."""
         temp_c = np.asarray(temp_c, dtype=float)
         if self.electrolytic:
-            return tuple(physics.electrolytic_leakage_a(self.c_f, self.rated_v, self.rated_v, temp_c, self.part,
-                                                        typical=typical) for typical in (True, False))
+            # at rated voltage the voltage law is 1, so the typical part is the limit times its fraction
+            limit = physics.electrolytic_leakage_a(self.c_f, self.rated_v, self.rated_v, temp_c, self.part)
+            return limit * self.part.value("leakage_typical_frac", ""), limit
         limit = self.rated_v / self.insulation_ohm + 0 * temp_c
         return INSULATION_TYPICAL_FRAC * limit, limit
 
@@ -461,7 +462,7 @@ class HoldState:
         a_typ, a_lim = np.asarray(self.a_typ), np.asarray(self.a_lim)
         if v.ndim > a_typ.ndim:
             a_typ, a_lim = a_typ[..., None], a_lim[..., None]
-        shunt = None if self.shunt_ohm is None else v / self.shunt_ohm
+        shunt = None if self.shunt_ohm is None else shunt_current_a(v, self.shunt_ohm)
         out = self.leak.current_a(v, a_typ, a_lim, scratch)
         if shunt is not None:
             out += shunt
@@ -487,7 +488,7 @@ START_PNP_OFF_V = 0.3
 """Design rule: the start capacitor's leakage across r_be must stay below 0.3 V so the start PNP stays
 off after its pulse (common practice: a silicon junction conducts negligibly below about 0.4 V)."""
 
-DELAY_CHUNK = 16384
+DELAY_CHUNK = 8192
 """Samples evaluated at once by the hold delay models (keeps the node arrays in cache)."""
 
 
@@ -503,8 +504,10 @@ def evaluate_in_chunks(function: Callable[[dict[str, np.ndarray]], np.ndarray], 
     n = max(v.size for v in x.values())
     if n <= chunk or any(v.ndim > 1 for v in x.values()):
         return function(x)
-    return np.concatenate([function({k: v[i:i + chunk] if v.size == n else v for k, v in x.items()})
-                           for i in range(0, n, chunk)])
+    out = np.empty(n)
+    for i in range(0, n, chunk):
+        out[i:i + chunk] = function({k: v[i:i + chunk] if v.size == n else v for k, v in x.items()})
+    return out
 
 FLYBACK_REVERSE_FACTOR = 3.0
 """Flyback diode reverse rating of about 3 times the supply (relay manufacturers' application notes)."""

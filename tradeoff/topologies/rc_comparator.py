@@ -149,25 +149,44 @@ class RcComparator(Topology):
         """Capacitor voltage at which the comparator switches [V]: the threshold plus the offset."""
         return threshold_v(x["v_ref"], x["drain_v"], x["r_top"], x["r_bottom"], x["r_hyst"]) + x["offset_v"]
 
-    def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
-        """Current leaving the hold capacitor at voltage v [V]: hold resistor, leakage, bias, optional shunt [A]."""
-        leak = self._leakage(design)
+    @staticmethod
+    def _current_terms(leak: hold.CapacitorLeakage, x: Mapping[str, np.ndarray], shunt: float | None):
+        """Discharge current I(V) = Σ c·V**n as (n, c) terms: leakage power laws, the hold resistor's and
+        shunt's conductance (n = 1) and the comparator's bias current (n = 0) [A/V^n]."""
         a_typ, a_lim = leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL])
-        return (v / x["r_hold"] + leak.current_a(v, a_typ, a_lim) + x["bias_a"]
-                + hold.shunt_current_a(v, hold.shunt_ohm(design)))
+        conductance = 1.0 / x["r_hold"] + (0.0 if shunt is None else 1.0 / shunt)
+        return [(leak.n_typ, a_typ), (leak.n_lim, a_lim), (1, conductance), (0, x["bias_a"])]
+
+    def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Current leaving the hold capacitor at voltage v [V] > 0: hold resistor, leakage, bias, optional shunt [A]."""
+        x = {k: np.asarray(val, dtype=float) for k, val in x.items()}
+        return hold.power_sum(v, self._current_terms(self._leakage(design), x, hold.shunt_ohm(design)))
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
-        """Discharge time from the rail to the trip voltage [s]; inf where the current at the trip is not positive."""
-        x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
+        """Discharge time from the rail to the trip voltage [s]; inf where the current at the trip is not positive.
+
+        Long sample arrays are evaluated in chunks (hold.evaluate_in_chunks); the leakage law is built once.
+        """
+        leak, shunt = self._leakage(design), hold.shunt_ohm(design)
+        return hold.evaluate_in_chunks(lambda chunk: self._delay(chunk, leak, shunt), x)
+
+    def _delay(self, x: Mapping[str, np.ndarray], leak: hold.CapacitorLeakage, shunt: float | None) -> np.ndarray:
+        """Delay [s] of one chunk of samples (see `delay`)."""
         v0, v_end = x["rail_v"], np.clip(self.trip_v(x), 1e-6, None)
-        ends = (self.discharge_current_a(design, v_end, x) > 0) & (v0 > v_end)
-        along = {k: v[..., None] for k, v in x.items()}
+        terms = self._current_terms(leak, x, shunt)
+        ends = (hold.power_sum(v_end, terms) > 0) & (v0 > v_end)
+        # I(V) rises with V, so it stays positive above the trip where it is positive at the trip; samples that
+        # never end get no bias current in the quadrature (their result is replaced below)
+        n_bias, bias = terms[-1]
+        terms[-1] = (n_bias, np.where(ends, bias, 0.0))
+        along = [(n, np.asarray(c)[..., None]) for n, c in terms]
 
-        def path(u):
-            v = np.exp(u)
-            return v, np.where(ends[..., None], self.discharge_current_a(design, v, along), 1.0)
+        def integrand(u):  # (dV/du) / I = V / I(V) in u = ln V, built in place
+            v = np.exp(u, out=u)
+            current = hold.power_sum(v, along)
+            return np.divide(v, current, out=current)
 
-        t = hold.discharge_time_s(x["c_hold"], np.log(v_end), np.log(np.maximum(v0, v_end)), path)
+        t = hold.discharge_integral_s(x["c_hold"], np.log(v_end), np.log(np.maximum(v0, v_end)), integrand)
         return np.where(ends, t, np.where(v0 > v_end, np.inf, 0.0))
 
     def _currents(self, design: Design, rail: logic.LogicRail) -> tuple[float, float]:

@@ -158,11 +158,12 @@ class RcDarlington(RcHoldTopology):
         j = self.junction(s)
         u_hi = np.log(np.maximum(ib_hi, 1e-300))
         u_lo = np.log(np.maximum(ib_lo, 1e-300))
-        u_sat = np.log(j["sat_a"] / j["hfe"])
+        log_sat, log_hfe, log_test = np.log(j["sat_a"]), np.log(j["hfe"]), math.log(j["test_a"])
+        u_sat = log_sat - log_hfe
         slope = 2 * j["n"] * j["vt_v"]
-        drop_sat = (j["vbe_on_v"] + slope * np.log(j["sat_a"] / j["test_a"]))[..., None]
+        drop_sat = (j["vbe_on_v"] + slope * (log_sat - log_test))[..., None]
         # VBE = drop_at_1a + slope·ln IB
-        drop_at_1a = (j["vbe_on_v"] + slope * np.log(j["hfe"] / j["test_a"]))[..., None]
+        drop_at_1a = (j["vbe_on_v"] + slope * (log_hfe - log_test))[..., None]
         r, slope = j["r_ohm"][..., None], slope[..., None]
 
         # integrands (dV/du) / i(u) at the nodes u (overwritten), built in place: dV/du = IB·r (+ slope
