@@ -481,6 +481,16 @@ REAL_BRIEFS = {
     "propagator mat, power-on start": ("propagator_mat.yaml", {}),
     "fan run-on at 20 s to 40 s, power-on start": ("fan_run_on.yaml", {"start": "power-on", "delay.nominal": "30 s",
                                                                        "delay.min": "20 s", "delay.max": "40 s"}),
+    # Short holds where the RC holds, the comparator, the 555 and the RC counter have feasible
+    # designs, so the comparison is between two optima and not only two verdicts of infeasibility.
+    "hold of 10 s to 60 s, power-on start": ("fan_run_on.yaml", {"start": "power-on", "delay.nominal": "35 s",
+                                                                 "delay.min": "10 s", "delay.max": "60 s"}),
+    "hold of 10 s to 60 s, button, 1 mA standby": ("fan_run_on.yaml", {
+        "start": "button", "delay.nominal": "35 s", "delay.min": "10 s", "delay.max": "60 s",
+        "limits.standby_after": "1 mA"}),
+    "hold of 1 min to 3 min, power-on, 1 mA standby": ("fan_run_on.yaml", {
+        "start": "power-on", "delay.nominal": "2 min", "delay.min": "1 min", "delay.max": "3 min",
+        "limits.standby_after": "1 mA"}),
 }
 
 
