@@ -568,6 +568,26 @@ class RcHoldTopology(Topology):
         """SPICE element lines of the driver (capacitor node 'hold', coil node 'col') and its .model lines."""
 
     # ---- built on the hooks ---------------------------------------------------------------
+    def coil_current_finding(self, rating_a: float, driver: str, rating: str) -> list[Finding]:
+        """Violation when the coil current at the highest supply and lowest coil resistance exceeds the
+        driver's current rating `rating_a` [A] (driver: 'Darlington', 'MOSFET'; rating: 'IC', 'ID')."""
+        from tradeoff.units import format_quantity as fq
+
+        coil = self.brief.supply.max_v / (self.coil_nominal_ohm() * (1 - self.coil_tolerance()[0]))
+        if coil <= rating_a:
+            return []
+        return [Finding("violation", "driver-current", f"coil current {fq(coil, 'A')} exceeds the {driver}'s "
+                        f"{rating} rating {fq(rating_a, 'A')}")]
+
+    @staticmethod
+    def leakage_finding(text: str, leak_a: float, drive_a: float) -> Finding:
+        """Warning when leakage at release, `leak_a` [A], reaches the current that holds the driver on,
+        `drive_a` [A]: the end of the hold is then set by leakage, which datasheets bound only loosely."""
+        if leak_a >= drive_a:
+            return Finding("warning", "leakage-dominates", f"{text}: the end of the hold is set by leakage, which "
+                           "datasheets bound only loosely")
+        return Finding("info", "leakage-dominates", text)
+
     def hold_s(self, s: HoldState, v0) -> np.ndarray:
         """Time from start voltage v0 [V] until the coil current falls to s.release_a [s]."""
         return self.time_between_s(s, v0, self.voltage_for_a(s, s.release_a))

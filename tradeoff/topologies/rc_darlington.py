@@ -228,22 +228,15 @@ class RcDarlington(RcHoldTopology):
         if v_max > d.value("vceo_max", "V"):
             out.append(Finding("violation", "driver-rating", f"supply {fq(v_max, 'V')} exceeds the Darlington's VCEO "
                                f"{fq(d.value('vceo_max', 'V'), 'V')}"))
-        coil = v_max / (self.coil_nominal_ohm() * (1 - self.coil_tolerance()[0]))
-        if coil > d.value("ic_max", "A"):
-            out.append(Finding("violation", "driver-current", f"coil current {fq(coil, 'A')} exceeds the Darlington's "
-                               f"IC rating {fq(d.value('ic_max', 'A'), 'A')}"))
+        out += self.coil_current_finding(d.value("ic_max", "A"), "Darlington", "IC")
         hot = {"ambient_c": self.brief.ambient.max_c, "leak_level": 1.0}
         s = self.nominal_state(design, hot)
         v_rel = self.voltage_for_a(s, s.release_a)
         leak = float(s.leakage_a(v_rel)[0])
         ib = float(base_current_a(v_rel, **self.junction(s))[0])
-        text = (f"capacitor leakage at release (datasheet limit, {self.brief.ambient.max_c:g} °C) {fq(leak, 'A')} "
-                f"against the base current at release {fq(ib, 'A')}")
-        if leak >= ib:
-            out.append(Finding("warning", "leakage-dominates", f"{text}: the end of the hold is set by the capacitor's "
-                               "leakage, which its datasheet bounds only loosely"))
-        else:
-            out.append(Finding("info", "leakage-dominates", text))
+        out.append(self.leakage_finding(
+            f"capacitor leakage at release (datasheet limit, {self.brief.ambient.max_c:g} °C) {fq(leak, 'A')} "
+            f"against the base current at release {fq(ib, 'A')}", leak, ib))
         return out
 
     def driver_spice(self, s: HoldState) -> tuple[list[str], list[str]]:

@@ -125,21 +125,14 @@ class RcMosfet(RcHoldTopology):
             if value > d.value(name, "V"):
                 out.append(Finding("violation", "driver-rating", f"{what} up to {fq(value, 'V')} exceeds the MOSFET's "
                                    f"{what} rating {fq(d.value(name, 'V'), 'V')}"))
-        coil = v_max / (self.coil_nominal_ohm() * (1 - self.coil_tolerance()[0]))
-        if coil > d.value("id_max", "A"):
-            out.append(Finding("violation", "driver-current", f"coil current {fq(coil, 'A')} exceeds the MOSFET's "
-                               f"ID rating {fq(d.value('id_max', 'A'), 'A')}"))
+        out += self.coil_current_finding(d.value("id_max", "A"), "MOSFET", "ID")
         s = self.nominal_state(design, {"ambient_c": self.brief.ambient.max_c, "leak_level": 1.0, "gate_leak": 1.0})
         v_rel = self.voltage_for_a(s, s.release_a)
         leak = float(s.leakage_a(v_rel)[0] + v_rel[0] * (self.gate(s)["g"][0] - 1 / s.r_ohm[0]))
         bleed = float(v_rel[0] / s.r_ohm[0])
-        text = (f"capacitor and gate leakage at release (limits, {self.brief.ambient.max_c:g} °C) {fq(leak, 'A')} "
-                f"against the bleed current at release {fq(bleed, 'A')}")
-        if leak >= bleed:
-            out.append(Finding("warning", "leakage-dominates", f"{text}: the end of the hold is set by leakage, "
-                               "which datasheets bound only loosely"))
-        else:
-            out.append(Finding("info", "leakage-dominates", text))
+        out.append(self.leakage_finding(
+            f"capacitor and gate leakage at release (limits, {self.brief.ambient.max_c:g} °C) {fq(leak, 'A')} "
+            f"against the bleed current at release {fq(bleed, 'A')}", leak, bleed))
         return out
 
     def driver_spice(self, s: HoldState) -> tuple[list[str], list[str]]:
