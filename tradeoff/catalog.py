@@ -232,6 +232,11 @@ class Part:
         return self.param(name).source
 
     @property
+    def summary(self) -> str:
+        """The description up to its first comma, without '(generic class)': the short text a BOM's value column shows."""
+        return self.description.split(", ")[0].replace(" (generic class)", "").strip()
+
+    @property
     def cost(self) -> float:
         """Indicative unit cost [EUR]: a default to be replaced by the user's own prices."""
         return self.value("cost", "")

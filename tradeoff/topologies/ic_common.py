@@ -175,7 +175,7 @@ def diode(topo: "Topology", ref: str, note: str, reverse_factor: float = 1.0) ->
     need = reverse_factor * topo.brief.supply.max_v
     part = logic.cheapest(topo.catalog, "diode", lambda p: p.value("vr_max", "V") >= need,
                           f"{note}: a diode rated {fq(need, 'V')} reverse")
-    return BomLine(ref, part.id, part.description, 1, part.cost, note)
+    return BomLine(ref, part.id, part.summary, 1, part.cost, note)
 
 
 def _start_values(topo: "Topology") -> tuple[float, float, float]:

@@ -163,7 +163,7 @@ def resistor_class(catalog: "Catalog", value_ohm: float) -> "Part":
 def rail_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, ic_ref: str, ic: "Part") -> list[BomLine]:
     """The IC with its decoupling capacitor, and the regulator with its two capacitors when there is one."""
     decoupling = _ceramic(catalog, _DECOUPLING_F, rail.max_v)
-    lines = [BomLine(ic_ref, ic.id, ic.description, 1, ic.cost),
+    lines = [BomLine(ic_ref, ic.id, ic.summary, 1, ic.cost),
              BomLine("C1", decoupling.id, fq(_DECOUPLING_F, "F"), 1, decoupling.cost, "decoupling at the IC")]
     return lines + regulator_bom(brief, catalog, rail)
 
@@ -216,13 +216,13 @@ def output_driver_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, first
     flyback diode; the relay coil itself is the brief's load and not in the bill of materials."""
     fet = output_mosfet(brief, catalog, rail)
     r_gate, r_pull = resistor_class(catalog, GATE_RESISTOR_OHM), resistor_class(catalog, GATE_PULLDOWN_OHM)
-    lines = [BomLine("Q1", fet.id, fet.description, 1, fet.cost, "switches the load to ground"),
+    lines = [BomLine("Q1", fet.id, fet.summary, 1, fet.cost, "switches the load to ground"),
              BomLine(f"R{first_r}", r_gate.id, fq(GATE_RESISTOR_OHM, "ohm"), 1, r_gate.cost, "gate resistor"),
              BomLine(f"R{first_r + 1}", r_pull.id, fq(GATE_PULLDOWN_OHM, "ohm"), 1, r_pull.cost,
                      "gate pull-down: off while the IC is in reset")]
     if brief.load.kind == "relay":
         diode = _diode(brief, catalog)
-        lines.append(BomLine("D1", diode.id, diode.description, 1, diode.cost, "flyback diode across the coil"))
+        lines.append(BomLine("D1", diode.id, diode.summary, 1, diode.cost, "flyback diode across the coil"))
     return lines
 
 

@@ -256,7 +256,7 @@ class Microcontroller(Topology):
             cap = logic.cheapest(self.catalog, "capacitor", lambda p: p.value("min_value", "F") <= _LOAD_CAP_F
                                  <= p.value("max_value", "F"), f"a {fq(_LOAD_CAP_F, 'F')} load capacitor",
                                  dielectric="ceramic")
-            lines += [BomLine("Y1", xtal.id, xtal.description, 1, xtal.cost, "timer clock"),
+            lines += [BomLine("Y1", xtal.id, xtal.summary, 1, xtal.cost, "timer clock"),
                       BomLine("C4, C5", cap.id, fq(_LOAD_CAP_F, "F"), 2, cap.cost, "crystal load capacitors")]
         return lines + logic.output_driver_bom(self.brief, self.catalog, rail, first_r=1)
 

@@ -211,7 +211,7 @@ class RcComparator(Topology):
     def _fixed_bom(self, design: Design, rail: logic.LogicRail) -> list[BomLine]:
         comp, ref = self._ics(design)
         lines = logic.rail_bom(self.brief, self.catalog, rail, "U1", comp)
-        lines.append(BomLine("U3", ref.id, ref.description, 1, ref.cost, "threshold reference"))
+        lines.append(BomLine("U3", ref.id, ref.summary, 1, ref.cost, "threshold reference"))
         for refs, value, note in (("R1", R_TOP_OHM, "threshold divider"), ("R2", R_BOTTOM_OHM, "threshold divider"),
                                   ("R3", R_HYST_OHM, "hysteresis from the drain")):
             part = logic.resistor_class(self.catalog, value)
