@@ -175,6 +175,8 @@ class BriefValue:
             return "none"
         if isinstance(self.value, bool):
             return "true" if self.value else "false"
+        if isinstance(self.value, (int, float)) and self.unit == "EUR":
+            return f"{self.value:.2f} EUR (indicative)"
         if isinstance(self.value, (int, float)):
             return format_quantity(self.value, self.unit)
         if isinstance(self.value, tuple):
@@ -591,7 +593,7 @@ def _read_limits(r: _Reader, raw: object) -> dict | None:
         "standby_after": (quantity("A", 1e-9, 1.0), None, "A"),
         "rails": (number(1, 10, integer=True), None, ""),
         "parts": (number(1, 500, integer=True), None, ""),
-        "cost": (number(0, 1e4), None, ""),
+        "cost": (number(0, 1e4), None, "EUR"),
     })
     if values is None:
         return None
