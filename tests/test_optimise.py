@@ -190,6 +190,24 @@ def test_large_tables_pruned_by_the_incumbent_bound_stay_exact(seed, combine):
     assert all(problem.feasible(r.rows) for r in results)
 
 
+@settings(max_examples=40, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), combine=st.sampled_from(["sum", "product"]))
+def test_row_bounds_never_exceed_a_combination_and_are_exact_for_two_blocks(seed, combine):
+    """The objective bound of each row is at most the objective of every combination using it
+    (requirements aside); with two blocks it is the best of them (the other block scanned whole)."""
+    model, band, limits, weights = random_model(seed, combine, rows=(1, 12))
+    problem = SelectionProblem(model, band, NO_LIMITS, weights)
+    sizes = [len(b.table) for b in model.blocks]
+    bounds = problem.tables.lower_bounds([np.arange(n) for n in sizes])
+    combos = list(itertools.product(*[range(n) for n in sizes]))
+    objectives = {rows: problem.objective_of(rows) for rows in combos}
+    for b, bound in enumerate(bounds):
+        best = [min(v for rows, v in objectives.items() if rows[b] == i) for i in range(sizes[b])]
+        assert np.all(bound <= np.array(best) + TIE)
+        if len(sizes) <= 2:
+            assert bound == pytest.approx(best, abs=TIE)
+
+
 @pytest.mark.parametrize("seed", [3, 17, 2024])
 @pytest.mark.parametrize("combine", ["sum", "product"])
 def test_cbc_and_highs_agree(seed, combine):

@@ -41,7 +41,10 @@ the solver accepts only within its tolerances is cut off and the program re-solv
 program's optimum is exactly the exhaustive one (ties aside).
 
 Before the program is built, rows that cannot meet a requirement whatever the other blocks
-choose are removed (bound tightening, exact); the tables themselves are not changed.
+choose are removed (bound tightening, exact); the tables themselves are not changed. Then an
+incumbent is found by small programs over the rows with the smallest objective bounds (each row
+against the best partner row of another block, accuracy included), and every row whose bound
+exceeds the incumbent's objective is removed too (exact: no better combination uses it).
 """
 from __future__ import annotations
 
@@ -417,19 +420,65 @@ class _Tables:
     def lower_bounds(self, keep: Sequence[np.ndarray]) -> list[np.ndarray]:
         """For each kept row, a lower bound of the objective of every combination of kept rows using it.
 
-        Linear part: the row's coefficient plus the other blocks' smallest; accuracy: the
-        distance from the centre to the interval the nominal delay can still reach.
+        The row's block against each other block in turn, the rest at their extremes: the row's
+        coefficient, the rest's smallest coefficients, and the best the other block's rows reach
+        on their coefficient plus the accuracy distance left (the nominal delay the rest can add
+        is an interval); the largest of these bounds. Requirements are ignored, so the bound is
+        valid whichever rows they allow. One block alone: its rows' objectives.
         """
         lin = [c[k] for c, k in zip(self.linear, keep)]
         nom = [n[k] for n, k in zip(self.nominal, keep)]
-        lin_min = sum(float(a.min()) for a in lin)
-        n_min, n_max = (sum(float(f(a)) for a in nom) for f in (np.min, np.max))
+        if len(keep) == 1:
+            return [self.linear_constant + lin[0] + self.accuracy_k * np.abs(nom[0] - self.centre)]
         out = []
-        for a, n in zip(lin, nom):
-            lo = n + (n_min - float(n.min()))
-            hi = n + (n_max - float(n.max()))
-            gap = np.maximum(0.0, np.maximum(lo - self.centre, self.centre - hi))
-            out.append(self.linear_constant + a + (lin_min - float(a.min())) + self.accuracy_k * gap)
+        for b in range(len(keep)):
+            bound = np.full(len(lin[b]), -np.inf)
+            for o in (o for o in range(len(keep)) if o != b):
+                rest = [r for r in range(len(keep)) if r not in (b, o)]
+                rest_lin = sum(float(lin[r].min()) for r in rest)
+                rest_lo, rest_hi = (sum(float(f(nom[r])) for r in rest) for f in (np.min, np.max))
+                partner = _Envelope(lin[o], nom[o], self.accuracy_k)
+                left = self.centre - nom[b]
+                bound = np.maximum(bound, lin[b] + rest_lin + partner.least(left - rest_hi, left - rest_lo))
+            out.append(self.linear_constant + bound)
+        return out
+
+
+class _Envelope:
+    """min over rows j of lin[j] + k·dist(nom[j], [lo, hi]) for many intervals [lo, hi] at once.
+
+    Rows sorted by nom: rows below the interval by a prefix minimum of lin − k·nom, rows above
+    by a suffix minimum of lin + k·nom, rows inside by a range minimum of lin (sparse table).
+    """
+
+    def __init__(self, lin: np.ndarray, nom: np.ndarray, k: float):
+        order = np.argsort(nom, kind="stable")
+        self.nom, self.k = nom[order], k
+        lin = lin[order]
+        self.below = np.minimum.accumulate(lin - k * self.nom)
+        self.above = np.minimum.accumulate((lin + k * self.nom)[::-1])[::-1]
+        self.levels = [lin]
+        width = 1
+        while 2 * width <= len(lin):
+            prev = self.levels[-1]
+            self.levels.append(np.minimum(prev[:-width], prev[width:]))
+            width *= 2
+
+    def least(self, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+        """The minimum for each interval [lo[i], hi[i]] (lo <= hi)."""
+        first = np.searchsorted(self.nom, lo, side="left")
+        end = np.searchsorted(self.nom, hi, side="right")
+        out = np.full(len(lo), np.inf)
+        has = first > 0
+        out[has] = self.below[first[has] - 1] + self.k * lo[has]
+        has = end < len(self.nom)
+        out[has] = np.minimum(out[has], self.above[end[has]] - self.k * hi[has])
+        inside = np.flatnonzero(end > first)
+        level = np.floor(np.log2(end[inside] - first[inside])).astype(int)
+        for n in np.unique(level):
+            at = inside[level == n]
+            table = self.levels[n]
+            out[at] = np.minimum(out[at], np.minimum(table[first[at]], table[end[at] - (1 << n)]))
         return out
 
 
@@ -645,31 +694,51 @@ class SelectionProblem:
         return p
 
     def _incumbent(self) -> float:
-        """Objective of a good feasible combination, from a small program over the rows with the
-        smallest objective bounds (inf when the tables are small enough or it finds none)."""
-        rows = self._rows_meeting
-        if not all(k.size for k in rows) or max(k.size for k in rows) <= _INCUMBENT_ROWS:
-            return math.inf
-        bounds = self.tables.lower_bounds(rows)
-        best = [k[np.sort(np.argpartition(b, _INCUMBENT_ROWS)[:_INCUMBENT_ROWS])] if b.size > _INCUMBENT_ROWS else k
-                for k, b in zip(rows, bounds)]
-        found = self._build(best).run()
-        return math.inf if found is None else self.objective_of(found)
+        """Objective of a good feasible combination not yet excluded (inf when the tables are small
+        enough or none is found).
+
+        Small programs over the rows with the smallest objective bounds: the row count grows
+        fourfold while such a program finds nothing, and after each combination found the rows
+        its objective bounds out are dropped and the next program tried, until it finds no better.
+        """
+        rows, bound, count = self._rows_meeting, math.inf, _INCUMBENT_ROWS
+        if not all(k.size for k in rows) or max(k.size for k in rows) <= count:
+            return bound
+        while all(k.size for k in rows):
+            bounds = self.tables.lower_bounds(rows)
+            best = [k[np.sort(np.argpartition(b, count)[:count])] if b.size > count else k
+                    for k, b in zip(rows, bounds)]
+            found = self._build(best).run()
+            everything = all(k.size <= count for k in rows)
+            if found is None and not everything:
+                count *= 4
+                continue
+            objective = math.inf if found is None else self.objective_of(found)
+            if objective >= bound or everything:
+                return min(bound, objective)
+            bound = objective
+            rows = self._within(rows, bound)
+        return bound
 
     def _within_bound(self) -> list[np.ndarray]:
-        """Rows whose objective bound does not exceed the incumbent's (exact: no better combination
-        uses the others), alternating with requirement pruning until neither removes a row."""
-        rows = self._rows_meeting
-        while not math.isinf(self.bound) and all(k.size for k in rows):
-            within = [k[b <= self.bound + self._slack()] for k, b in zip(rows, self.tables.lower_bounds(rows))]
+        """Rows that can still be in a combination no worse than the incumbent (every row when there is none)."""
+        return self._rows_meeting if math.isinf(self.bound) else self._within(self._rows_meeting, self.bound)
+
+    def _within(self, rows: Sequence[np.ndarray], bound: float) -> list[np.ndarray]:
+        """Rows whose objective bound does not exceed `bound` (exact: no combination within it uses
+        the others), alternating with requirement pruning until neither removes a row."""
+        while all(k.size for k in rows):
+            within = [k[b <= bound + self._slack(bound)] for k, b in zip(rows, self.tables.lower_bounds(rows))]
             within = self.tables.prune(self.tables.requirements, within)
             if sum(map(len, within)) == sum(map(len, rows)):
                 break
             rows = within
         return rows
 
-    def _slack(self) -> float:
-        return _TOLERANCE * max(1.0, abs(self.bound))
+    @staticmethod
+    def _slack(bound: float) -> float:
+        """Tolerance on objective comparisons against `bound`."""
+        return _TOLERANCE * max(1.0, abs(bound))
 
     @property
     def scales(self) -> Scales:
@@ -699,10 +768,12 @@ class SelectionProblem:
         """The best combination not yet excluded; status 'Infeasible' with reasons when there is none."""
         start = time.perf_counter()
         rows = self.program.run()
-        if not math.isinf(self.bound) and (rows is None or self.objective_of(rows) > self.bound + self._slack()):
-            # The best left lies beyond the incumbent's bound (earlier designs were excluded): all rows again.
-            self.bound = math.inf
-            self.program = self._build(self._rows_meeting)
+        beyond = rows is None or self.objective_of(rows) > self.bound + self._slack(self.bound)
+        if not math.isinf(self.bound) and beyond:
+            # The best left lies beyond the incumbent's bound (earlier designs were excluded): a new
+            # incumbent among the combinations left, and the rows within its bound.
+            self.bound = self._incumbent()
+            self.program = self._build(self._within_bound())
             rows = self.program.run()
         elapsed = time.perf_counter() - start
         if rows is not None:
