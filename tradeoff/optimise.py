@@ -42,9 +42,10 @@ program's optimum is exactly the exhaustive one (ties aside).
 
 Before the program is built, rows that cannot meet a requirement whatever the other blocks
 choose are removed (bound tightening, exact); the tables themselves are not changed. Then an
-incumbent is found by small programs over the rows with the smallest objective bounds (each row
-against the best partner row of another block, accuracy included), and every row whose bound
-exceeds the incumbent's objective is removed too (exact: no better combination uses it).
+incumbent is found by small programs over the rows with the smallest objective bounds, and every
+row whose bound exceeds the incumbent's objective is removed too (exact: no better combination
+uses it): first a quick bound (the other blocks at their extremes), then a tighter one (each row
+against the best row of another block, accuracy included).
 """
 from __future__ import annotations
 
@@ -418,18 +419,37 @@ class _Tables:
         return keep
 
     def lower_bounds(self, keep: Sequence[np.ndarray]) -> list[np.ndarray]:
-        """For each kept row, a lower bound of the objective of every combination of kept rows using it.
+        """For each kept row, a quick lower bound of the objective of every combination of kept rows using it.
+
+        Linear part: the row's coefficient plus the other blocks' smallest; accuracy: the
+        distance from the centre to the interval the nominal delay can still reach.
+        """
+        lin = [c[k] for c, k in zip(self.linear, keep)]
+        nom = [n[k] for n, k in zip(self.nominal, keep)]
+        lin_min = sum(float(a.min()) for a in lin)
+        n_min, n_max = (sum(float(f(a)) for a in nom) for f in (np.min, np.max))
+        out = []
+        for a, n in zip(lin, nom):
+            lo = n + (n_min - float(n.min()))
+            hi = n + (n_max - float(n.max()))
+            gap = np.maximum(0.0, np.maximum(lo - self.centre, self.centre - hi))
+            out.append(self.linear_constant + a + (lin_min - float(a.min())) + self.accuracy_k * gap)
+        return out
+
+    def partner_bounds(self, keep: Sequence[np.ndarray]) -> list[np.ndarray]:
+        """For each kept row, a tighter lower bound of the objective of every combination of kept rows using it.
 
         The row's block against each other block in turn, the rest at their extremes: the row's
         coefficient, the rest's smallest coefficients, and the best the other block's rows reach
         on their coefficient plus the accuracy distance left (the nominal delay the rest can add
         is an interval); the largest of these bounds. Requirements are ignored, so the bound is
-        valid whichever rows they allow. One block alone: its rows' objectives.
+        valid whichever rows they allow. With two blocks it is the row's best combination.
         """
+        if len(keep) == 1:
+            return self.lower_bounds(keep)
         lin = [c[k] for c, k in zip(self.linear, keep)]
         nom = [n[k] for n, k in zip(self.nominal, keep)]
-        if len(keep) == 1:
-            return [self.linear_constant + lin[0] + self.accuracy_k * np.abs(nom[0] - self.centre)]
+        envelopes = [_Envelope(a, n, self.accuracy_k) for a, n in zip(lin, nom)]
         out = []
         for b in range(len(keep)):
             bound = np.full(len(lin[b]), -np.inf)
@@ -437,18 +457,21 @@ class _Tables:
                 rest = [r for r in range(len(keep)) if r not in (b, o)]
                 rest_lin = sum(float(lin[r].min()) for r in rest)
                 rest_lo, rest_hi = (sum(float(f(nom[r])) for r in rest) for f in (np.min, np.max))
-                partner = _Envelope(lin[o], nom[o], self.accuracy_k)
                 left = self.centre - nom[b]
-                bound = np.maximum(bound, lin[b] + rest_lin + partner.least(left - rest_hi, left - rest_lo))
+                bound = np.maximum(bound, lin[b] + rest_lin + envelopes[o].least(left - rest_hi, left - rest_lo))
             out.append(self.linear_constant + bound)
         return out
+
+
+_DELAYS = ("delay_lo", "delay_nom", "delay_hi")
 
 
 class _Envelope:
     """min over rows j of lin[j] + k·dist(nom[j], [lo, hi]) for many intervals [lo, hi] at once.
 
     Rows sorted by nom: rows below the interval by a prefix minimum of lin − k·nom, rows above
-    by a suffix minimum of lin + k·nom, rows inside by a range minimum of lin (sparse table).
+    by a suffix minimum of lin + k·nom, rows inside by a range minimum of lin (a sparse table,
+    its levels built as far as the widest interval needs).
     """
 
     def __init__(self, lin: np.ndarray, nom: np.ndarray, k: float):
@@ -458,11 +481,13 @@ class _Envelope:
         self.below = np.minimum.accumulate(lin - k * self.nom)
         self.above = np.minimum.accumulate((lin + k * self.nom)[::-1])[::-1]
         self.levels = [lin]
-        width = 1
-        while 2 * width <= len(lin):
-            prev = self.levels[-1]
+
+    def _level(self, n: int) -> np.ndarray:
+        """Minimum of lin over the 2**n rows starting at each row."""
+        while len(self.levels) <= n:
+            prev, width = self.levels[-1], 1 << (len(self.levels) - 1)
             self.levels.append(np.minimum(prev[:-width], prev[width:]))
-            width *= 2
+        return self.levels[n]
 
     def least(self, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
         """The minimum for each interval [lo[i], hi[i]] (lo <= hi)."""
@@ -477,12 +502,9 @@ class _Envelope:
         level = np.floor(np.log2(end[inside] - first[inside])).astype(int)
         for n in np.unique(level):
             at = inside[level == n]
-            table = self.levels[n]
+            table = self._level(n)
             out[at] = np.minimum(out[at], np.minimum(table[first[at]], table[end[at] - (1 << n)]))
         return out
-
-
-_DELAYS = ("delay_lo", "delay_nom", "delay_hi")
 
 
 # ---- the PuLP program --------------------------------------------------------------------
@@ -675,8 +697,8 @@ class SelectionProblem:
         self.solver = solver
         self.excluded: list[tuple[int, ...]] = []
         self._rows_meeting = self.tables.prune(self.tables.requirements)
-        self.bound = self._incumbent()
-        self.program = self._build(self._within_bound())
+        self.bound, kept = self._incumbent()
+        self.program = self._build(self._within(kept, self.bound))
         self.build_s = time.perf_counter() - start
         """Time to prune and build the program [s]."""
 
@@ -693,43 +715,46 @@ class SelectionProblem:
             p.cut(rows_cut)
         return p
 
-    def _incumbent(self) -> float:
+    def _incumbent(self) -> tuple[float, list[np.ndarray]]:
         """Objective of a good feasible combination not yet excluded (inf when the tables are small
-        enough or none is found).
+        enough or none is found), and the rows that can still be in a combination no worse.
 
-        Small programs over the rows with the smallest objective bounds: the row count grows
-        fourfold while such a program finds nothing, and after each combination found the rows
-        its objective bounds out are dropped and the next program tried, until it finds no better.
+        Small programs over the rows with the smallest objective bounds (the quick bounds while the
+        tables are whole, the partner bounds once pruned); after a combination is found, the rows
+        its objective bounds out are dropped and the next program tried. The row count grows
+        fourfold whenever a program finds nothing better, until it takes every row left.
         """
         rows, bound, count = self._rows_meeting, math.inf, _INCUMBENT_ROWS
         if not all(k.size for k in rows) or max(k.size for k in rows) <= count:
-            return bound
+            return bound, rows
         while all(k.size for k in rows):
-            bounds = self.tables.lower_bounds(rows)
+            # The quick bounds until an incumbent has pruned the tables, the tighter ones then.
+            bounds = (self.tables.lower_bounds if math.isinf(bound) else self.tables.partner_bounds)(rows)
             best = [k[np.sort(np.argpartition(b, count)[:count])] if b.size > count else k
                     for k, b in zip(rows, bounds)]
             found = self._build(best).run()
-            everything = all(k.size <= count for k in rows)
-            if found is None and not everything:
-                count *= 4
-                continue
             objective = math.inf if found is None else self.objective_of(found)
-            if objective >= bound or everything:
-                return min(bound, objective)
-            bound = objective
-            rows = self._within(rows, bound)
-        return bound
-
-    def _within_bound(self) -> list[np.ndarray]:
-        """Rows that can still be in a combination no worse than the incumbent (every row when there is none)."""
-        return self._rows_meeting if math.isinf(self.bound) else self._within(self._rows_meeting, self.bound)
+            if all(k.size <= count for k in rows):
+                return min(bound, objective), rows
+            if objective < bound:
+                bound = objective
+                rows = self._within(rows, bound)
+            else:
+                count *= 4
+        return bound, rows
 
     def _within(self, rows: Sequence[np.ndarray], bound: float) -> list[np.ndarray]:
         """Rows whose objective bound does not exceed `bound` (exact: no combination within it uses
-        the others), alternating with requirement pruning until neither removes a row."""
-        while all(k.size for k in rows):
-            within = [k[b <= bound + self._slack(bound)] for k, b in zip(rows, self.tables.lower_bounds(rows))]
-            within = self.tables.prune(self.tables.requirements, within)
+        the others), alternating with requirement pruning until no bound removes a row (the quick
+        bounds first, the tighter partner bounds when those remove nothing more)."""
+        tables = self.tables
+        while not math.isinf(bound) and all(k.size for k in rows):
+            within = rows
+            for bounds in (tables.lower_bounds, tables.partner_bounds):
+                within = [k[b <= bound + self._slack(bound)] for k, b in zip(rows, bounds(rows))]
+                within = tables.prune(tables.requirements, within)
+                if sum(map(len, within)) < sum(map(len, rows)):
+                    break
             if sum(map(len, within)) == sum(map(len, rows)):
                 break
             rows = within
@@ -772,8 +797,8 @@ class SelectionProblem:
         if not math.isinf(self.bound) and beyond:
             # The best left lies beyond the incumbent's bound (earlier designs were excluded): a new
             # incumbent among the combinations left, and the rows within its bound.
-            self.bound = self._incumbent()
-            self.program = self._build(self._within_bound())
+            self.bound, kept = self._incumbent()
+            self.program = self._build(self._within(kept, self.bound))
             rows = self.program.run()
         elapsed = time.perf_counter() - start
         if rows is not None:
