@@ -6,6 +6,12 @@ import shutil
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
+
+# No per-example deadline: these machines are shared and noisy, and the first example of a run
+# pays one-off costs (pint's registry, catalog parsing). Speed is measured in bench/, not here.
+settings.register_profile("tradeoff", deadline=None)
+settings.load_profile("tradeoff")
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "examples"
