@@ -102,7 +102,8 @@ class StudyResult:
 
     def to_dict(self) -> dict[str, Any]:
         """The whole result, JSON-ready (SI units in key suffixes; never NaN or infinity)."""
-        ranked = {} if self.ranking is None else {d["name"]: d for d in self.ranking.to_dict()["designs"]}
+        ranking = None if self.ranking is None else self.ranking.to_dict()
+        ranked = {} if ranking is None else {d["name"]: d for d in ranking.pop("designs")}
         designs = []
         for name, ev, outcome in self.designs():
             entry = ev.to_dict()
@@ -115,8 +116,6 @@ class StudyResult:
                 values_text=describe_values(outcome.model, ev.design),
             )
             designs.append(entry)
-        ranking = None if self.ranking is None else {
-            k: v for k, v in self.ranking.to_dict().items() if k != "designs"}
         return {
             "brief": self.brief.to_dict(),
             "designs": designs,
