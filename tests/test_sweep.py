@@ -16,6 +16,7 @@ import tradeoff
 from tradeoff.brief import load_brief
 from tradeoff.cli import cli
 from tradeoff.errors import InputError
+from tradeoff.report.sweep_report import plot_decision_map, write_workbook
 from tradeoff.sweep import _axes_and_briefs, sweep
 
 from conftest import EXAMPLES, ROOT
@@ -88,7 +89,7 @@ def test_unreachable_scheduler_is_an_input_error(brief_file):
 def test_decision_map_cells_match_the_table(local, tmp_path):
     import matplotlib.image
 
-    drawn = local.plot_decision_map(tmp_path / "map.png")
+    drawn = plot_decision_map(local, tmp_path / "map.png")
     frame = local.to_frame()
     # rows follow the second field (weights.effort), columns the first (delay.nominal), both ascending here
     for r, effort in enumerate((0.0, 3.0)):
@@ -102,13 +103,13 @@ def test_decision_map_cells_match_the_table(local, tmp_path):
         expected = np.array([int(drawn.colours[winner][i:i + 2], 16) / 255 for i in (1, 3, 5)])
         np.testing.assert_allclose(pixels[y, x], expected, atol=2 / 255)
     with pytest.raises(Exception, match="exists and was left untouched"):
-        local.plot_decision_map(tmp_path / "map.png")
-    svg = local.plot_decision_map(tmp_path / "map.svg").path.read_text(encoding="utf-8")
+        plot_decision_map(local, tmp_path / "map.png")
+    svg = plot_decision_map(local, tmp_path / "map.svg").path.read_text(encoding="utf-8")
     assert svg.lstrip().startswith("<?xml") and "delay.nominal [s]" in svg  # 2 values 6x apart: linear axis
 
 
 def test_workbook_reads_back_with_the_same_numbers(local, tmp_path):
-    local.write_xlsx(tmp_path / "sweep.xlsx")
+    write_workbook(local, tmp_path / "sweep.xlsx")
     sheets = pd.read_excel(tmp_path / "sweep.xlsx", sheet_name=None)
     assert set(sheets) == {"sweep", "axes", "settings"}
     back = sheets["sweep"]

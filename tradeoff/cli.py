@@ -242,23 +242,20 @@ def analyze_command(design, output_format, samples, seed, catalogs):
 
         tradeoff analyze examples/designs/rc-darlington.yaml --samples 5000 --format json
     """
-    from tradeoff.design import load_design
+    from tradeoff.api import analyze
 
     changes = {key: value for key, value in (("analysis.samples", samples), ("analysis.seed", seed))
                if value is not None}
-    brief, topology, loaded = load_design(design, catalogs, brief_changes=changes)
-    ev = topology.evaluate(loaded)
+    result = analyze(design, catalog_files=catalogs, brief_changes=changes)
     if output_format == "json":
         import json
 
-        from tradeoff.report.evaluation import evaluation_dict
-
-        click.echo(json.dumps(evaluation_dict(ev, brief), indent=2, allow_nan=False))
+        click.echo(json.dumps(result.to_dict(), indent=2, allow_nan=False))
         return
     from tradeoff.report.terminal import render_evaluation, report_console
 
-    render_evaluation(ev, brief, report_console(), quantities=topology.quantities(loaded),
-                      option_units=topology.option_units)
+    render_evaluation(result.evaluation, result.brief, report_console(),
+                      quantities=result.topology.quantities(result.design), option_units=result.topology.option_units)
 
 
 @cli.command("netlist")
@@ -346,7 +343,8 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     from rich.progress import Progress
 
     from tradeoff.report.files import check_writable
-    from tradeoff.report.sweep_report import check_mappable, render_sweep
+    from tradeoff.report.sweep_report import (check_mappable, plot_decision_map, render_sweep, write_csv,
+                                              write_workbook)
     from tradeoff.sweep import sweep
 
     outputs = [p for p in (csv_path, xlsx_path, plot_path) if p]
@@ -372,11 +370,11 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
 
         render_sweep(result, report_console())
     if csv_path:
-        result.write_csv(csv_path, force)
+        write_csv(result, csv_path, force)
     if xlsx_path:
-        result.write_xlsx(xlsx_path, force)
+        write_workbook(result, xlsx_path, force)
     if plot_path:
-        result.plot_decision_map(plot_path, force)
+        plot_decision_map(result, plot_path, force)
     if not any(point["winner"] for point in result.points):
         sys.exit(1)
 

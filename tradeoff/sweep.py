@@ -446,26 +446,6 @@ class SweepResult:
                 "samples": self.samples, "seed": self.seed, "topologies": list(self.topologies),
                 "notes": list(self.notes), "seconds": self.seconds}
 
-    def write_csv(self, path: str | Path, force: bool = False) -> None:
-        """The table as CSV (one row per grid point), written atomically; an existing file needs `force`."""
-        from tradeoff.report.files import write_atomic
-
-        write_atomic(path, self.to_frame().to_csv(index=False).encode("utf-8"), force)
-
-    def write_xlsx(self, path: str | Path, force: bool = False) -> None:
-        """The table and the grid notes as a workbook, written atomically; an existing file needs `force`."""
-        from tradeoff.report.files import write_atomic
-        from tradeoff.report.sweep_report import workbook_bytes
-
-        write_atomic(path, workbook_bytes(self), force)
-
-    def plot_decision_map(self, path: str | Path, force: bool = False):
-        """The decision map (winner per cell over the one or two varied fields) as PNG or SVG; see
-        `tradeoff.report.sweep_report.plot_decision_map` for what it returns."""
-        from tradeoff.report.sweep_report import plot_decision_map
-
-        return plot_decision_map(self, path, force)
-
 
 def sweep(brief: Brief | str | Path, vary: Mapping[str, Sequence[str | float] | str] | Sequence[str], *,
           jobs: int = 1, scheduler: str | None = None, only: Sequence[str] | None = None,

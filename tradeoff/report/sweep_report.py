@@ -6,7 +6,6 @@ ticks are the grid values with their units and its axis labels name the field an
 """
 from __future__ import annotations
 
-import io
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -21,7 +20,8 @@ if TYPE_CHECKING:  # pragma: no cover
 
     from tradeoff.sweep import Axis, SweepResult
 
-__all__ = ["render_sweep", "workbook_bytes", "plot_decision_map", "DecisionMap", "NO_WINNER", "check_mappable"]
+__all__ = ["render_sweep", "workbook_bytes", "write_csv", "write_workbook", "plot_decision_map", "DecisionMap",
+           "NO_WINNER", "check_mappable"]
 
 NO_WINNER = "no feasible design"
 """Legend entry of the cells where no topology meets the brief."""
@@ -78,6 +78,20 @@ def workbook_bytes(result: "SweepResult") -> bytes:
                               "seed": result.seed, "topologies": ", ".join(result.topologies),
                               "notes": " | ".join(result.notes)}])
     return workbook.workbook_bytes(None, {"sweep": result.to_frame(), "axes": axes, "settings": settings})
+
+
+def write_csv(result: "SweepResult", path: str | Path, force: bool = False) -> None:
+    """The sweep table as CSV (one row per grid point), written atomically; an existing file needs `force`."""
+    from tradeoff.report.files import write_atomic
+
+    write_atomic(path, result.to_frame().to_csv(index=False).encode("utf-8"), force)
+
+
+def write_workbook(result: "SweepResult", path: str | Path, force: bool = False) -> None:
+    """The sweep table, axes and settings as a workbook, written atomically; an existing file needs `force`."""
+    from tradeoff.report.files import write_atomic
+
+    write_atomic(path, workbook_bytes(result), force)
 
 
 def check_mappable(keys: list[str]) -> None:

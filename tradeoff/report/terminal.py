@@ -15,8 +15,8 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
+from tradeoff.api import rating_findings
 from tradeoff.cautions import cautions
-from tradeoff.report.evaluation import rating_findings
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover

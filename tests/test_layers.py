@@ -1,0 +1,139 @@
+"""Layers point one way: a walk over every import statement of the package (module level,
+inside functions and under `if TYPE_CHECKING:` alike, since each names a dependency) fails on
+an import circle, on an input-layer module importing a topology or report module, and on a
+results module importing a report module (reports depend on results, never the other way).
+
+Edges not yet removed are listed in `ALLOWED` with the reason; the list may only shrink: an
+entry whose import has gone fails the test, so it is deleted with the fix.
+"""
+from __future__ import annotations
+
+import ast
+import graphlib
+from pathlib import Path
+
+import pytest
+
+from conftest import ROOT
+
+PACKAGE = ROOT / "tradeoff"
+
+INPUT_LAYER = ("tradeoff.units", "tradeoff.yamlpos", "tradeoff.brief", "tradeoff.catalog", "tradeoff.eseries",
+               "tradeoff.errors", "tradeoff.design")
+"""Modules that load and validate input: they know nothing of topologies or reports."""
+
+REPORT_USERS = ("tradeoff.cli", "tradeoff.__main__")
+"""The only modules outside `tradeoff.report` that may import a report module: the command shell."""
+
+ALLOWED = {
+    ("tradeoff.brief", "tradeoff.topologies.registry"):
+        "the brief checks topology names against the registry; the check moves where the registry is in scope",
+    ("tradeoff.cautions", "tradeoff.brief"):
+        "cautions <-> brief circle: the brief imports the hazardous-voltage threshold from cautions",
+    ("tradeoff.design", "tradeoff.topologies.base"):
+        "design loading builds the Design value object defined with the topology interface",
+    ("tradeoff.design", "tradeoff.topologies.registry"):
+        "design loading builds the named topology to check roles and options",
+}
+"""Edges still to remove (input layer, owned elsewhere): (importer, imported) -> why it is there."""
+
+
+def module_name(path: Path, root: Path) -> str:
+    """Dotted module name of a file under `root` ('pkg/__init__.py' -> 'pkg')."""
+    parts = list(path.relative_to(root).with_suffix("").parts)
+    return ".".join(parts[:-1] if parts[-1] == "__init__" else parts)
+
+
+def import_graph(package: Path) -> dict[str, set[str]]:
+    """Module -> the package's modules it imports anywhere in its source (functions and
+    TYPE_CHECKING blocks included; `importlib.import_module('literal')` too)."""
+    files = {module_name(p, package.parent): p for p in package.rglob("*.py")}
+    top = package.name
+
+    def target(name: str) -> str | None:
+        while name and name not in files:
+            name = name.rpartition(".")[0]
+        return name or None
+
+    graph: dict[str, set[str]] = {}
+    for name, path in files.items():
+        found: set[str] = set()
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"), filename=str(path))):
+            names: list[str] = []
+            if isinstance(node, ast.Import):
+                names = [a.name for a in node.names]
+            elif isinstance(node, ast.ImportFrom):
+                base = node.module or ""
+                if node.level:
+                    here = name.split(".") if path.name == "__init__.py" else name.split(".")[:-1]
+                    base = ".".join(here[: len(here) - node.level + 1] + ([base] if base else []))
+                names = [f"{base}.{a.name}" if f"{base}.{a.name}" in files else base for a in node.names]
+            elif (isinstance(node, ast.Call) and getattr(node.func, "attr", getattr(node.func, "id", "")) ==
+                  "import_module" and node.args and isinstance(node.args[0], ast.Constant)):
+                names = [str(node.args[0].value)]
+            found |= {t for n in names if n.split(".")[0] == top and (t := target(n)) and t != name}
+        graph[name] = found
+    return graph
+
+
+def violations(graph: dict[str, set[str]]) -> list[tuple[str, str, str]]:
+    """(importer, imported, rule broken) for every edge against the one-way layers."""
+    out = []
+    for importer, targets in graph.items():
+        for imported in sorted(targets):
+            if importer in INPUT_LAYER and imported.startswith(("tradeoff.topologies", "tradeoff.report")):
+                out.append((importer, imported, "an input-layer module imports a topology or report module"))
+            elif (imported.startswith("tradeoff.report") and not importer.startswith("tradeoff.report")
+                  and importer not in REPORT_USERS):
+                out.append((importer, imported, "a results module imports a report module"))
+    return out
+
+
+def cycle(graph: dict[str, set[str]]) -> list[str]:
+    """One import circle of `graph` (first module repeated at the end), or [] when there is none."""
+    try:
+        tuple(graphlib.TopologicalSorter(graph).static_order())
+    except graphlib.CycleError as exc:
+        return list(exc.args[1])
+    return []
+
+
+def _without_allowed(graph: dict[str, set[str]]) -> dict[str, set[str]]:
+    return {m: {t for t in targets if (m, t) not in ALLOWED} for m, targets in graph.items()}
+
+
+def test_the_walk_sees_lazy_and_typing_imports(tmp_path):
+    # A synthetic package: a circle closed only by an import inside a function, and one only under
+    # TYPE_CHECKING; both must be seen (an import statement anywhere is a dependency).
+    pkg = tmp_path / "tradeoff"
+    (pkg / "report").mkdir(parents=True)
+    (pkg / "__init__.py").write_text("")
+    (pkg / "report" / "__init__.py").write_text("")
+    (pkg / "a.py").write_text("from tradeoff import b\n")
+    (pkg / "b.py").write_text("def f():\n    from tradeoff.a import x\n")
+    (pkg / "c.py").write_text("from typing import TYPE_CHECKING\nif TYPE_CHECKING:\n    from tradeoff.report.d import y\n")
+    (pkg / "report" / "d.py").write_text("from . import e\nfrom ..c import z\n")
+    (pkg / "report" / "e.py").write_text("import importlib\nimportlib.import_module('tradeoff.c')\n")
+    graph = import_graph(pkg)
+    assert graph["tradeoff.a"] == {"tradeoff.b"} and graph["tradeoff.b"] == {"tradeoff.a"}
+    assert graph["tradeoff.report.d"] == {"tradeoff.report.e", "tradeoff.c"}
+    assert graph["tradeoff.report.e"] == {"tradeoff.c"}
+    assert set(cycle(graph)) in ({"tradeoff.a", "tradeoff.b"}, {"tradeoff.c", "tradeoff.report.d"})
+    assert ("tradeoff.c", "tradeoff.report.d", "a results module imports a report module") in violations(graph)
+
+
+def test_no_import_circle():
+    graph = _without_allowed(import_graph(PACKAGE))
+    assert cycle(graph) == [], "import circle: " + " -> ".join(cycle(graph))
+
+
+def test_layers_point_one_way():
+    broken = [v for v in violations(import_graph(PACKAGE)) if v[:2] not in ALLOWED]
+    assert broken == []
+
+
+@pytest.mark.parametrize("edge", sorted(ALLOWED))
+def test_allowed_edges_still_exist(edge):
+    # The allow-list only shrinks: once an import is gone its entry must go too.
+    importer, imported = edge
+    assert imported in import_graph(PACKAGE)[importer], f"{importer} no longer imports {imported}: delete the entry"
