@@ -385,7 +385,7 @@ def test_study_cli_writes_each_export_and_refuses_to_overwrite(tmp_path):
     assert (tmp_path / "plots" / "histogram-mcu.svg").is_file() and (tmp_path / "csv" / "ranking.csv").is_file()
     before = {p: p.stat().st_mtime_ns for p in tmp_path.rglob("*") if p.is_file()}
     again = runner.invoke(cli, args)
-    assert again.exit_code == 1 and "Error:" in again.output and "--force" in again.output
+    assert again.exit_code == 3 and "Error:" in again.output and "--force" in again.output
     assert {p: p.stat().st_mtime_ns for p in tmp_path.rglob("*") if p.is_file()} == before
     forced = runner.invoke(cli, [*args, "--force", "--review", str(tmp_path / "review")])
     assert forced.exit_code == 0, forced.output

@@ -35,7 +35,7 @@ def test_exported_netlist_runs_in_ngspice_and_agrees(ngspice, tmp_path, topology
     _, topo, design = load_design(path)
     result = CliRunner().invoke(cli, ["netlist", str(path)])
     if topo.spice(design) is None:
-        assert result.exit_code == 1 and f"the {topology_id} topology provides no SPICE netlist" in result.output
+        assert result.exit_code == 3 and f"the {topology_id} topology provides no SPICE netlist" in result.output
         return
     assert result.exit_code == 0, result.output
     assert ".measure" in result.output.lower()
@@ -54,7 +54,7 @@ def test_output_file_equals_stdout_and_is_not_overwritten_without_force(tmp_path
     assert first.exit_code == 0 and target.read_text() == stdout.rstrip("\n") + "\n"
     target.write_text("my own edits\n")
     again = runner.invoke(cli, ["netlist", design, "-o", str(target)])
-    assert again.exit_code == 1 and "exists and was left untouched" in again.output and "--force" in again.output
+    assert again.exit_code == 3 and "exists and was left untouched" in again.output and "--force" in again.output
     assert target.read_text() == "my own edits\n"
     forced = runner.invoke(cli, ["netlist", design, "-o", str(target), "--force"])
     assert forced.exit_code == 0 and target.read_text() == stdout.rstrip("\n") + "\n"
@@ -68,7 +68,7 @@ def test_failure_mid_write_leaves_no_partial_file(tmp_path, monkeypatch):
     monkeypatch.setattr(files.os, "fsync", broken_fsync)
     target = tmp_path / "hold.cir"
     result = CliRunner().invoke(cli, ["netlist", str(DESIGNS / "rc-comparator.yaml"), "-o", str(target)])
-    assert result.exit_code == 1 and "No space left on device" in result.output
+    assert result.exit_code == 3 and "No space left on device" in result.output
     assert list(tmp_path.iterdir()) == []
     target.write_text("old\n")
     with pytest.raises(OutputError, match="no partial file"):

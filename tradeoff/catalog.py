@@ -59,7 +59,7 @@ _FIELD_KEYS = ("dielectric", "module", "notes")
 _PARAM_KEYS = ("value", "source", "note")
 _ID_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._+-]*$")
 _NAME_RE = re.compile(r"^[a-z][a-z0-9_]*$")
-_MODULE_RE = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_][A-Za-z0-9_]*)*$")
+_MODULE_RE = re.compile(r"^tradeoff\.topologies\.[a-z_][a-z0-9_]*$")
 _LEADING_NUMBER_RE = re.compile(r"^\s*[+\-\u2212]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(.*?)\s*$")
 _BARE_PREFIXES = set("GMkmunpµμ")
 _DIMENSIONLESS = ("", "1", "dimensionless")
@@ -189,6 +189,8 @@ class Part:
     file: str
     line: int | None = None
     column: int | None = None
+    field_positions: Mapping[str, tuple[int, int]] = dataclasses.field(default_factory=lambda: MappingProxyType({}))
+    """(line, column) of each field's value in its file, for messages about a field."""
 
     def _error(self, name: str, message: str, param: Param | None = None) -> CatalogError:
         where = param or self
@@ -401,8 +403,11 @@ class _FileReader:
         params = self._params(children.get("params"), node, key, category)
         if len(self.problems) > before:
             return part_id, None
+        positions = {name: (children[name].start_mark.line + 1, children[name].start_mark.column + 1)
+                     for name in fields}
         return part_id, Part(part_id, category, description, MappingProxyType(params), MappingProxyType(fields),
-                             self.file, node.start_mark.line + 1, node.start_mark.column + 1)
+                             self.file, node.start_mark.line + 1, node.start_mark.column + 1,
+                             MappingProxyType(positions))
 
     def _check_fields(self, children, node, key, category, fields) -> None:
         """Category-bound fields: capacitors need a dielectric, topologies a module, nothing else has them."""
@@ -419,8 +424,8 @@ class _FileReader:
                          f"{did_you_mean(dielectric, DIELECTRICS)} accepted: {', '.join(DIELECTRICS)}")
         module = fields.get("module")
         if module is not None and not _MODULE_RE.match(module):
-            self.problem(children["module"], f"{key}.module", f"'{module}' is not a dotted module name; "
-                                                              "accepted: e.g. 'tradeoff.topologies.rc_darlington'")
+            self.problem(children["module"], f"{key}.module", f"'{module}' is not a module of the package's "
+                         "topologies; accepted: tradeoff.topologies.NAME, e.g. 'tradeoff.topologies.rc_darlington'")
 
     def _params(self, node, entry_node, key, category) -> dict[str, Param]:
         params: dict[str, Param] = {}

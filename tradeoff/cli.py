@@ -8,11 +8,12 @@ import sys
 
 import click
 
-from tradeoff.errors import TradeoffError
+from tradeoff.errors import EXIT_INTERNAL, TradeoffError
 
 
 def _translate_errors(func):
-    """Turn library errors into `Error: ...` on stderr with the error's exit code, never a traceback."""
+    """Turn library errors into `Error: ...` on stderr with the error's exit code, never a traceback;
+    anything else is an internal error (exit 4), reported in one line."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
@@ -21,6 +22,12 @@ def _translate_errors(func):
         except TradeoffError as exc:
             click.echo(f"Error: {exc}", err=True)
             sys.exit(exc.exit_code)
+        except (click.exceptions.Exit, click.ClickException, KeyboardInterrupt):
+            raise
+        except Exception as exc:  # a bug: one line, a distinct exit code
+            click.echo(f"Error: internal error ({exc.__class__.__name__}: {str(exc)[:300]}); this is a bug in "
+                       "tradeoff, please report it with the command and input files", err=True)
+            sys.exit(EXIT_INTERNAL)
 
     return wrapper
 

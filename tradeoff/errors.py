@@ -1,7 +1,12 @@
 """Domain exceptions, one module for the whole library.
 
-The CLI translates `TradeoffError` into a plain message once, at its edge:
-input problems exit with code 2, an infeasible study with code 1.
+The CLI translates `TradeoffError` into a plain message once, at its edge, and exits with the
+error's `exit_code` (documented in the README):
+
+    0  done                         1  no topology meets the brief
+    2  input error (a file or option the user wrote)
+    3  output refused or failed (nothing was written or replaced)
+    4  internal error, or a tool the run needs (solver, ngspice) failed
 """
 from __future__ import annotations
 
@@ -9,6 +14,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 __all__ = [
+    "EXIT_DONE", "EXIT_INFEASIBLE", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL",
     "TradeoffError",
     "Problem",
     "InputError",
@@ -24,10 +30,14 @@ __all__ = [
 ]
 
 
+EXIT_DONE, EXIT_INFEASIBLE, EXIT_INPUT, EXIT_OUTPUT, EXIT_INTERNAL = 0, 1, 2, 3, 4
+"""Process exit codes of the command line, one meaning each."""
+
+
 class TradeoffError(Exception):
     """Base of every error the library raises on purpose."""
 
-    exit_code = 1
+    exit_code = EXIT_INTERNAL
 
 
 @dataclass(frozen=True)
@@ -53,7 +63,7 @@ class Problem:
 class InputError(TradeoffError, ValueError):
     """One or more problems in a file the user wrote; lists every problem, not only the first."""
 
-    exit_code = 2
+    exit_code = EXIT_INPUT
 
     def __init__(self, problems: list[Problem] | Problem):
         self.problems = [problems] if isinstance(problems, Problem) else list(problems)
@@ -81,13 +91,13 @@ class DesignError(InputError):
 class UnitParseError(TradeoffError, ValueError):
     """A quantity or percentage string is malformed or has the wrong dimension (no location: callers add it)."""
 
-    exit_code = 2
+    exit_code = EXIT_INPUT
 
 
 class InfeasibleError(TradeoffError, RuntimeError):
     """No design of any allowed topology meets the brief; carries the per-topology reasons."""
 
-    exit_code = 1
+    exit_code = EXIT_INFEASIBLE
 
     def __init__(self, message: str, reasons: dict[str, list[str]] | None = None):
         self.reasons = reasons or {}
@@ -103,7 +113,9 @@ class SimulatorError(TradeoffError, RuntimeError):
 
 
 class OutputError(TradeoffError, OSError):
-    """An output file could not be written, or exists and --force was not given."""
+    """An output file could not be written, or exists and --force was not given (nothing was replaced)."""
+
+    exit_code = EXIT_OUTPUT
 
 
 class RankingError(TradeoffError, ValueError):
