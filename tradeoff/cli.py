@@ -70,12 +70,13 @@ def check(brief):
 
     from tradeoff.brief import load_brief
     from tradeoff.cautions import cautions
+    from tradeoff.report.terminal import TABLE_BOX
 
     loaded = load_brief(brief)
     console = Console()
     heading = f"{loaded.title} ({brief})"
     if console.is_terminal:
-        table = Table(title=heading, title_justify="left")
+        table = Table(box=TABLE_BOX, title=heading, title_justify="left")
         for column in ("key", "value", "origin", "note"):
             table.add_column(column)
         for value in loaded.values:
@@ -146,11 +147,14 @@ def catalog_command(query, catalogs):
 @click.option("--review", "review_dir", type=click.Path(file_okay=False), default=None,
               help="Write the full review set into this folder: report.txt, study.json, study.xlsx, tables/, "
                    "plots/, netlists/.")
+@click.option("--width", type=click.IntRange(72, 1000), default=None,
+              help="Characters per line of the report [default: the terminal's width, 100 when not a terminal].")
+@click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
 @click.option("--force", is_flag=True, help="Replace output files that exist (otherwise nothing is written).")
 @catalog_option
 @_translate_errors
 def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, xlsx_path, csv_dir,
-                  plots_dir, netlist_dir, review_dir, force, catalogs):
+                  plots_dir, netlist_dir, review_dir, width, verbose, force, catalogs):
     """Run the trade study on BRIEF: for every allowed topology the best E-series
     design proven at the worst-case corners and by Monte Carlo, then a ranking by
     the brief's weights, the winner's bill of materials, the reasons, and why the
@@ -166,6 +170,8 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
         tradeoff study examples/towel_rail_boost.yaml --alternatives 2 --method topsis
 
         tradeoff study examples/towel_rail_boost.yaml --review out/review
+
+        tradeoff study examples/glue_pot_warmer.yaml --width 80 --verbose
     """
     from tradeoff.study import study
 
@@ -180,7 +186,7 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
         from tradeoff.report.study_text import render_study
         from tradeoff.report.terminal import report_console
 
-        render_study(result, report_console())
+        render_study(result, report_console(width), verbose=verbose)
     targets = dict(xlsx=xlsx_path, csv=csv_dir, plots=plots_dir, netlists=netlist_dir, review=review_dir)
     if any(path is not None for path in targets.values()):
         from tradeoff.report.review import export

@@ -1,91 +1,202 @@
-"""Terminal report of a study: the ranking table, the winner's bill of materials and reasons,
-weight sensitivity, the infeasible topologies with their reasons, and the cautions.
+"""Terminal report of a study, fitted to a page width.
 
-rich renders the tables; on a pipe it writes the same text without colour codes.
+One comparison table with every topology considered (feasible designs by rank, then each
+infeasible topology with its binding reason in a short phrase), the designs' part classes, the
+winner's bill of materials, the reasons for the order, the weight sensitivity, the infeasible
+topologies' explanations as bullet lists (the candidate counts per rule only with `verbose`),
+and the mains cautions. Every line is at most the console's width: tables are drawn by rich
+within it, bullets are wrapped here with a hanging indent.
 """
 from __future__ import annotations
 
+import textwrap
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from rich.console import Console
-from rich.table import Table
 
-from tradeoff.report.terminal import delay_text, render_bom
-from tradeoff.study import describe_values
+from tradeoff.report.labels import (in_unit, margin_frac, part_classes, schematic_values, short_reason, span_in,
+                                    split_reason, time_unit)
+from tradeoff.report.terminal import delay_text, render_bom, render_rows
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.study import StudyResult
 
-__all__ = ["render_study", "band_text"]
+__all__ = ["render_study", "band_text", "ComparisonRow", "comparison_rows", "comparison_headers"]
+
+DASH = "–"
+"""Cell text where a figure does not exist (an infeasible topology has no delay, score or cost)."""
+
 
 def band_text(lo: float, hi: float, nominal: float | None = None) -> str:
     """A delay interval with units (and deviations from `nominal` when given)."""
     return f"{delay_text(lo, nominal)} to {delay_text(hi, nominal)}"
 
 
-def _heading(result: "StudyResult", console: Console) -> None:
-    b = result.brief
-    d = b.delay
-    console.print(f"[bold]{b.title}[/bold]")
-    console.print(
-        f"delay {fq(d.nominal_s, 's')} (band {band_text(d.min_s, d.max_s)}); ambient {fq(b.ambient.min_c, 'degC')} "
-        f"to {fq(b.ambient.max_c, 'degC')}; supply {fq(b.supply.min_v, 'V')} to {fq(b.supply.max_v, 'V')} "
-        f"({b.supply.kind}); Monte Carlo {b.analysis.samples} samples, seed {b.analysis.seed}",
-        highlight=False,
-    )
+@dataclass(frozen=True)
+class ComparisonRow:
+    """One row of the comparison of every topology considered, as display text (units included).
+
+    For an infeasible topology `rank` and the figures are DASH and `values` holds its binding reason.
+    """
+
+    rank: str
+    design: str
+    values: str
+    delay: str
+    worst: str
+    margin: str
+    yield_: str
+    standby: str
+    rails: str
+    parts: str
+    cost: str
+    score: str
+    feasible: bool
 
 
-def _ranking_table(result: "StudyResult") -> Table:
-    table = Table(title="Feasible designs, best first", title_justify="left")
-    for name, justify in (("rank", "right"), ("design", "left"), ("values", "left"), ("delay nominal", "right"),
-                          ("worst case", "right"), ("yield", "right"), ("standby after", "right"),
-                          ("rails", "right"), ("parts", "right"), ("cost [EUR]", "right"), ("score", "right"),
-                          ("Pareto", "center")):
-        table.add_column(name, justify=justify, overflow="fold")
+def comparison_rows(result: "StudyResult") -> list[ComparisonRow]:
+    """Every topology considered: feasible designs best first, then the infeasible topologies.
+
+    Delays are numbers in the brief's time unit (`labels.time_unit`); margin is the worst case's
+    distance from the nearer band edge in % of the band; standby is the current after the timeout
+    with its unit; cost is indicative EUR.
+    """
+    unit = time_unit(result.brief.delay.nominal_s)
+    rows = []
     for name, ev, outcome in result.designs():
         row = result.ranking.table.loc[name]
-        table.add_row(
-            str(int(row["rank"])), name, describe_values(outcome.model, ev.design), delay_text(ev.nominal_s),
-            band_text(ev.worst.min_s, ev.worst.max_s, ev.nominal_s), f"{100 * ev.mc.yield_frac:.1f} %", fq(ev.standby.after_a, "A"),
-            str(ev.rails), str(ev.placements), f"{ev.cost:.2f}", f"{float(row['score']):.3f}",
-            "yes" if bool(row["pareto"]) else "no",
-        )
-    return table
+        rows.append(ComparisonRow(
+            rank=str(int(row["rank"])), design=name, values=schematic_values(outcome.model, ev.design),
+            delay=in_unit(ev.nominal_s, unit), worst=span_in(ev.worst.min_s, ev.worst.max_s, unit, with_unit=False),
+            margin=f"{100 * margin_frac(ev.worst.min_s, ev.worst.max_s, ev.band):.0f} %",
+            yield_=fq(ev.mc.yield_frac, "%"), standby=fq(ev.standby.after_a, "A"), rails=str(ev.rails),
+            parts=str(ev.placements), cost=f"{ev.cost:.2f}", score=f"{float(row['score']):.3f}", feasible=True,
+        ))
+    for outcome in result.infeasible():
+        rows.append(ComparisonRow(DASH, outcome.topology, short_reason(outcome.reasons), *([DASH] * 9), feasible=False))
+    return rows
 
 
-def render_study(result: "StudyResult", console: Console) -> None:
-    """Print the whole study report on `console`."""
-    _heading(result, console)
-    if result.ranking is not None:
-        console.print(_ranking_table(result))
-        name, ev, _ = result.winner()
-        render_bom(ev.bom, console, title=f"Bill of materials of {name} (indicative costs)")
-        console.print(f"[bold]Why this order[/bold] ({result.ranking.method} ranking)")
-        for design, reason in result.ranking.reasons.items():
-            console.print(f"  {design}: {reason}", highlight=False)
-        console.print(f"[bold]Delay of {name}[/bold]: nominal {delay_text(ev.nominal_s)}, worst case "
-                      f"{band_text(ev.worst.min_s, ev.worst.max_s, ev.nominal_s)} ({ev.worst.method}); Monte Carlo "
-                      f"{100 * (1 - ev.coverage) / 2:g} % to {100 * (1 + ev.coverage) / 2:g} % percentiles "
-                      f"{band_text(min(ev.mc.percentiles.values()), max(ev.mc.percentiles.values()), ev.nominal_s)}; yield "
-                      f"{100 * ev.mc.yield_frac:.2f} % (95 % interval {100 * ev.mc.yield_ci[0]:.2f} % to "
-                      f"{100 * ev.mc.yield_ci[1]:.2f} %)", highlight=False)
-        for finding in ev.findings:
-            if finding.severity == "warning":
-                console.print(f"  warning: {finding.message}", highlight=False)
-        console.print("[bold]Weight sensitivity[/bold]")
-        for s in result.ranking.sensitivity:
-            console.print(f"  {s.text}", highlight=False)
-    else:
-        console.print("[bold]No topology meets the brief.[/bold]")
+def comparison_headers(result: "StudyResult") -> tuple[str, ...]:
+    """Headings of the comparison's figure columns (a newline splits a heading in two lines) (ComparisonRow's fields after `values`, in order),
+    the delay unit being the brief's."""
+    unit = time_unit(result.brief.delay.nominal_s)[0]
+    return (f"delay\n[{unit}]", f"worst\ncase [{unit}]", "margin", "yield", "standby\nafter", "rails", "parts",
+            "cost\n[EUR]", "score")
+
+
+def _comparison_table(result: "StudyResult", console: Console) -> None:
+    """The comparison: rank, design and figures on one line, its values (or why not) under the name."""
+    rows = comparison_rows(result)
+    cells = [[r.rank, r.design, r.delay, r.worst, r.margin, r.yield_, r.standby, r.rails, r.parts, r.cost, r.score]
+             for r in rows]
+    details = [r.values if r.feasible else f"why not: {r.values}" for r in rows]
+    first_infeasible = next((i for i, r in enumerate(rows) if not r.feasible), None)
+    console.print()
+    render_rows(console, "Every topology considered (feasible ones best first)",
+                ("#", "design", *comparison_headers(result)), cells, details, left=(1,),
+                gap_before=() if not first_infeasible else (first_infeasible,))
+
+
+class _Page:
+    """Plain lines on `console`, wrapped to its width with a hanging indent for bullets."""
+
+    def __init__(self, console: Console):
+        self.console = console
+
+    def heading(self, text: str) -> None:
+        self.console.print()
+        self.console.print(text, style="bold", highlight=False, markup=False)
+
+    def line(self, text: str, indent: int = 0) -> None:
+        self._emit(text, " " * indent, " " * indent)
+
+    def bullet(self, text: str, level: int = 0) -> None:
+        lead = "  " * level + "- "
+        self._emit(text, lead, " " * len(lead))
+
+    def _emit(self, text: str, first: str, rest: str) -> None:
+        wrapped = textwrap.fill(text, width=self.console.width, initial_indent=first, subsequent_indent=rest,
+                                break_on_hyphens=False)
+        self.console.print(wrapped, highlight=False, markup=False, soft_wrap=True)
+
+
+def _summary(result: "StudyResult", page: _Page) -> None:
+    b = result.brief
+    d = b.delay
+    page.console.print(b.title, style="bold", highlight=False, markup=False)
+    page.line(f"delay {fq(d.nominal_s, 's')}, band {fq(d.min_s, 's')} to {fq(d.max_s, 's')}; ambient "
+              f"{fq(b.ambient.min_c, 'degC')} to {fq(b.ambient.max_c, 'degC')}; supply {fq(b.supply.min_v, 'V')} to "
+              f"{fq(b.supply.max_v, 'V')} ({b.supply.kind}); Monte Carlo {b.analysis.samples} samples, seed "
+              f"{b.analysis.seed}; {result.method.upper()} ranking")
+
+
+def _details(result: "StudyResult", page: _Page) -> None:
+    page.heading("Part classes of each design")
+    for name, ev, outcome in result.designs():
+        classes = part_classes(outcome.model, ev.design)
+        page.bullet(f"{name}: " + ("; ".join(f"{label} {part}" for label, part in classes)
+                                   or "the bill of materials names every part"))
+
+
+def _winner(result: "StudyResult", page: _Page) -> None:
+    name, ev, _ = result.winner()
+    page.console.print()
+    render_bom(ev.bom, page.console, title=f"Bill of materials of {name}, the top design (indicative costs)")
+    page.heading(f"Why this order ({result.method.upper()} ranking)")
+    for design, reason in result.ranking.reasons.items():
+        page.bullet(f"{design}:")
+        for clause in reason.split("; "):
+            page.bullet(clause, level=1)
+    lo_q, hi_q = min(ev.mc.percentiles), max(ev.mc.percentiles)
+    page.heading(f"Delay of {name}")
+    page.bullet(f"nominal {delay_text(ev.nominal_s)}; worst case {band_text(ev.worst.min_s, ev.worst.max_s, ev.nominal_s)}"
+                f" ({ev.worst.method})")
+    page.bullet(f"Monte Carlo {fq(lo_q, '%')} to {fq(hi_q, '%')} percentiles "
+                f"{band_text(ev.mc.percentiles[lo_q], ev.mc.percentiles[hi_q], ev.nominal_s)}; yield "
+                f"{100 * ev.mc.yield_frac:.2f} % (95 % interval {100 * ev.mc.yield_ci[0]:.2f} % to "
+                f"{100 * ev.mc.yield_ci[1]:.2f} %)")
+    for finding in ev.findings:
+        if finding.severity == "warning":
+            page.bullet(f"warning: {finding.message}")
+    page.heading("Weight sensitivity (how far each weight may move before the top design changes)")
+    for s in result.ranking.sensitivity:
+        page.bullet(s.text)
+
+
+def _infeasible(result: "StudyResult", page: _Page, verbose: bool) -> None:
     infeasible = result.infeasible()
-    if infeasible:
-        console.print("[bold]Topologies that cannot meet the brief[/bold]")
-        for outcome in infeasible:
-            console.print(f"  {outcome.topology}: {outcome.description}", highlight=False)
-            for reason in outcome.reasons:
-                console.print(f"    - {reason}", highlight=False)
+    if not infeasible:
+        return
+    page.heading("Topologies that cannot meet the brief, and why")
+    for outcome in infeasible:
+        page.bullet(f"{outcome.topology}: {outcome.description}")
+        for reason in outcome.reasons:
+            parts = split_reason(reason)
+            page.bullet(parts.lead + (":" if parts.rules else ""), level=1)
+            for rule in sorted(parts.rules, key=lambda r: -r.count):
+                page.bullet(f"{rule.count}: {rule.rule}" if verbose else rule.rule, level=2)
+    if not verbose:
+        page.line("(--verbose adds how many candidates each rule removed)")
+
+
+def render_study(result: "StudyResult", console: Console, verbose: bool = False) -> None:
+    """Print the whole study report on `console`, no line wider than `console.width`.
+
+    verbose: also give how many candidates each of a topology's own rules removed.
+    """
+    page = _Page(console)
+    _summary(result, page)
+    _comparison_table(result, console)
+    if result.ranking is not None:
+        _details(result, page)
+        _winner(result, page)
+    else:
+        page.heading("No topology meets the brief.")
+    _infeasible(result, page, verbose)
     if result.cautions:
-        console.print("[bold]Cautions: this brief switches a mains load[/bold]")
+        page.heading("Cautions: this brief switches a mains load")
         for caution in result.cautions:
-            console.print(f"  ! {caution}", highlight=False)
+            page.bullet(f"CAUTION: {caution}")

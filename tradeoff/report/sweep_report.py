@@ -42,11 +42,13 @@ def render_sweep(result: "SweepResult", console: "Console") -> None:
     from rich.table import Table
 
     from tradeoff.report.study_text import band_text
+    from tradeoff.report.terminal import TABLE_BOX
 
     console.print(f"[bold]{result.title}[/bold]: sweep of {len(result.points)} points, ranked by "
                   f"{result.method}; Monte Carlo {result.samples} samples, seed {result.seed}; "
                   f"topologies {', '.join(result.topologies)}", highlight=False)
-    table = Table(title="Winner per grid point (scores 0..1, higher is better)", title_justify="left")
+    table = Table(box=TABLE_BOX, title="Winner per grid point (scores 0..1, higher is better)",
+                  title_justify="left")
     for axis in result.axes:
         table.add_column(axis.key, justify="right", no_wrap=True)
     for name, justify in (("winner (score)", "left"), ("runner-up (score)", "left"), ("worst case", "right"),

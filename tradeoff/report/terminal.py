@@ -7,7 +7,8 @@ figure carries its unit (tradeoff.units.format_quantity); a delay that never end
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+import textwrap
+from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING
 
 from rich import box
@@ -24,19 +25,26 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
     from tradeoff.topologies.base import BomLine, Evaluation
 
-__all__ = ["render_evaluation", "render_bom", "delay_text", "quantity_text"]
+__all__ = ["render_evaluation", "render_bom", "render_rows", "delay_text", "quantity_text", "report_console",
+           "TABLE_BOX", "PIPED_WIDTH"]
 
 _SUFFIX_UNITS = (("_ohm", "ohm"), ("_hz", "Hz"), ("_s", "s"), ("_v", "V"), ("_a", "A"), ("_f", "F"), ("_c", "degC"),
                  ("_w", "W"))
 """Units implied by the name suffixes of CONTRIBUTING.md, for quantities whose unit is not given."""
 
 
-PIPED_WIDTH = 160
-"""Characters per line when a report goes to a pipe or file (a terminal uses its own width)."""
+PIPED_WIDTH = 100
+"""Characters per line when a report goes to a pipe or file and no width is given."""
+
+TABLE_BOX = box.SIMPLE_HEAD
+"""The one box style of every terminal table: a rule under the header, no vertical lines."""
 
 
-def report_console() -> Console:
-    """A console for reports: the terminal's width, or a wide page when piped (no colour codes then)."""
+def report_console(width: int | None = None) -> Console:
+    """A console for reports, `width` characters wide when given; otherwise the terminal's width,
+    or PIPED_WIDTH when the output is not a terminal (no colour codes then)."""
+    if width is not None:
+        return Console(width=width)
     console = Console()
     return console if console.is_terminal else Console(width=PIPED_WIDTH)
 
@@ -91,25 +99,69 @@ def _options_text(options: Mapping[str, object], units: Mapping[str, str | None]
                      for k, v in options.items()) or "none (topology defaults)"
 
 
+def _wrapped(text: str, width: int, indent: int) -> str:
+    return textwrap.fill(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * indent,
+                         break_on_hyphens=False)
+
+
+def render_rows(console: Console, title: str, headers: Sequence[str], rows: Sequence[Sequence[str]],
+                details: Sequence[str | None] | None = None, left: Sequence[int] = (), gap_before: Sequence[int] = ()
+                ) -> None:
+    """A table within `console.width`: header (a heading splits into two lines at a newline), a rule,
+    one line per row, and the row's `details` text wrapped under its second column.
+
+    left: indices of left-aligned columns (the others align right); gap_before: row indices that
+    start a new group after a blank line. Two spaces between columns where the width allows, one
+    otherwise; on a page narrower still, the second column moves to the start of the row's details.
+    """
+    details = list(details) if details else [None] * len(rows)
+    split = [tuple(h.split("\n", 1)) if "\n" in h else (h, "") for h in headers]
+    width = console.width
+
+    def widths_of(columns: Sequence[int]) -> list[int]:
+        return [max([len(split[i][0]), len(split[i][1]), *(len(r[i]) for r in rows)]) for i in columns]
+
+    columns = list(range(len(headers)))
+    widths = widths_of(columns)
+    gap = 2 if sum(widths) + 2 * (len(widths) - 1) <= width else 1
+    if sum(widths) + len(widths) - 1 > width and len(columns) > 2:
+        moved = columns.pop(1)
+        details = [f"{row[moved]}: {d}" if d else row[moved] for row, d in zip(rows, details)]
+        widths = widths_of(columns)
+
+    def line(texts: Sequence[str]) -> str:
+        return (" " * gap).join(texts[i].ljust(w) if i in left else texts[i].rjust(w)
+                                for i, w in zip(columns, widths)).rstrip()
+
+    out = [title] if title else []
+    out += [line([h[0] for h in split]), line([h[1] for h in split])]
+    out.append("─" * min(width, sum(widths) + gap * (len(widths) - 1)))
+    for i, row in enumerate(rows):
+        if i in gap_before:
+            out.append("")
+        out.append(line(row))
+        if details[i]:
+            out.append(_wrapped(details[i], width, widths[0] + gap))
+    for text in out:
+        console.print(text, highlight=False, markup=False, soft_wrap=True)
+
+
 def render_bom(bom: "list[BomLine]", console: Console, title: str = "Bill of materials") -> None:
-    """The bill of materials: references, part class, value, quantity, unit and line cost [EUR, indicative]."""
-    table = Table(box=box.SIMPLE_HEAD, title=title, title_justify="left")
-    for name, justify, no_wrap in (("refs", "left", True), ("part class", "left", True), ("value", "left", False),
-                                   ("qty", "right", True), ("unit cost [EUR]", "right", True),
-                                   ("cost [EUR]", "right", True), ("note", "left", False)):
-        table.add_column(name, justify=justify, no_wrap=no_wrap)
-    for line in bom:
-        table.add_row(line.refs, line.part, line.value, str(line.quantity), f"{line.unit_cost:.3f}",
-                      f"{line.cost:.3f}", line.note)
-    total = sum(line.cost for line in bom)
-    table.add_row("total", "", "", str(sum(line.quantity for line in bom)), "", f"{total:.3f}", "indicative")
-    console.print(table)
+    """The bill of materials: references, part class, quantity, unit and line cost [EUR, indicative],
+    with each line's value and note under it."""
+    rows = [[line.refs, line.part, str(line.quantity), f"{line.unit_cost:.3f}", f"{line.cost:.3f}"] for line in bom]
+    details = [f"{line.value}" + (f"; {line.note}" if line.note else "") for line in bom]
+    rows.append(["total", "indicative", str(sum(line.quantity for line in bom)), "",
+                 f"{sum(line.cost for line in bom):.3f}"])
+    details.append(None)
+    render_rows(console, title, ("refs", "part class", "qty", "each\n[EUR]", "cost\n[EUR]"), rows, details,
+                left=(0, 1), gap_before=(len(bom),))
 
 
 def _delay_table(ev: "Evaluation", quantities: "Mapping[str, Uncertain] | None") -> Table:
     lo, hi = ev.band
     mc = ev.mc
-    table = Table(box=box.SIMPLE_HEAD, title=f"Delay (brief's band {fq(lo, 's')} to {fq(hi, 's')})", title_justify="left")
+    table = Table(box=TABLE_BOX, title=f"Delay (brief's band {fq(lo, 's')} to {fq(hi, 's')})", title_justify="left")
     table.add_column("figure")
     table.add_column("value", justify="right")
     table.add_column("where / how")
@@ -131,7 +183,7 @@ def _delay_table(ev: "Evaluation", quantities: "Mapping[str, Uncertain] | None")
 
 
 def _supply_table(ev: "Evaluation") -> Table:
-    table = Table(box=box.SIMPLE_HEAD, title=f"Supply and parts (nominal supply {fq(ev.supply_v, 'V')})", title_justify="left")
+    table = Table(box=TABLE_BOX, title=f"Supply and parts (nominal supply {fq(ev.supply_v, 'V')})", title_justify="left")
     table.add_column("figure")
     table.add_column("value", justify="right")
     table.add_column("note")
@@ -154,7 +206,7 @@ def _supply_table(ev: "Evaluation") -> Table:
 def _findings_table(ev: "Evaluation") -> Table | None:
     if not ev.findings:
         return None
-    table = Table(box=box.SIMPLE_HEAD, title="Findings (design-rule checks)", title_justify="left")
+    table = Table(box=TABLE_BOX, title="Findings (design-rule checks)", title_justify="left")
     for name in ("severity", "check", "finding"):
         table.add_column(name)
     order = {"violation": 0, "warning": 1, "info": 2}

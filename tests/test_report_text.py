@@ -1,0 +1,134 @@
+"""The study's terminal report: golden output at 80, 100 and 160 columns, no line wider than the
+page, every topology considered in one comparison table, plain labels, counts only with --verbose.
+
+Regenerate the golden files after an intended change of the report or the models with
+`TRADEOFF_UPDATE_GOLDEN=1 python -m pytest tests/test_report_text.py` and read the diff.
+"""
+from __future__ import annotations
+
+import functools
+import io
+import os
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+from rich.console import Console
+
+import tradeoff
+from tradeoff.cli import cli
+from tradeoff.report.labels import margin_frac, plain_label, short_reason, span_in, split_reason, time_unit
+from tradeoff.report.study_text import comparison_rows, render_study
+
+ROOT = Path(__file__).resolve().parent.parent
+GOLDEN = Path(__file__).parent / "golden"
+EXAMPLES = sorted((ROOT / "examples").glob("*.yaml"))
+
+
+@functools.cache
+def _study(path: Path):
+    return tradeoff.study(path)
+
+
+def _text(result, width: int, verbose: bool = False) -> str:
+    buffer = io.StringIO()
+    render_study(result, Console(file=buffer, width=width, color_system=None, force_terminal=False), verbose=verbose)
+    return buffer.getvalue()
+
+
+@pytest.mark.parametrize("width", [80, 100, 160])
+def test_golden_report_at_width(width):
+    """The towel-rail report (mains cautions included) equals its golden file at each width."""
+    text = _text(_study(ROOT / "examples" / "towel_rail_boost.yaml"), width)
+    golden = GOLDEN / f"towel_rail_boost_{width}.txt"
+    if os.environ.get("TRADEOFF_UPDATE_GOLDEN"):
+        golden.write_text(text, encoding="utf-8")
+    assert text == golden.read_text(encoding="utf-8")
+    assert max(len(line) for line in text.splitlines()) <= width
+
+
+@pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
+@pytest.mark.parametrize("width", [72, 80, 100, 160])
+def test_no_line_wider_than_the_page(brief, width):
+    for verbose in (False, True):
+        lines = _text(_study(brief), width, verbose).splitlines()
+        too_wide = [line for line in lines if len(line) > width]
+        assert not too_wide, too_wide[:3]
+
+
+@pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
+def test_one_table_with_every_topology_considered(brief):
+    result = _study(brief)
+    rows = comparison_rows(result)
+    assert [r.design for r in rows if r.feasible] == [name for name, _, _ in result.designs()]
+    assert [r.design for r in rows if not r.feasible] == [o.topology for o in result.infeasible()]
+    assert {o.topology for o in result.outcomes} <= {r.design.split(" #")[0] for r in rows}
+    for row, (name, ev, _) in zip(rows, result.designs()):
+        assert row.rank == str(int(result.ranking.table.loc[name, "rank"]))
+        assert row.score == f"{float(result.ranking.table.loc[name, 'score']):.3f}"
+    for row in rows:  # every entry is a value with its unit or a name with its value: no empty option
+        assert row.values and all(" " in piece for piece in row.values.split(", ")), row.values
+
+
+@pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
+def test_plain_labels_only(brief):
+    text = _text(_study(brief), 100, verbose=True)
+    for internal in ("ambient_c", "supply_v", "leak_level", "rc_trim_position", "_part ", "r_timing ", "c_hold "):
+        assert internal not in text
+
+
+def test_counts_per_rule_only_when_verbose():
+    result = _study(ROOT / "examples" / "towel_rail_boost.yaml")
+    rules = [rule for o in result.infeasible() for r in o.reasons for rule in split_reason(r).rules]
+    assert rules, "the towel-rail brief has topologies whose own rules removed candidates"
+    plain, verbose = _text(result, 100), _text(result, 100, verbose=True)
+    big = max(rules, key=lambda r: r.count)
+    assert f"- {big.count}: " in " ".join(verbose.split()).replace("\n", " ")
+    assert f"- {big.count}: " not in plain
+
+
+def test_cli_width_option_and_default_page_width():
+    runner = CliRunner()
+    brief = str(ROOT / "examples" / "towel_rail_boost.yaml")
+    narrow = runner.invoke(cli, ["study", brief, "--width", "80"])
+    assert narrow.exit_code == 0, narrow.output
+    assert max(len(line) for line in narrow.output.splitlines()) <= 80
+    default = runner.invoke(cli, ["study", brief])  # not a terminal: 100 columns
+    assert max(len(line) for line in default.output.splitlines()) <= 100
+    assert "Every topology considered" in default.output
+    refused = runner.invoke(cli, ["study", brief, "--width", "20"])
+    assert refused.exit_code == 2 and "--width" in refused.output
+
+
+def test_margin_is_distance_from_the_nearer_band_edge():
+    """Hand example: band 1.7 h to 2.3 h (0.6 h wide), worst case 1.97 h to 2.03 h: 0.27 h from
+    either edge, 45 % of the band; 2.28 h at the top is 0.02 h / 0.6 h = 3.3 %; outside is negative."""
+    band = (1.7 * 3600, 2.3 * 3600)
+    assert margin_frac(1.97 * 3600, 2.03 * 3600, band) == pytest.approx(0.45)
+    assert margin_frac(1.84 * 3600, 2.28 * 3600, band) == pytest.approx(0.02 / 0.6)
+    assert margin_frac(1.6 * 3600, 2.0 * 3600, band) == pytest.approx(-0.1 / 0.6)
+
+
+def test_delays_in_the_briefs_unit():
+    hours, minutes = time_unit(2 * 3600), time_unit(10 * 60)
+    assert hours == ("h", 3600.0) and minutes == ("min", 60.0) and time_unit(5.0) == ("s", 1.0)
+    assert span_in(1.84 * 3600, 2.28 * 3600, hours) == "1.84–2.28 h"
+    assert span_in(600.0, 600.06, minutes) == "10–10.001 min"  # digits added until the ends differ
+
+
+def test_plain_label_words():
+    assert [plain_label(n) for n in ("ambient_c", "supply_v", "leak_level", "rc_trim_position", "r_timing_part",
+                                     "coil_ohm", "release_frac")] == [
+        "ambient", "supply", "leakage level", "RC trim position", "timing resistor part class", "coil", "release"]
+
+
+def test_short_reasons_of_the_optimiser_sentences():
+    assert short_reason(["even the longest-delay candidates time out too early: the worst-case shortest delay "
+                         "reaches at most 6.97 min; the band's minimum is 1.7 h"]) == "too short: worst case at most 6.97 min"
+    assert short_reason(["the fewest parts reachable is 23; the limit is 20"]) == "needs 23 parts, limit 20"
+    tally = ("hold: the topology's own rules removed 30 candidates (10: worst-case longest hold above the band's "
+             "maximum 2.3 h; 20: cap-x: leakage too high (limit (datasheet)))")
+    assert short_reason(["no candidate is left for hold", tally]) == "no hold candidate left; most removed by: leakage too high"
+    parts = split_reason(tally)
+    assert [(r.count, r.rule) for r in parts.rules] == [
+        (10, "worst-case longest hold above the band's maximum 2.3 h"), (20, "cap-x: leakage too high (limit (datasheet))")]
