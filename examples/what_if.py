@@ -22,7 +22,7 @@ def main() -> None:
 
     grid = tradeoff.sweep(changed, {"delay.nominal": ["30 min", "2 h"], "weights.effort": [0, 3]},
                           only=FAST, samples=1000, jobs=2)
-    print(grid.to_frame()[["delay.nominal_s", "weights.effort", "winner", "winner_score", "runner_up"]])
+    print(grid.to_frame()[["delay_nominal_s", "weights_effort", "winner", "winner_score", "runner_up"]])
 
 
 if __name__ == "__main__":  # worker processes import this file; only the parent runs the demo

@@ -26,3 +26,18 @@ def ngspice() -> str:
             pytest.fail("ngspice is required under CI (.ci/run installs it with apt-get)")
         pytest.skip("ngspice not installed (apt-get install -y ngspice)")
     return path
+
+
+def dotted_keys(data, path: str = "") -> list[str]:
+    """Paths of every mapping key in a JSON document that holds a dot (dotted-path tools such as
+    jq's `.a.b` split keys at dots, so result JSON keeps them out)."""
+    found = []
+    if isinstance(data, dict):
+        for key, value in data.items():
+            here = f"{path}/{key}"
+            found += [here] if "." in str(key) else []
+            found += dotted_keys(value, here)
+    elif isinstance(data, list):
+        for i, value in enumerate(data):
+            found += dotted_keys(value, f"{path}/{i}")
+    return found

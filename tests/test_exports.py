@@ -127,17 +127,17 @@ def test_workbook_numbers_equal_the_json(mains, mains_files):
         assert row["rank"] == d["rank"] and row["topology"] == d["topology"] and row["values"] == d["values_text"]
         assert _same(row["delay nominal [s]"], delay["nominal_s"])
         assert _same(row["delay worst min [s]"], delay["worst_min_s"]) and _same(row["delay worst max [s]"], delay["worst_max_s"])
-        assert row["yield [%]"] == pytest.approx(100 * delay["yield"], rel=1e-12)
-        assert _same(row["standby after [A]"], d["standby"]["after_a"]) and _same(row["cost [EUR]"], d["cost"])
+        assert row["yield [%]"] == pytest.approx(100 * delay["yield_frac"], rel=1e-12)
+        assert _same(row["standby after [A]"], d["standby"]["after_a"]) and _same(row["cost [EUR]"], d["cost_eur"])
         assert row["parts [count]"] == d["parts"]["placements"] and _same(row["score [0 to 1]"], d["score"])
         assert bool(row["Pareto front"]) == d["pareto"] and row["reason"] == d["reasons"][0]
         m = mc.loc[d["name"]]
-        for key, value in delay["percentiles"].items():  # p0.5_s -> "delay p0.5 [s]"
-            assert _same(m[f"delay {key[:-2]} [s]"], value)
+        for key, value in delay["percentiles"].items():  # p0_5_s -> "delay p0.5 [s]"
+            assert _same(m[f"delay {key[:-2].replace('_', '.')} [s]"], value)
         assert _same(m["delay mean [s]"], delay["mean_s"]) and _same(m["delay std [s]"], delay["std_s"])
         assert m["samples [count]"] == delay["samples"] == SAMPLES and m["seed"] == delay["seed"]
-        assert m["yield 95 % low [%]"] == pytest.approx(100 * delay["yield_ci95"][0], rel=1e-12)
-        assert m["yield 95 % high [%]"] == pytest.approx(100 * delay["yield_ci95"][1], rel=1e-12)
+        assert m["yield 95 % low [%]"] == pytest.approx(100 * delay["yield_ci95_frac"][0], rel=1e-12)
+        assert m["yield 95 % high [%]"] == pytest.approx(100 * delay["yield_ci95_frac"][1], rel=1e-12)
         assert m["coverage [%]"] == pytest.approx(100 * delay["coverage"])
         bom = sheets["bom"][sheets["bom"]["design"] == d["name"]]
         assert list(bom["line cost [EUR]"]) == pytest.approx([b["cost_eur"] for b in d["bom"]], rel=1e-12)

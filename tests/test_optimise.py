@@ -24,6 +24,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from tradeoff import optimise as opt
+from tradeoff.criteria import WEIGHT_NAMES
 from tradeoff.errors import InfeasibleError, SolverError
 from tradeoff.optimise import SelectionProblem, exhaustive, optimise
 from tradeoff.selection import Block, Link, SelectionModel
@@ -139,7 +140,7 @@ def random_model(seed: int, combine: str, blocks: tuple[int, int] = (1, 3), rows
         cost=somewhere("cost", model.fixed_cost) if rng.uniform() < 0.4 else None,
         rails=None,
     )
-    weights = NS(**{t: float(rng.uniform(0, 3) * (rng.uniform() < 0.8)) for t in opt.TERMS})
+    weights = NS(**{t: float(rng.uniform(0, 3) * (rng.uniform() < 0.8)) for t in WEIGHT_NAMES})
     return model, band, limits, weights
 
 

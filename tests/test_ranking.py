@@ -17,8 +17,9 @@ from hypothesis import strategies as st
 
 from tradeoff.analysis import MonteCarlo, WorstCase
 from tradeoff.errors import RankingError
+from tradeoff.criteria import CRITERIA, HEADLINE, WEIGHT_NAMES, headline
 from tradeoff.ranking import (
-    CRITERIA, WEIGHT_NAMES, _linear_crossings, _numeric_crossings, criteria_table, criterion_weights, order,
+    _linear_crossings, _numeric_crossings, criteria_table, criterion_weights, order,
     pareto_flags, rank, scores,
 )
 from tradeoff.topologies.base import BomLine, Design, Evaluation, Standby
@@ -36,7 +37,7 @@ def random_table(rng: np.random.Generator, n: int, coarse: bool = False) -> pd.D
         data["effort"] = data["effort"] / 4
     else:
         data = {
-            "spread_frac": rng.uniform(0.01, 0.5, n), "yield_frac": rng.uniform(0.9, 1.0, n),
+            "delay_spread_frac": rng.uniform(0.01, 0.5, n), "yield_frac": rng.uniform(0.9, 1.0, n),
             "standby_after_a": rng.uniform(1e-7, 1e-4, n), "standby_during_a": rng.uniform(1e-6, 1e-2, n),
             "rails": rng.integers(1, 3, n).astype(float), "parts": rng.integers(4, 30, n).astype(float),
             "cost_eur": rng.uniform(0.3, 5.0, n), "effort": rng.uniform(0.05, 1.0, n),
@@ -163,7 +164,7 @@ def test_scaling_every_weight_alike_changes_nothing():
 def test_criterion_weights_split_standby_and_accuracy_three_quarters_to_one_quarter():
     # The split documented in ranking.py: accuracy 3/4 spread + 1/4 yield, standby 3/4 after + 1/4 during.
     cw = criterion_weights({"accuracy": 4, "standby": 4, "rails": 0, "parts": 0, "cost": 0, "effort": 0})
-    assert cw == pytest.approx({"spread_frac": 0.375, "yield_frac": 0.125, "standby_after_a": 0.375,
+    assert cw == pytest.approx({"delay_spread_frac": 0.375, "yield_frac": 0.125, "standby_after_a": 0.375,
                                 "standby_during_a": 0.125, "rails": 0, "parts": 0, "cost_eur": 0, "effort": 0})
     assert sum(criterion_weights({"accuracy": 3, "standby": 1, "rails": 2, "parts": 5, "cost": 1,
                                   "effort": 9}).values()) == pytest.approx(1.0)
@@ -387,11 +388,25 @@ def test_criteria_table_reads_the_evaluation_fields():
     ev = evaluation(nominal_s=100.0, min_s=90.0, max_s=120.0, band=(80.0, 130.0), yield_frac=0.97,
                     after_a=1e-6, during_a=3e-3, rails=2, parts=11, cost=1.25, effort=0.4)
     row = criteria_table([ev, evaluation()]).iloc[0]
-    assert row["spread_frac"] == pytest.approx(0.3)
+    assert row["delay_spread_frac"] == pytest.approx(0.3)
     assert (row["yield_frac"], row["standby_after_a"], row["standby_during_a"]) == (0.97, 1e-6, 3e-3)
     assert (row["rails"], row["parts"], row["cost_eur"], row["effort"]) == (2, 11, 1.25, 0.4)
     assert list(criteria_table([ev, evaluation(), evaluation("mcu"), evaluation()]).index) == [
         "rc_hold", "rc_hold #2", "mcu", "rc_hold #3"]
+
+
+def test_headline_figures_are_one_row_the_criteria_are_drawn_from():
+    ev = evaluation(nominal_s=100.0, min_s=90.0, max_s=120.0, band=(80.0, 130.0), yield_frac=0.97,
+                    after_a=1e-6, during_a=3e-3, rails=2, parts=11, cost=1.25, effort=0.4)
+    row = headline(ev)
+    assert tuple(row) == HEADLINE
+    assert {c.column for c in CRITERIA} <= set(HEADLINE)  # every criterion is a headline figure
+    assert (row["delay_nominal_s"], row["delay_worst_min_s"], row["delay_worst_max_s"]) == (100.0, 90.0, 120.0)
+    assert row["delay_spread_frac"] == pytest.approx(0.3) and row["standby_after_w"] == pytest.approx(ev.after_w)
+    assert (row["parts"], row["bom_lines"], row["cost_eur"]) == (11, ev.lines, 1.25)
+    # The shares of each brief weight sum to 1, so criterion weights sum to 1 (module docstring).
+    for weight in WEIGHT_NAMES:
+        assert sum(c.share for c in CRITERIA if c.weight == weight) == pytest.approx(1.0)
 
 
 def test_to_dict_is_json_ready_and_complete():
@@ -425,8 +440,8 @@ def test_bad_designs_raise_a_clear_error():
         rank(table, EVEN, method="ahp")
     with pytest.raises(RankingError, match="lacks column.s. cost_eur"):
         rank(table.drop(columns="cost_eur"), EVEN)
-    with pytest.raises(RankingError, match="design 'd01': spread_frac is inf"):
-        rank(table.assign(spread_frac=[0.1, math.inf, 0.2]), EVEN)
+    with pytest.raises(RankingError, match="design 'd01': delay_spread_frac is inf"):
+        rank(table.assign(delay_spread_frac=[0.1, math.inf, 0.2]), EVEN)
     with pytest.raises(RankingError, match="design 'd00': yield_frac is 1.5; accepted: a fraction from 0 to 1"):
         rank(table.assign(yield_frac=[1.5, 1.0, 1.0]), EVEN)
     with pytest.raises(RankingError, match="no design to rank"):

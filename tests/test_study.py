@@ -16,6 +16,8 @@ from tradeoff.brief import load_brief
 from tradeoff.cli import cli
 from tradeoff.study import study
 
+from conftest import dotted_keys
+
 HOLD_TOPOLOGIES = ("rc-darlington", "rc-mosfet")
 IC_TOPOLOGIES = ("timer555", "rc-counter", "crystal-counter", "mcu")
 
@@ -121,8 +123,11 @@ def test_json_has_the_documented_fields_and_no_nan(tmp_path):
 
     data = json.loads(res.stdout, parse_constant=reject)
     assert data["designs"], data["infeasible"]
+    assert dotted_keys(data) == []
+    percentiles = data["designs"][0]["delay"]["percentiles"]
+    assert set(percentiles) == {"p0_5_s", "p50_s", "p99_5_s"}  # the brief's 99 % coverage, dots spelled "_"
     for d in data["designs"]:
-        for key in ("topology", "values", "delay", "standby", "rails", "parts", "cost", "warnings", "rank",
+        for key in ("topology", "values", "delay", "standby", "rails", "parts", "cost_eur", "warnings", "rank",
                     "score", "pareto", "feasible", "reasons", "bom"):
             assert key in d, key
         assert d["delay"]["worst_min_s"] <= d["delay"]["nominal_s"] <= d["delay"]["worst_max_s"]

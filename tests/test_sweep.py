@@ -19,7 +19,7 @@ from tradeoff.errors import InputError
 from tradeoff.report.sweep_report import plot_decision_map, write_workbook
 from tradeoff.sweep import _axes_and_briefs, sweep
 
-from conftest import EXAMPLES, ROOT
+from conftest import EXAMPLES, ROOT, dotted_keys
 
 FAST = ["mcu", "rc-counter", "crystal-counter"]  # the quickest topologies to optimise (measured here)
 GRID = ["delay.nominal=10min,1h", "weights.effort=0,3"]
@@ -50,12 +50,13 @@ def _run(*args):
 
 def test_grid_order_and_the_winner_changes(local):
     frame = local.to_frame()
-    assert list(frame["delay.nominal_s"]) == [600.0, 600.0, 3600.0, 3600.0]
-    assert list(frame["weights.effort"]) == [0.0, 3.0, 0.0, 3.0]
+    assert list(frame["delay_nominal_s"]) == [600.0, 600.0, 3600.0, 3600.0]
+    assert list(frame["weights_effort"]) == [0.0, 3.0, 0.0, 3.0]
     assert frame["winner"].nunique() > 1  # the grid is chosen so the answer changes with the effort weight
     assert (frame["winner_score"] >= frame["runner_up_score"]).all()
-    assert (frame["winner_delay_worst_min_s"] >= 0.9 * frame["delay.nominal_s"] - 1e-9).all()
-    json.dumps(local.to_dict(), allow_nan=False)
+    assert (frame["winner_delay_worst_min_s"] >= 0.9 * frame["delay_nominal_s"] - 1e-9).all()
+    data = json.loads(json.dumps(local.to_dict(), allow_nan=False))
+    assert dotted_keys(data) == [] and set(data["points"][0]["values"]) == {"delay_nominal_s", "weights_effort"}
 
 
 def test_jobs_2_gives_the_same_table_as_jobs_1(brief_file, tmp_path):
@@ -94,7 +95,7 @@ def test_decision_map_cells_match_the_table(local, tmp_path):
     # rows follow the second field (weights.effort), columns the first (delay.nominal), both ascending here
     for r, effort in enumerate((0.0, 3.0)):
         for c, nominal in enumerate((600.0, 3600.0)):
-            row = frame[(frame["delay.nominal_s"] == nominal) & (frame["weights.effort"] == effort)].iloc[0]
+            row = frame[(frame["delay_nominal_s"] == nominal) & (frame["weights_effort"] == effort)].iloc[0]
             assert drawn.winners[r, c] == row["winner"]
     assert drawn.x_text == ["10 min", "1 h"]
     pixels = matplotlib.image.imread(drawn.path)[..., :3]
@@ -207,7 +208,7 @@ def test_example_script_runs():
     out = subprocess.run([sys.executable, str(ROOT / "examples" / "what_if.py")], capture_output=True, text=True,
                          cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)}, timeout=300)
     assert out.returncode == 0, out.stderr
-    assert "winner" in out.stdout and "delay.nominal_s" in out.stdout
+    assert "winner" in out.stdout and "delay_nominal_s" in out.stdout
 
 
 def test_bad_value_at_a_grid_point_stops_before_running():

@@ -61,6 +61,7 @@ from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 import numpy as np
 import pulp
 
+from tradeoff.criteria import WEIGHT_NAMES, share
 from tradeoff.errors import InfeasibleError, SolverError
 from tradeoff.selection import SelectionModel
 from tradeoff.topologies.base import Design
@@ -71,17 +72,11 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Evaluation, Topology
 
 __all__ = [
-    "TERMS", "SOLVERS", "Scales", "SelectionProblem", "SelectionResult", "optimise", "exhaustive",
+    "SOLVERS", "Scales", "SelectionProblem", "SelectionResult", "optimise", "exhaustive",
 ]
-
-TERMS = ("accuracy", "parts", "cost", "standby", "effort", "rails")
-"""Objective terms, named as the brief's weights."""
 
 SOLVERS = ("highs", "cbc")
 """Solver names accepted: HiGHS in-process (default) or CBC as a subprocess."""
-
-STANDBY_SHARES = {"after_a": 0.75, "during_a": 0.25}
-"""Split of the standby term between the current after the timeout and while timing (as the ranking)."""
 
 _TOLERANCE = 1e-9
 """Relative slack allowed on a requirement and on objective comparisons."""
@@ -96,13 +91,14 @@ _CHUNK = 1 << 18
 """Combinations evaluated per vectorised step of exhaustive search."""
 
 _LINEAR_TERMS = {
-    # term: ((column, model attribute holding the fixed amount, share of the term), ...)
-    "parts": (("placements", "fixed_placements", 1.0),),
-    "cost": (("cost", "fixed_cost", 1.0),),
-    "standby": (("after_a", "fixed_after_a", STANDBY_SHARES["after_a"]),
-                ("during_a", "fixed_during_a", STANDBY_SHARES["during_a"])),
-    "effort": (("effort", "effort", 1.0),),
-    "rails": (("rails", "rails", 1.0),),
+    # term: ((table column, model attribute holding the fixed amount, share of the term), ...); the
+    # shares are the ranking's (criteria.CRITERIA), so optimiser and ranking split a weight alike
+    "parts": (("placements", "fixed_placements", share("parts")),),
+    "cost": (("cost", "fixed_cost", share("cost_eur")),),
+    "standby": (("after_a", "fixed_after_a", share("standby_after_a")),
+                ("during_a", "fixed_during_a", share("standby_during_a"))),
+    "effort": (("effort", "effort", share("effort")),),
+    "rails": (("rails", "rails", share("rails")),),
 }
 
 
@@ -235,7 +231,7 @@ class _Tables:
         self.sizes = [len(b.table) for b in model.blocks]
         self._check_finite()
         self.scales = scales or Scales.of(model, self.band)
-        w = {t: float(getattr(weights, t)) for t in TERMS}
+        w = {t: float(getattr(weights, t)) for t in WEIGHT_NAMES}
         if any(v < 0 or not math.isfinite(v) for v in w.values()):
             raise ValueError(f"weights must be finite and >= 0, got {w}")
         self.weights = w
@@ -685,7 +681,7 @@ class SelectionProblem:
 
     band: (min, max) delay [s]; limits: object with standby_after_a [A], parts, cost [EUR],
     rails (None where not limited), e.g. `brief.limits`; weights: object with the attributes in
-    TERMS (>= 0), e.g. `brief.weights`; scales: objective normalisation (default `Scales.of`);
+    criteria.WEIGHT_NAMES (>= 0), e.g. `brief.weights`; scales: objective normalisation (default `Scales.of`);
     solver: 'highs' or 'cbc'.
     """
 

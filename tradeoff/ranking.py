@@ -1,18 +1,10 @@
 """Ranking of feasible designs across topologies: weighted sum or TOPSIS, Pareto flags,
 weight sensitivity and a one-line reason per design.
 
-Criteria, one column each in the criteria table (one row per design):
-
-| column | from the Evaluation | better | brief weight (share) |
-| --- | --- | --- | --- |
-| `spread_frac` | worst-case (max - min) / nominal delay | lower | accuracy (3/4) |
-| `yield_frac` | Monte Carlo fraction inside the band | higher | accuracy (1/4) |
-| `standby_after_a` [A] | supply current after the timeout | lower | standby (3/4) |
-| `standby_during_a` [A] | supply current while timing | lower | standby (1/4) |
-| `rails` | supply rails needed | lower | rails (1) |
-| `parts` | placements on the board | lower | parts (1) |
-| `cost_eur` [EUR] | indicative BOM cost | lower | cost (1) |
-| `effort` | engineering effort 0..1 | lower | effort (1) |
+Criteria (`tradeoff.criteria.CRITERIA`, one column each in the criteria table, one row per
+design): the worst-case delay spread and the Monte Carlo yield share the accuracy weight (3/4,
+1/4); standby after and during the timeout share the standby weight (3/4, 1/4); rails, parts,
+cost and effort take their own weights whole. Every column is a headline figure of the design.
 
 Yield is a criterion of its own sharing the accuracy weight: the worst-case spread says how
 tight the delay is by guarantee, the yield how often a built unit lands in the band (for
@@ -60,11 +52,12 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, Callable, Literal, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Literal, Mapping, Sequence
 
 import numpy as np
 import pandas as pd
 
+from tradeoff.criteria import CRITERIA, WEIGHT_NAMES, headline
 from tradeoff.errors import RankingError
 from tradeoff.units import format_quantity
 
@@ -72,13 +65,10 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
     from tradeoff.topologies.base import Evaluation
 
 __all__ = [
-    "Criterion", "CRITERIA", "WEIGHT_NAMES", "METHODS", "Crossing", "Sensitivity", "Ranking",
+    "METHODS", "Crossing", "Sensitivity", "Ranking",
     "design_names", "criteria_table", "criterion_weights", "normalise", "scores", "order",
     "pareto_flags", "rank",
 ]
-
-WEIGHT_NAMES = ("accuracy", "standby", "rails", "parts", "cost", "effort")
-"""The brief's weights, in the order `brief.weights` lists them."""
 
 METHODS = ("wsm", "topsis")
 """Ranking methods: weighted sum (min-max normalised) and classical TOPSIS (vector normalised)."""
@@ -99,53 +89,6 @@ _REFINEMENTS = 6
 """Refinement rounds: the bracket shrinks 33**6 (about 1.3e9) fold; finer would reach the band of
 about 1e-12 in score where `TIE_DECIMALS` calls two designs equal."""
 
-
-def _percent(value: float) -> str:
-    return format_quantity(value, "%")
-
-
-def _current(value: float) -> str:
-    return format_quantity(value, "A")
-
-
-def _count(noun: str) -> Callable[[float], str]:
-    def show(value: float) -> str:
-        n = int(round(value))
-        return f"{n} {noun}{'' if n == 1 else 's'}"
-    return show
-
-
-@dataclass(frozen=True)
-class Criterion:
-    """One ranking criterion: table column, the brief weight it takes a share of, its sense and wording."""
-
-    column: str
-    weight: str
-    share: float
-    higher_is_better: bool
-    noun: str
-    best: str
-    worst: str
-    show: Callable[[float], str]
-
-
-CRITERIA = (
-    Criterion("spread_frac", "accuracy", 0.75, False, "delay spread", "tightest worst-case delay spread",
-              "widest worst-case delay spread", lambda v: f"{_percent(v)} of nominal"),
-    Criterion("yield_frac", "accuracy", 0.25, True, "yield", "highest Monte Carlo yield",
-              "lowest Monte Carlo yield", _percent),
-    Criterion("standby_after_a", "standby", 0.75, False, "standby after timeout", "lowest standby after timeout",
-              "highest standby after timeout", _current),
-    Criterion("standby_during_a", "standby", 0.25, False, "current while timing", "lowest current while timing",
-              "highest current while timing", _current),
-    Criterion("rails", "rails", 1.0, False, "supply rails", "fewest supply rails", "most supply rails",
-              _count("rail")),
-    Criterion("parts", "parts", 1.0, False, "part count", "fewest parts", "most parts", _count("part")),
-    Criterion("cost_eur", "cost", 1.0, False, "cost", "lowest cost", "highest cost", lambda v: f"{v:.2f} EUR"),
-    Criterion("effort", "effort", 1.0, False, "effort", "least engineering effort", "most engineering effort",
-              lambda v: f"{v:.3g} of 1"),
-)
-"""Every criterion, in table order."""
 
 _COLUMNS = tuple(c.column for c in CRITERIA)
 _BENEFIT = np.array([c.higher_is_better for c in CRITERIA])
@@ -176,11 +119,7 @@ def criteria_table(evaluations: Sequence["Evaluation"], names: Sequence[str] | N
         if not ev.feasible:
             raise RankingError(f"design '{name}' does not meet the brief ({ev.reasons[0]}); "
                                f"only feasible designs are ranked")
-    rows = [{
-        "spread_frac": ev.spread_frac, "yield_frac": ev.mc.yield_frac,
-        "standby_after_a": ev.standby.after_a, "standby_during_a": ev.standby.during_a,
-        "rails": ev.rails, "parts": ev.placements, "cost_eur": ev.cost, "effort": ev.effort,
-    } for ev in evaluations]
+    rows = [{c: figures[c] for c in _COLUMNS} for figures in map(headline, evaluations)]
     return _checked(pd.DataFrame(rows, index=pd.Index(names, name="design"), columns=list(_COLUMNS)))
 
 
@@ -462,9 +401,9 @@ def _binding(ev: "Evaluation") -> str:
     long_margin = 1 - ev.worst.max_s / hi
     if short_margin <= long_margin:
         return (f"binds: shortest delay {format_quantity(ev.worst.min_s, 's')} {_corner(ev.worst.at_min)} "
-                f"against the band minimum {format_quantity(lo, 's')} ({_percent(short_margin)} margin)")
+                f"against the band minimum {format_quantity(lo, 's')} ({format_quantity(short_margin, '%')} margin)")
     return (f"binds: longest delay {format_quantity(ev.worst.max_s, 's')} {_corner(ev.worst.at_max)} "
-            f"against the band maximum {format_quantity(hi, 's')} ({_percent(long_margin)} margin)")
+            f"against the band maximum {format_quantity(hi, 's')} ({format_quantity(long_margin, '%')} margin)")
 
 
 def _reason(i: int, matrix: np.ndarray, weights: np.ndarray, ev: "Evaluation | None") -> str:

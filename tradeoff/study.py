@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any, Sequence
 from tradeoff.brief import Brief, load_brief
 from tradeoff.catalog import Catalog, load_catalog, did_you_mean
 from tradeoff.cautions import cautions
+from tradeoff.criteria import headline
 from tradeoff.errors import InfeasibleError, InputError, Problem
 from tradeoff.optimise import SelectionResult, optimise
 from tradeoff.topologies.registry import build_topology, topology_ids
@@ -129,21 +130,16 @@ class StudyResult:
         }
 
     def to_frame(self) -> "pd.DataFrame":
-        """One row per feasible design in rank order, with the headline figures (units in column names)."""
+        """One row per feasible design in rank order: design, rank, the headline figures (see
+        tradeoff.criteria; units in the column suffixes), values, score and Pareto flag."""
         import pandas as pd
 
         rows = []
         for name, ev, outcome in self.designs():
             row = self.ranking.table.loc[name]
-            rows.append({
-                "design": name, "rank": int(row["rank"]), "topology": ev.topology,
-                "values": describe_values(outcome.model, ev.design),
-                "delay_nominal_s": ev.nominal_s, "delay_worst_min_s": ev.worst.min_s,
-                "delay_worst_max_s": ev.worst.max_s, "yield_frac": ev.mc.yield_frac,
-                "standby_during_a": ev.standby.during_a, "standby_after_a": ev.standby.after_a,
-                "rails": ev.rails, "placements": ev.placements, "bom_lines": ev.lines, "cost_eur": ev.cost,
-                "effort": ev.effort, "score": float(row["score"]), "pareto": bool(row["pareto"]),
-            })
+            rows.append({"design": name, "rank": int(row["rank"]), **headline(ev),
+                         "values": describe_values(outcome.model, ev.design), "score": float(row["score"]),
+                         "pareto": bool(row["pareto"])})
         return pd.DataFrame(rows)
 
 

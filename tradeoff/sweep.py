@@ -40,6 +40,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from tradeoff.brief import Brief, load_brief
+from tradeoff.criteria import headline
 from tradeoff.errors import BriefError, InputError, Problem, UnitParseError
 from tradeoff.units import format_quantity, parse_fraction, parse_quantity
 
@@ -83,8 +84,9 @@ class Axis:
 
     @property
     def column(self) -> str:
-        """Column name with the unit suffix of the library's convention (`delay.nominal_s`)."""
-        return self.key + (_SUFFIXES.get(self.unit, "") if self.numeric else "")
+        """Column and JSON key: the dotted key with underscores and the library's unit suffix
+        (`delay.nominal` -> `delay_nominal_s`), so dotted-path tools read it."""
+        return self.key.replace(".", "_") + (_SUFFIXES.get(self.unit, "") if self.numeric else "")
 
     def text(self, i: int) -> str:
         """Display text of value `i`, with its unit."""
@@ -302,16 +304,11 @@ class _Task:
 
 
 def _summary(name: str, score: float, ev, outcome) -> dict[str, Any]:
-    """Key figures of one ranked design (SI units in key suffixes)."""
+    """One ranked design: name, score, values and its headline figures (see tradeoff.criteria)."""
     from tradeoff.study import describe_values
 
-    return {
-        "design": name, "topology": ev.topology, "score": float(score),
-        "values": describe_values(outcome.model, ev.design),
-        "delay_nominal_s": float(ev.nominal_s), "delay_worst_min_s": float(ev.worst.min_s),
-        "delay_worst_max_s": float(ev.worst.max_s), "yield_frac": float(ev.mc.yield_frac),
-        "standby_after_a": float(ev.standby.after_a), "parts": int(ev.placements), "cost_eur": float(ev.cost),
-    }
+    return {"design": name, "score": float(score), "values": describe_values(outcome.model, ev.design),
+            **headline(ev)}
 
 
 def run_point(task: _Task) -> dict[str, Any]:
@@ -438,10 +435,11 @@ class SweepResult:
         return pd.DataFrame(rows)
 
     def to_dict(self) -> dict[str, Any]:
-        """The whole sweep, JSON-ready (SI units in key suffixes; no NaN or infinity)."""
+        """The whole sweep, JSON-ready (SI units in key suffixes, no dots in keys: a point's values
+        are keyed by axis column; no NaN or infinity)."""
         axes = [{"key": a.key, "unit": a.unit, "column": a.column, "log": a.log, "values": list(a.values),
                  "text": [a.text(i) for i in range(len(a.values))]} for a in self.axes]
-        points = [{**p, "values": {a.key: a.values[i] for a, i in zip(self.axes, p["index"])}} for p in self.points]
+        points = [{**p, "values": {a.column: a.values[i] for a, i in zip(self.axes, p["index"])}} for p in self.points]
         return {"title": self.title, "axes": axes, "points": points, "method": self.method,
                 "samples": self.samples, "seed": self.seed, "topologies": list(self.topologies),
                 "notes": list(self.notes), "seconds": self.seconds}

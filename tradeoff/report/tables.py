@@ -27,6 +27,7 @@ from typing import TYPE_CHECKING, Callable
 import pandas as pd
 
 from tradeoff.cautions import HAZARDOUS_VOLTAGE_V
+from tradeoff.criteria import headline
 from tradeoff.study import describe_values
 from tradeoff.units import format_quantity as fq
 
@@ -95,21 +96,22 @@ def design_stem(name: str) -> str:
 
 
 def ranking_table(result: "StudyResult") -> pd.DataFrame:
-    """The feasible designs, best first, with their headline figures and the ranking's reason."""
+    """The feasible designs, best first, with their headline figures (tradeoff.criteria) and the ranking's reason."""
     rows = []
     for name, ev, outcome in result.designs():
         row = result.ranking.table.loc[name]
+        h = headline(ev)
         rows.append({
-            "rank": int(row["rank"]), "design": name, "topology": ev.topology,
+            "rank": int(row["rank"]), "design": name, "topology": h["topology"],
             "values": describe_values(outcome.model, ev.design),
-            "delay nominal [s]": _finite(ev.nominal_s), "delay worst min [s]": _finite(ev.worst.min_s),
-            "delay worst max [s]": _finite(ev.worst.max_s),
-            "delay spread [% of nominal]": _finite(_percent(ev.spread_frac)),
-            "yield [%]": _percent(ev.mc.yield_frac), "standby during [A]": ev.standby.during_a,
-            "standby after [A]": ev.standby.after_a, "standby after [W]": ev.after_w, "rails [count]": ev.rails,
-            "parts [count]": ev.placements, "BOM lines [count]": ev.lines, "cost [EUR]": ev.cost,
-            "effort [0 to 1]": ev.effort, "score [0 to 1]": float(row["score"]), "Pareto front": bool(row["pareto"]),
-            "reason": result.ranking.reasons[name],
+            "delay nominal [s]": _finite(h["delay_nominal_s"]), "delay worst min [s]": _finite(h["delay_worst_min_s"]),
+            "delay worst max [s]": _finite(h["delay_worst_max_s"]),
+            "delay spread [% of nominal]": _finite(_percent(h["delay_spread_frac"])),
+            "yield [%]": _percent(h["yield_frac"]), "standby during [A]": h["standby_during_a"],
+            "standby after [A]": h["standby_after_a"], "standby after [W]": h["standby_after_w"],
+            "rails [count]": h["rails"], "parts [count]": h["parts"], "BOM lines [count]": h["bom_lines"],
+            "cost [EUR]": h["cost_eur"], "effort [0 to 1]": h["effort"], "score [0 to 1]": float(row["score"]),
+            "Pareto front": bool(row["pareto"]), "reason": result.ranking.reasons[name],
             "note": _never_note(ev.nominal_s, ev.worst.min_s, ev.worst.max_s),
         })
     return _frame(rows, RANKING_COLUMNS)

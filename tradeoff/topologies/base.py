@@ -175,8 +175,9 @@ class Evaluation:
         return self.standby.after_a * self.supply_v
 
     def to_dict(self) -> dict[str, Any]:
-        """JSON-ready result (SI units in key suffixes; never NaN or infinity: null with a reason)."""
-        pct = {f"p{100 * q:g}_s": _finite_or_none(v) for q, v in sorted(self.mc.percentiles.items())}
+        """JSON-ready result (SI units in key suffixes, no dots in keys: percentile 0.5 % is `p0_5_s`;
+        never NaN or infinity: null with a reason)."""
+        pct = {f"p{100 * q:g}_s".replace(".", "_"): _finite_or_none(v) for q, v in sorted(self.mc.percentiles.items())}
         adapter = self.adapter_no_load_w
         return {
             "topology": self.topology,
@@ -194,8 +195,8 @@ class Evaluation:
                 "coverage": self.coverage,
                 "mean_s": _finite_or_none(self.mc.mean_s),
                 "std_s": _finite_or_none(self.mc.std_s),
-                "yield": self.mc.yield_frac,
-                "yield_ci95": list(self.mc.yield_ci),
+                "yield_frac": self.mc.yield_frac,
+                "yield_ci95_frac": list(self.mc.yield_ci),
                 "never_ends_frac": self.mc.never_ends_frac,
                 "samples": self.mc.samples,
                 "seed": self.mc.seed,
@@ -204,11 +205,11 @@ class Evaluation:
                 "during_a": self.standby.during_a,
                 "after_a": self.standby.after_a,
                 "after_w": self.after_w,
-                "after_w_with_adapter": None if adapter is None else self.after_w + adapter,
+                "after_with_adapter_w": None if adapter is None else self.after_w + adapter,
             },
             "rails": self.rails,
             "parts": {"placements": self.placements, "lines": self.lines},
-            "cost": self.cost,
+            "cost_eur": self.cost,
             "effort": self.effort,
             "warnings": [f.message for f in self.findings if f.severity != "info"],
             "findings": [{"severity": f.severity, "code": f.code, "message": f.message} for f in self.findings],
@@ -221,13 +222,10 @@ class Evaluation:
         never ends is NaN here, null in to_dict())."""
         import pandas as pd
 
-        return pd.DataFrame([{
-            "topology": self.topology, "delay_nominal_s": self.nominal_s, "delay_worst_min_s": self.worst.min_s,
-            "delay_worst_max_s": self.worst.max_s, "yield_frac": self.mc.yield_frac,
-            "standby_during_a": self.standby.during_a, "standby_after_a": self.standby.after_a,
-            "rails": self.rails, "placements": self.placements, "bom_lines": self.lines, "cost_eur": self.cost,
-            "effort": self.effort, "feasible": self.feasible, "reasons": "; ".join(self.reasons),
-        }]).replace([math.inf, -math.inf], math.nan)
+        from tradeoff.criteria import headline
+
+        return pd.DataFrame([{**headline(self), "feasible": self.feasible, "reasons": "; ".join(self.reasons)}]
+                            ).replace([math.inf, -math.inf], math.nan)
 
 
 class Topology(ABC):
