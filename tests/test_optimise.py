@@ -26,7 +26,7 @@ from hypothesis import strategies as st
 from tradeoff import optimise as opt
 from tradeoff.criteria import WEIGHT_NAMES
 from tradeoff.errors import InfeasibleError, SolverError
-from tradeoff.optimise import SelectionProblem, exhaustive, optimise
+from tradeoff.optimise import SelectionProblem, exhaustive
 from tradeoff.selection import Block, Link, SelectionModel
 
 NO_LIMITS = NS(standby_after_a=None, parts=None, cost=None, rails=None)
@@ -434,59 +434,9 @@ def test_design_takes_roles_options_and_series_pairs():
     assert pair.totals["delay_lo_s"] == 150.0 and pair.totals["placements"] == 3
 
 
-# ---- the verification loop -----------------------------------------------------------------
-
-
-class FakeTopology:
-    """Stands in for a topology: its full model rejects the designs whose hold value is in `rejected`."""
-
-    id = "fake"
-
-    def __init__(self, model, rejected=()):
-        self.model, self.rejected, self.evaluated = model, set(rejected), []
-
-    def selection(self):
-        return self.model
-
-    def evaluate(self, design):
-        self.evaluated.append(design.values["r"])
-        bad = design.values["r"] in self.rejected
-        return NS(feasible=not bad, reasons=["worst-case longest delay 1 h exceeds the band's maximum 50 min"] * bad)
-
-
-def brief_for(band, limits=NO_LIMITS):
-    return NS(delay=NS(min_s=band[0], max_s=band[1]), limits=limits, weights=EQUAL_WEIGHTS)
-
-
-def test_verification_failures_are_cut_and_counted():
-    model = SelectionModel("fake", "sum", [rc_block("hold", [18, 19, 20, 21, 22], spread=0.01)])
-    topology = FakeTopology(model, rejected={20.0})
-    results = optimise(topology, brief_for((15, 26)), k=2)
-    # Centre of the band sqrt(15·26) = 19.7 s: 20 s is best but fails verification, then 19 s, then 21 s.
-    assert [r.design.values["r"] for r in results] == [19.0, 21.0]
-    assert [r.rounds for r in results] == [2, 1]
-    assert topology.evaluated == [20.0, 19.0, 21.0]
-
-
-def test_every_design_failing_verification_is_an_infeasibility():
-    model = SelectionModel("fake", "sum", [rc_block("hold", [18, 20], spread=0.01)])
-    with pytest.raises(InfeasibleError) as caught:
-        optimise(FakeTopology(model, rejected={18.0, 20.0}), brief_for((15, 26)), k=1)
-    assert caught.value.reasons == {"fake": [
-        "the 2 best designs of the candidate tables all failed full verification (worst-case corners and Monte "
-        "Carlo); the best of them: worst-case longest delay 1 h exceeds the band's maximum 50 min"]}
-
-
-def test_an_infeasible_program_raises_with_reasons_per_topology():
-    model = SelectionModel("fake", "sum", [rc_block("hold", [10])])
-    with pytest.raises(InfeasibleError) as caught:
-        optimise(FakeTopology(model), brief_for((60, 70)))
-    assert list(caught.value.reasons) == ["fake"] and "too early" in caught.value.reasons["fake"][0]
-
-
 def test_alternatives_stop_when_the_tables_run_out():
     model = SelectionModel("fake", "sum", [rc_block("hold", [18, 20, 40], spread=0.01)])
-    results = optimise(FakeTopology(model), brief_for((15, 26)), k=5, verify=False)
+    results = SelectionProblem(model, (15, 26), NO_LIMITS, EQUAL_WEIGHTS).best(5)
     assert [r.design.values["r"] for r in results] == [20.0, 18.0]
 
 

@@ -8,15 +8,19 @@ temperature with electrolytic tolerances; ±0.1 % over a day needs a quartz crys
 from __future__ import annotations
 
 import json
+from types import SimpleNamespace as NS
 
 import pytest
 from click.testing import CliRunner
 
 from tradeoff.brief import load_brief
 from tradeoff.cli import cli
-from tradeoff.study import study
+from tradeoff.errors import InfeasibleError
+from tradeoff.selection import SelectionModel
+from tradeoff.study import study, verified_designs
 
 from conftest import dotted_keys
+from test_optimise import EQUAL_WEIGHTS, NO_LIMITS, rc_block
 
 HOLD_TOPOLOGIES = ("rc-darlington", "rc-mosfet")
 IC_TOPOLOGIES = ("timer555", "rc-counter", "crystal-counter", "mcu")
@@ -152,3 +156,53 @@ def test_seed_makes_the_study_reproducible():
         for t in d["solver"]["topologies"]:
             t.pop("seconds"), t.pop("solve_s")
     assert a == b
+
+
+# ---- the verification loop (the optimiser proposes, the full model proves) ------------------------
+
+
+class FakeTopology:
+    """Stands in for a topology: its full model rejects the designs whose hold value is in `rejected`."""
+
+    id = "fake"
+
+    def __init__(self, model, rejected=()):
+        self.model, self.rejected, self.evaluated = model, set(rejected), []
+
+    def selection(self):
+        return self.model
+
+    def evaluate(self, design):
+        self.evaluated.append(design.values["r"])
+        bad = design.values["r"] in self.rejected
+        return NS(feasible=not bad, reasons=["worst-case longest delay 1 h exceeds the band's maximum 50 min"] * bad)
+
+
+def brief_for(band, limits=NO_LIMITS):
+    return NS(delay=NS(min_s=band[0], max_s=band[1]), limits=limits, weights=EQUAL_WEIGHTS)
+
+
+def test_verification_failures_are_cut_and_counted():
+    model = SelectionModel("fake", "sum", [rc_block("hold", [18, 19, 20, 21, 22], spread=0.01)])
+    topology = FakeTopology(model, rejected={20.0})
+    results = verified_designs(topology, brief_for((15, 26)), k=2)
+    # Centre of the band sqrt(15·26) = 19.7 s: 20 s is best but fails verification, then 19 s, then 21 s.
+    assert [d.selection.design.values["r"] for d in results] == [19.0, 21.0]
+    assert [d.rounds for d in results] == [2, 1]
+    assert topology.evaluated == [20.0, 19.0, 21.0]
+
+
+def test_every_design_failing_verification_is_an_infeasibility():
+    model = SelectionModel("fake", "sum", [rc_block("hold", [18, 20], spread=0.01)])
+    with pytest.raises(InfeasibleError) as caught:
+        verified_designs(FakeTopology(model, rejected={18.0, 20.0}), brief_for((15, 26)), k=1)
+    assert caught.value.reasons == {"fake": [
+        "the 2 best designs of the candidate tables all failed full verification (worst-case corners and Monte "
+        "Carlo); the best of them: worst-case longest delay 1 h exceeds the band's maximum 50 min"]}
+
+
+def test_an_infeasible_program_raises_with_reasons_per_topology():
+    model = SelectionModel("fake", "sum", [rc_block("hold", [10])])
+    with pytest.raises(InfeasibleError) as caught:
+        verified_designs(FakeTopology(model), brief_for((60, 70)))
+    assert list(caught.value.reasons) == ["fake"] and "too early" in caught.value.reasons["fake"][0]

@@ -56,24 +56,18 @@ import sys
 import time
 import warnings
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Callable, Mapping, Sequence
+from typing import Callable, Mapping, Sequence
 
 import numpy as np
 import pulp
 
 from tradeoff.criteria import WEIGHT_NAMES, share
-from tradeoff.errors import InfeasibleError, SolverError
+from tradeoff.errors import SolverError
 from tradeoff.selection import SelectionModel
 from tradeoff.topologies.base import Design
 from tradeoff.units import format_quantity
 
-if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.brief import Brief
-    from tradeoff.topologies.base import Evaluation, Topology
-
-__all__ = [
-    "SOLVERS", "Scales", "SelectionProblem", "SelectionResult", "optimise", "exhaustive",
-]
+__all__ = ["SOLVERS", "Scales", "SelectionProblem", "SelectionResult", "exhaustive"]
 
 SOLVERS = ("highs", "cbc")
 """Solver names accepted: HiGHS in-process (default) or CBC as a subprocess."""
@@ -643,9 +637,8 @@ class SelectionResult:
     infeasible); rows: block name -> chosen row of its table; design: the Design those rows
     describe; terms: normalised objective terms before weights; totals: corner delays [s] and
     summed attributes (cost [EUR], placements, lines, during_a/after_a [A], effort, rails);
-    solve_s: solver wall time [s]; rounds: solves it took (verification failures count);
-    problem: the SelectionProblem (None for exhaustive search); reasons: why infeasible, in the
-    designer's terms; evaluation: the full verification when `optimise` ran it.
+    solve_s: solver wall time [s]; problem: the SelectionProblem (None for exhaustive search);
+    reasons: why infeasible, in the designer's terms.
     """
 
     status: str
@@ -655,10 +648,8 @@ class SelectionResult:
     terms: dict[str, float] = field(default_factory=dict)
     totals: dict[str, float] = field(default_factory=dict)
     solve_s: float = 0.0
-    rounds: int = 1
     problem: "SelectionProblem | None" = None
     reasons: list[str] = field(default_factory=list)
-    evaluation: "Evaluation | None" = None
 
     @property
     def feasible(self) -> bool:
@@ -947,54 +938,3 @@ def exhaustive(model: SelectionModel, band: tuple[float, float], limits, weights
     elapsed = time.perf_counter() - start
     combos = np.stack(np.unravel_index(best_flat, tables.sizes), axis=-1) if best_flat.size else []
     return [_result(tables, [int(r) for r in rows], elapsed, None) for rows in combos]
-
-
-# ---- the study's entry point -----------------------------------------------------------------
-
-
-def optimise(topology: "Topology", brief: "Brief", k: int = 1, verify: bool = True, solver: str = "highs",
-             max_rounds: int = 20) -> list[SelectionResult]:
-    """The k best distinct designs of `topology` for `brief`, best first, each proven by the full model.
-
-    Each solve's design is verified by `topology.evaluate` (corners and Monte Carlo) when
-    `verify`; a design failing the brief is excluded by a no-good cut and the program
-    re-solved, at most `max_rounds` solves per design (`rounds` on each result counts them).
-    Returns fewer than k when the tables run out. Raises InfeasibleError (reasons keyed by the
-    topology id) when no design is found.
-    """
-    if k < 1 or max_rounds < 1:
-        raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
-    problem = SelectionProblem(topology.selection(), (brief.delay.min_s, brief.delay.max_s), brief.limits,
-                               brief.weights, solver=solver)
-    found: list[SelectionResult] = []
-    failed: list[SelectionResult] = []
-    seen: set[tuple] = set()
-    rounds = 0
-    while len(found) < k and rounds < max_rounds:
-        result = problem.solve()
-        rounds += 1
-        if not result.feasible:
-            if not found and not failed:
-                raise InfeasibleError(f"{topology.id}: no design meets the brief", {topology.id: result.reasons})
-            break
-        problem.exclude(result.rows)
-        if result.design.key() in seen:
-            continue
-        seen.add(result.design.key())
-        if verify:
-            result.evaluation = topology.evaluate(result.design)
-            if not result.evaluation.feasible:
-                failed.append(result)
-                continue
-        result.rounds, rounds = rounds, 0
-        found.append(result)
-    if not found:
-        raise InfeasibleError(f"{topology.id}: no design passes verification", {topology.id: _failures(failed)})
-    return found
-
-
-def _failures(failed: Sequence[SelectionResult]) -> list[str]:
-    """Why verification rejected every design the program proposed."""
-    first = failed[0].evaluation
-    return [f"the {len(failed)} best designs of the candidate tables all failed full verification "
-            f"(worst-case corners and Monte Carlo); the best of them: {'; '.join(first.reasons)}"]

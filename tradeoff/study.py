@@ -2,6 +2,10 @@
 values, each proven by the full model (worst-case corners and Monte Carlo), then a ranking of
 the feasible ones against the brief's weights.
 
+Verification: the selection program proposes its best design; the topology's full model
+evaluates it; a design that fails the brief is excluded by a no-good cut and the program solved
+again, at most `MAX_ROUNDS` solves per design kept (`VerifiedDesign.rounds` counts them).
+
 A topology that cannot meet the brief does not stop the study: its outcome carries the
 reasons, in the designer's terms, and the other topologies go on.
 """
@@ -17,7 +21,7 @@ from tradeoff.catalog import Catalog, load_catalog, did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
 from tradeoff.errors import InfeasibleError, InputError, Problem
-from tradeoff.optimise import SelectionResult, optimise
+from tradeoff.optimise import SelectionProblem, SelectionResult
 from tradeoff.topologies.registry import build_topology, topology_ids
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -26,7 +30,21 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.ranking import Ranking
     from tradeoff.topologies.base import Evaluation, Topology
 
-__all__ = ["TopologyOutcome", "StudyResult", "study", "resolve_topologies", "describe_values"]
+__all__ = ["VerifiedDesign", "TopologyOutcome", "StudyResult", "study", "verified_designs", "resolve_topologies",
+           "describe_values", "MAX_ROUNDS"]
+
+MAX_ROUNDS = 20
+"""Solves tried per kept design before a topology's verification gives up."""
+
+
+@dataclass
+class VerifiedDesign:
+    """A design the selection program proposed and the full model proved: the program's result,
+    the evaluation, and the solves it took (each failed verification adds one)."""
+
+    selection: SelectionResult
+    evaluation: "Evaluation"
+    rounds: int
 
 
 @dataclass
@@ -35,7 +53,7 @@ class TopologyOutcome:
 
     topology: str
     description: str
-    results: list[SelectionResult] = field(default_factory=list)
+    designs: list[VerifiedDesign] = field(default_factory=list)
     reasons: list[str] = field(default_factory=list)
     seconds: float = 0.0
     model: "Topology | None" = field(default=None, repr=False)
@@ -43,22 +61,22 @@ class TopologyOutcome:
     @property
     def feasible(self) -> bool:
         """True when at least one design meets the brief."""
-        return bool(self.results)
+        return bool(self.designs)
 
     @property
     def evaluations(self) -> list["Evaluation"]:
         """Full-model evaluations of the verified designs, best first."""
-        return [r.evaluation for r in self.results]
+        return [d.evaluation for d in self.designs]
 
     def statistics(self) -> dict[str, Any]:
         """Solver statistics for reports: rounds, solve time, candidate table sizes."""
-        problem = self.results[0].problem if self.results else None
+        problem = self.designs[0].selection.problem if self.designs else None
         sizes = {} if problem is None else {b.name: len(b.table) for b in problem.model.blocks}
         return {
             "topology": self.topology,
-            "designs": len(self.results),
-            "rounds": [r.rounds for r in self.results],
-            "solve_s": [r.solve_s for r in self.results],
+            "designs": len(self.designs),
+            "rounds": [d.rounds for d in self.designs],
+            "solve_s": [d.selection.solve_s for d in self.designs],
             "candidates": sizes,
             "seconds": self.seconds,
         }
@@ -179,12 +197,53 @@ def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | Non
     return chosen
 
 
+def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str = "highs",
+                     max_rounds: int = MAX_ROUNDS) -> list[VerifiedDesign]:
+    """The k best distinct designs of `topology` for `brief`, best first, each proven by the full
+    model (see the module docstring); fewer than k when the candidate tables run out.
+
+    Raises InfeasibleError (reasons keyed by the topology id) when no design is found: the
+    program's own explanation when it has no solution, or the best rejected design's shortfalls.
+    """
+    if k < 1 or max_rounds < 1:
+        raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
+    problem = SelectionProblem(topology.selection(), (brief.delay.min_s, brief.delay.max_s), brief.limits,
+                               brief.weights, solver=solver)
+    found: list[VerifiedDesign] = []
+    failed: list["Evaluation"] = []
+    seen: set[tuple] = set()
+    rounds = 0
+    while len(found) < k and rounds < max_rounds:
+        result = problem.solve()
+        rounds += 1
+        if not result.feasible:
+            if not found and not failed:
+                raise InfeasibleError(f"{topology.id}: no design meets the brief", {topology.id: result.reasons})
+            break
+        problem.exclude(result.rows)
+        if result.design.key() in seen:
+            continue
+        seen.add(result.design.key())
+        evaluation = topology.evaluate(result.design)
+        if not evaluation.feasible:
+            failed.append(evaluation)
+            continue
+        found.append(VerifiedDesign(result, evaluation, rounds))
+        rounds = 0
+    if not found:
+        why = (f"the {len(failed)} best designs of the candidate tables all failed full verification (worst-case "
+               f"corners and Monte Carlo); the best of them: {'; '.join(failed[0].reasons)}" if failed else
+               f"{max_rounds} solves proposed no design not already seen")
+        raise InfeasibleError(f"{topology.id}: no design passes verification", {topology.id: [why]})
+    return found
+
+
 def _outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int, solver: str) -> TopologyOutcome:
     start = time.perf_counter()
     model = build_topology(topology_id, brief, catalog)
     outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
     try:
-        outcome.results = optimise(model, brief, k=alternatives, solver=solver)
+        outcome.designs = verified_designs(model, brief, k=alternatives, solver=solver)
     except InfeasibleError as exc:
         outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
     outcome.seconds = time.perf_counter() - start
