@@ -12,7 +12,7 @@ from pathlib import Path
 import pandas as pd
 
 from tradeoff.brief import load_brief
-from tradeoff.sweep import sweep
+from tradeoff.grid_sweep import sweep
 
 ROOT = Path(__file__).resolve().parents[1]
 GRID = {"delay.nominal": "10min..4h:20:log", "weights.effort": "0..4.5:10"}  # 20 x 10 = 200 points

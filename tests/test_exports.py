@@ -27,7 +27,7 @@ from tradeoff.report import files, plots, style
 from tradeoff.report.plots import HISTOGRAM_BINS, study_figures, time_scale
 from tradeoff.report.review import REVIEW_LAYOUT, export, json_text, report_text
 from tradeoff.report.tables import NEVER_ENDS, TABLES, design_stem, monte_carlo_table, study_tables
-from tradeoff.study import study
+from tradeoff.trade_study import study
 from tradeoff.topologies.registry import topology_ids
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -44,9 +44,11 @@ def module_name(path: Path, root: Path) -> str:
     return ".".join(parts[:-1] if parts[-1] == "__init__" else parts)
 
 
-def import_graph(package: Path) -> dict[str, set[str]]:
+def import_graph(package: Path, unresolved: dict[str, set[str]] | None = None) -> dict[str, set[str]]:
     """Module -> the package's modules it imports anywhere in its source (functions and
-    TYPE_CHECKING blocks included; `importlib.import_module('literal')` too)."""
+    TYPE_CHECKING blocks included; `importlib.import_module('literal')` too). Names under the
+    package that are no module go into `unresolved` (importer -> names) when given."""
+    unresolved = {} if unresolved is None else unresolved
     files = {module_name(p, package.parent): p for p in package.rglob("*.py")}
     top = package.name
 
@@ -71,6 +73,11 @@ def import_graph(package: Path) -> dict[str, set[str]]:
             elif (isinstance(node, ast.Call) and getattr(node.func, "attr", getattr(node.func, "id", "")) ==
                   "import_module" and node.args and isinstance(node.args[0], ast.Constant)):
                 names = [str(node.args[0].value)]
+            # `from pkg.mod import name` needs pkg.mod; `import pkg.mod` and import_module need the module
+            wanted = [base] if isinstance(node, ast.ImportFrom) else names
+            for n in wanted:
+                if n.split(".")[0] == top and n not in files:
+                    unresolved.setdefault(name, set()).add(n)
             found |= {t for n in names if n.split(".")[0] == top and (t := target(n)) and t != name}
         graph[name] = found
     return graph
@@ -120,6 +127,10 @@ def test_the_walk_sees_lazy_and_typing_imports(tmp_path):
     assert graph["tradeoff.report.e"] == {"tradeoff.c"}
     assert set(cycle(graph)) in ({"tradeoff.a", "tradeoff.b"}, {"tradeoff.c", "tradeoff.report.d"})
     assert ("tradeoff.c", "tradeoff.report.d", "a results module imports a report module") in violations(graph)
+    (pkg / "f.py").write_text("from tradeoff.gone import x\nimport tradeoff.missing\nfrom tradeoff.a import b\n")
+    unresolved: dict[str, set[str]] = {}
+    import_graph(pkg, unresolved)
+    assert unresolved == {"tradeoff.f": {"tradeoff.gone", "tradeoff.missing"}}
 
 
 def test_no_import_circle():
@@ -137,3 +148,23 @@ def test_allowed_edges_still_exist(edge):
     # The allow-list only shrinks: once an import is gone its entry must go too.
     importer, imported = edge
     assert imported in import_graph(PACKAGE)[importer], f"{importer} no longer imports {imported}: delete the entry"
+
+
+def test_every_import_names_a_module():
+    # A renamed module leaves no stale import behind, not even one read only by type checkers.
+    unresolved: dict[str, set[str]] = {}
+    import_graph(PACKAGE, unresolved)
+    assert unresolved == {}
+
+
+def test_no_module_is_shadowed_by_a_public_function():
+    import importlib
+
+    import tradeoff
+
+    modules = {module_name(p, ROOT) for p in PACKAGE.rglob("*.py")}
+    assert {f"tradeoff.{name}" for name in tradeoff.__all__} & modules == set()
+    for home in ("tradeoff.trade_study", "tradeoff.grid_sweep", "tradeoff.api", "tradeoff.brief"):
+        importlib.import_module(home)  # importing a module never replaces the package's function
+    assert [getattr(tradeoff, name).__module__ for name in ("study", "sweep", "analyze", "load_brief")] == [
+        "tradeoff.trade_study", "tradeoff.grid_sweep", "tradeoff.api", "tradeoff.brief"]

@@ -17,7 +17,7 @@ from tradeoff.brief import load_brief
 from tradeoff.cli import cli
 from tradeoff.errors import InfeasibleError
 from tradeoff.selection import SelectionModel
-from tradeoff.study import study, verified_designs
+from tradeoff.trade_study import study, verified_designs
 
 from conftest import dotted_keys
 from test_optimise import EQUAL_WEIGHTS, NO_LIMITS, rc_block

@@ -17,7 +17,7 @@ from tradeoff.brief import load_brief
 from tradeoff.cli import cli
 from tradeoff.errors import InputError
 from tradeoff.report.sweep_report import plot_decision_map, write_workbook
-from tradeoff.sweep import _axes_and_briefs, sweep
+from tradeoff.grid_sweep import _axes_and_briefs, sweep
 
 from conftest import EXAMPLES, ROOT, dotted_keys
 

@@ -173,7 +173,7 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
 
         tradeoff study examples/glue_pot_warmer.yaml --width 80 --verbose
     """
-    from tradeoff.study import study
+    from tradeoff.trade_study import study
 
     only = [name.strip() for item in only for name in item.split(",") if name.strip()]
     result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
@@ -358,7 +358,7 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     from tradeoff.report.files import check_writable
     from tradeoff.report.sweep_report import (check_mappable, plot_decision_map, render_sweep, write_csv,
                                               write_workbook)
-    from tradeoff.sweep import sweep
+    from tradeoff.grid_sweep import sweep
 
     outputs = [p for p in (csv_path, xlsx_path, plot_path) if p]
     if len(set(outputs)) != len(outputs):

@@ -30,7 +30,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
 
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
     from tradeoff.topologies.base import Evaluation, Topology
 
 __all__ = ["FORMATS", "HISTOGRAM_BINS", "time_scale", "waveform_figure", "histogram_figure", "pareto_figure",

@@ -34,7 +34,7 @@ from tradeoff.report.tables import TABLES, csv_files, design_stem, study_tables
 if TYPE_CHECKING:  # pragma: no cover
     import pandas as pd
 
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
 
 __all__ = ["REVIEW_LAYOUT", "Export", "report_text", "json_text", "netlist_files", "export"]
 

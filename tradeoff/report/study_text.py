@@ -21,7 +21,7 @@ from tradeoff.report.terminal import delay_text, render_bom, render_rows
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
 
 __all__ = ["render_study", "band_text", "ComparisonRow", "comparison_rows", "comparison_headers"]
 

@@ -18,7 +18,7 @@ from tradeoff.units import format_quantity as fq
 if TYPE_CHECKING:  # pragma: no cover
     from rich.console import Console
 
-    from tradeoff.sweep import Axis, SweepResult
+    from tradeoff.grid_sweep import Axis, SweepResult
 
 __all__ = ["render_sweep", "workbook_bytes", "write_csv", "write_workbook", "plot_decision_map", "DecisionMap",
            "NO_WINNER", "check_mappable"]

@@ -28,11 +28,11 @@ import pandas as pd
 
 from tradeoff.cautions import HAZARDOUS_VOLTAGE_V
 from tradeoff.criteria import headline
-from tradeoff.study import describe_values
+from tradeoff.trade_study import describe_values
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
 
 __all__ = [
     "ranking_table", "bom_table", "corners_table", "monte_carlo_table", "infeasible_table", "brief_table",

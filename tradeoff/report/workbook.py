@@ -17,7 +17,7 @@ from tradeoff.report.tables import study_tables
 if TYPE_CHECKING:  # pragma: no cover
     import pandas as pd
 
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
 
 __all__ = ["workbook_bytes", "write_workbook", "MAX_COLUMN_WIDTH"]
 

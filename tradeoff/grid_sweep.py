@@ -305,7 +305,7 @@ class _Task:
 
 def _summary(name: str, score: float, ev, outcome) -> dict[str, Any]:
     """One ranked design: name, score, values and its headline figures (see tradeoff.criteria)."""
-    from tradeoff.study import describe_values
+    from tradeoff.trade_study import describe_values
 
     return {"design": name, "score": float(score), "values": describe_values(outcome.model, ev.design),
             **headline(ev)}
@@ -313,7 +313,7 @@ def _summary(name: str, score: float, ev, outcome) -> dict[str, Any]:
 
 def run_point(task: _Task) -> dict[str, Any]:
     """The study at one grid point, reduced to a small JSON-ready record (runs on a worker)."""
-    from tradeoff.study import study
+    from tradeoff.trade_study import study
 
     result = study(task.brief, only=task.only, method=task.method, catalog_files=task.catalog_files)
     ranked = [] if result.ranking is None else [
@@ -380,7 +380,7 @@ def executor(jobs: int = 1, scheduler: str | None = None, catalog_files: Sequenc
         import multiprocessing
 
         context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload(["tradeoff.sweep", "tradeoff.study"])
+        context.set_forkserver_preload(["tradeoff.grid_sweep", "tradeoff.trade_study"])
         with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_warm_worker,
                                  initargs=(tuple(catalog_files),)) as pool:
             yield pool
@@ -460,7 +460,7 @@ def sweep(brief: Brief | str | Path, vary: Mapping[str, Sequence[str | float] | 
     a value or a grid point is not a valid brief.
     """
     from tradeoff.catalog import load_catalog
-    from tradeoff.study import resolve_topologies
+    from tradeoff.trade_study import resolve_topologies
 
     start = time.perf_counter()
     base = brief if isinstance(brief, Brief) else load_brief(Path(brief))
