@@ -13,7 +13,10 @@ from __future__ import annotations
 
 import importlib
 
-__all__ = ["load_brief", "study", "analyze", "sweep"]
+__all__ = ["load_brief", "study", "analyze", "sweep", "__version__"]
+
+__version__ = "0.1.0"
+"""The tool's version (pyproject.toml reads it from here), shown in reports for reproduction."""
 
 _HOMES = {"load_brief": "tradeoff.brief", "study": "tradeoff.trade_study", "analyze": "tradeoff.api",
           "sweep": "tradeoff.grid_sweep"}

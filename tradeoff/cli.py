@@ -145,8 +145,10 @@ def catalog_command(query, catalogs):
 @click.option("--netlist", "netlist_dir", type=click.Path(file_okay=False), default=None,
               help="Write each feasible design's SPICE netlist (DESIGN.cir) into this folder.")
 @click.option("--review", "review_dir", type=click.Path(file_okay=False), default=None,
-              help="Write the full review set into this folder: report.txt, study.json, study.xlsx, tables/, "
-                   "plots/, netlists/.")
+              help="Write the full review set into this folder: review.html, report.txt, study.json, study.xlsx, "
+                   "tables/, plots/, netlists/.")
+@click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the review page (one self-contained HTML file, no network needed) here.")
 @click.option("--width", type=click.IntRange(72, 1000), default=None,
               help="Characters per line of the report [default: the terminal's width, 100 when not a terminal].")
 @click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
@@ -154,7 +156,7 @@ def catalog_command(query, catalogs):
 @catalog_option
 @_translate_errors
 def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, xlsx_path, csv_dir,
-                  plots_dir, netlist_dir, review_dir, width, verbose, force, catalogs):
+                  plots_dir, netlist_dir, review_dir, html_path, width, verbose, force, catalogs):
     """Run the trade study on BRIEF: for every allowed topology the best E-series
     design proven at the worst-case corners and by Monte Carlo, then a ranking by
     the brief's weights, the winner's bill of materials, the reasons, and why the
@@ -187,7 +189,8 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
         from tradeoff.report.terminal import report_console
 
         render_study(result, report_console(width), verbose=verbose)
-    targets = dict(xlsx=xlsx_path, csv=csv_dir, plots=plots_dir, netlists=netlist_dir, review=review_dir)
+    targets = dict(xlsx=xlsx_path, csv=csv_dir, plots=plots_dir, netlists=netlist_dir, review=review_dir,
+                   html=html_path)
     if any(path is not None for path in targets.values()):
         from tradeoff.report.review import export
 

@@ -9,7 +9,8 @@ netlists and the review set are created if missing.
 
 The review set (`review=DIR`) is, with fixed names:
 
-    DIR/report.txt          the terminal report as plain text
+    DIR/review.html         the review page (tradeoff.report.html), self-contained
+    DIR/report.txt          the terminal report as plain text, with the candidate counts per rule
     DIR/study.json          the whole result (as `tradeoff study --format json`)
     DIR/study.xlsx          the workbook (tradeoff.report.workbook)
     DIR/tables/<sheet>.csv  the workbook's tables as CSV (tradeoff.report.tables)
@@ -38,7 +39,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = ["REVIEW_LAYOUT", "Export", "report_text", "json_text", "netlist_files", "export"]
 
-REVIEW_LAYOUT = {"report": "report.txt", "json": "study.json", "workbook": "study.xlsx", "csv": "tables",
+REVIEW_LAYOUT = {"html": "review.html", "report": "report.txt", "json": "study.json", "workbook": "study.xlsx", "csv": "tables",
                  "plots": "plots", "netlists": "netlists"}
 """Names inside a review folder: files for the report, JSON and workbook; folders for the rest."""
 
@@ -51,15 +52,17 @@ class Export:
     without_netlist: list[str] = field(default_factory=list)
 
 
-def report_text(result: "StudyResult") -> str:
-    """The terminal report of `result` as plain text (no colour codes), as it reads on a pipe."""
+def report_text(result: "StudyResult", verbose: bool = False) -> str:
+    """The terminal report of `result` as plain text (no colour codes), as it reads on a pipe
+    (PIPED_WIDTH columns); `verbose` adds the candidate counts per rule."""
     from rich.console import Console
 
     from tradeoff.report.study_text import render_study
     from tradeoff.report.terminal import PIPED_WIDTH
 
     buffer = io.StringIO()
-    render_study(result, Console(file=buffer, width=PIPED_WIDTH, color_system=None, force_terminal=False))
+    render_study(result, Console(file=buffer, width=PIPED_WIDTH, color_system=None, force_terminal=False),
+                 verbose=verbose)
     return buffer.getvalue()
 
 
@@ -108,7 +111,8 @@ def _planned_review(result: "StudyResult", directory: str | Path,
     root = Path(directory)
     netlists, without = netlist_files(result, root / REVIEW_LAYOUT["netlists"])
     planned: dict[Path, Maker] = {
-        root / REVIEW_LAYOUT["report"]: functools.partial(report_text, result),
+        root / REVIEW_LAYOUT["html"]: functools.partial(_html, result),
+        root / REVIEW_LAYOUT["report"]: functools.partial(report_text, result, verbose=True),
         root / REVIEW_LAYOUT["json"]: functools.partial(json_text, result),
         root / REVIEW_LAYOUT["workbook"]: lambda: workbook_bytes(result, tables()),
         **_csv_makers(result, root / REVIEW_LAYOUT["csv"], tables),
@@ -116,6 +120,12 @@ def _planned_review(result: "StudyResult", directory: str | Path,
         **{path: functools.partial(str, text) for path, text in netlists.items()},
     }
     return planned, without
+
+
+def _html(result: "StudyResult") -> str:
+    from tradeoff.report.html import review_html
+
+    return review_html(result)
 
 
 def _csv_makers(result: "StudyResult", directory: Path,
@@ -130,9 +140,9 @@ def _entry(files: Callable[[], dict[Path, str]], path: Path) -> str:
 
 def export(result: "StudyResult", *, xlsx: str | Path | None = None, csv: str | Path | None = None,
            plots: str | Path | None = None, netlists: str | Path | None = None, review: str | Path | None = None,
-           force: bool = False) -> Export:
-    """Write the requested exports of `result`: a workbook file, CSV tables, plots and netlists into
-    directories, and the whole review set into a folder (directories are created if missing).
+           html: str | Path | None = None, force: bool = False) -> Export:
+    """Write the requested exports of `result`: a workbook file, the review page, CSV tables, plots and
+    netlists into directories, and the whole review set into a folder (directories are created if missing).
 
     Every target is checked before anything is drawn or written: when one exists and `force` is False,
     or two exports would write the same file, OutputError names it and nothing is written.
@@ -148,6 +158,8 @@ def export(result: "StudyResult", *, xlsx: str | Path | None = None, csv: str | 
         folders += [Path(review), *(Path(review) / REVIEW_LAYOUT[k] for k in ("csv", "plots", "netlists"))]
     if xlsx is not None:
         planned.append((Path(xlsx), lambda: workbook_bytes(result, tables())))
+    if html is not None:
+        planned.append((Path(html), functools.partial(_html, result)))
     if csv is not None:
         planned += _csv_makers(result, Path(csv), tables).items()
     if plots is not None:
@@ -169,7 +181,8 @@ def _check_targets(paths: list[Path], folders: list[Path], force: bool) -> None:
     for path in paths:
         if path.resolve() in seen:
             raise OutputError(f"{path}: two of the requested exports would write this file; accepted: "
-                              "separate folders for --csv, --plots, --netlist and --review")
+                              "separate folders for --csv, --plots, --netlist and --review, and files for --xlsx and --html "
+                              "outside the --review folder")
         seen.add(path.resolve())
     for folder in folders:
         _directory(folder)
