@@ -25,7 +25,7 @@ from tradeoff.report.tables import design_stem
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.study import StudyResult
+    from tradeoff.trade_study import StudyResult
 
 __all__ = ["review_html", "Cell", "STRIP_WIDTH"]
 
@@ -85,13 +85,6 @@ def _strip(ev, unit: tuple[str, float]) -> dict[str, Any]:
             "axis": (f"{in_unit(lo, unit)} {unit[0]}", f"{in_unit(hi, unit)} {unit[0]}")}
 
 
-def _field(mapping: dict[str, Any], path: str, *names: str) -> tuple[str, Any]:
-    """(JSON path, value) of the first of `names` present in `mapping` (the spellings of one figure
-    while the JSON's key names settle: 'cost' or 'cost_eur', 'yield' or 'yield_frac')."""
-    name = next(n for n in names if n in mapping)
-    return f"{path}/{name}", mapping[name]
-
-
 def _number(value: float, digits: int = 3) -> str:
     return f"{float(f'{value:.{digits}g}'):g}"
 
@@ -106,8 +99,8 @@ def _comparison(result: "StudyResult", data: dict[str, Any]) -> tuple[list[str],
         p = f"designs/{i}"
         delay = entry["delay"]
         margin = margin_frac(delay["worst_min_s"], delay["worst_max_s"], tuple(delay["band_s"]))
-        yield_path, yield_frac = _field(delay, f"{p}/delay", "yield_frac", "yield")
-        cost_path, cost = _field(entry, p, "cost_eur", "cost")
+        yield_path, yield_frac = f"{p}/delay/yield_frac", delay["yield_frac"]
+        cost_path, cost = f"{p}/cost_eur", entry["cost_eur"]
         cells = [
             Cell(str(entry["rank"]), f"{p}/rank", entry["rank"]), Cell(name), Cell(schematic_values(outcome.model, ev.design)),
             Cell(in_unit(delay["nominal_s"], unit), f"{p}/delay/nominal_s", delay["nominal_s"]),
