@@ -24,6 +24,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from tradeoff import optimise as opt
+from tradeoff.optimise import program
+from tradeoff.optimise.bounds import lower_bounds, partner_bounds
+from tradeoff.optimise.explain import Explainer
 from tradeoff.criteria import WEIGHT_NAMES
 from tradeoff.errors import InfeasibleError, SolverError
 from tradeoff.optimise import SelectionProblem, exhaustive
@@ -200,7 +203,7 @@ def test_row_bounds_never_exceed_a_combination_and_are_exact_for_two_blocks(seed
     problem = SelectionProblem(model, band, NO_LIMITS, weights)
     sizes = [len(b.table) for b in model.blocks]
     every = [np.arange(n) for n in sizes]
-    quick, partner = problem.tables.lower_bounds(every), problem.tables.partner_bounds(every)
+    quick, partner = lower_bounds(problem.tables, every), partner_bounds(problem.tables, every)
     combos = list(itertools.product(*[range(n) for n in sizes]))
     objectives = {rows: problem.objective_of(rows) for rows in combos}
     for b in range(len(sizes)):
@@ -274,10 +277,10 @@ def test_unknown_solver_is_refused():
 def test_a_time_limited_solve_is_not_taken_for_optimal(monkeypatch):
     """A solve stopped by its time limit before any solution is a solver error, not an infeasibility."""
     def stopped_at_once(name):
-        opt._silence_highs_banner()
+        program._silence_highs_banner()
         return pulp.HiGHS(msg=False, timeLimit=0.0, presolve="off")
 
-    monkeypatch.setattr(opt, "_solver", stopped_at_once)
+    monkeypatch.setattr(program, "_solver", stopped_at_once)
     model, band, limits, weights = random_model(0, "sum")
     with pytest.raises(SolverError, match=r"highs returned status 'Not Solved' .*expected 'Optimal' or 'Infeasible'"):
         SelectionProblem(model, band, limits, weights).solve()
@@ -331,7 +334,8 @@ def test_sum_mode_smallest_spread_matches_brute_force():
     model = SelectionModel("t", "sum", blocks)
     tables = [b.table.to_dict("records") for b in blocks]
     brute = min(sum(r["delay_hi"] for r in c) / sum(r["delay_lo"] for r in c) for c in itertools.product(*tables))
-    assert SelectionProblem(model, (10, 20), NO_LIMITS, EQUAL_WEIGHTS)._smallest_spread() == pytest.approx(brute)
+    tables = SelectionProblem(model, (10, 20), NO_LIMITS, EQUAL_WEIGHTS).tables
+    assert Explainer(tables, "highs")._smallest_spread() == pytest.approx(brute)
 
 
 def test_standard_values_miss_a_narrow_band_between_them():
