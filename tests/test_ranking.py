@@ -409,6 +409,17 @@ def test_headline_figures_are_one_row_the_criteria_are_drawn_from():
         assert sum(c.share for c in CRITERIA if c.weight == weight) == pytest.approx(1.0)
 
 
+def test_the_brief_the_optimiser_and_the_ranking_name_the_same_weights():
+    from tradeoff.brief import Weights
+    from tradeoff.optimise.tables import LINEAR_TERMS
+
+    assert tuple(Weights.model_fields) == WEIGHT_NAMES
+    assert set(LINEAR_TERMS) | {"accuracy"} == set(WEIGHT_NAMES) == {c.weight for c in CRITERIA}
+    # The optimiser splits the standby weight as the ranking does (3/4 after the timeout, 1/4 while timing).
+    shares = {column: part_share for parts in LINEAR_TERMS.values() for column, _, part_share in parts}
+    assert (shares["after_a"], shares["during_a"]) == (0.75, 0.25)
+
+
 def test_to_dict_is_json_ready_and_complete():
     result = rank([evaluation(), evaluation("timer555", parts=12, min_s=28.0, max_s=32.0)], EVEN, method="topsis")
     data = json.loads(json.dumps(result.to_dict(), allow_nan=False))
