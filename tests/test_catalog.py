@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 from tradeoff.catalog import CATEGORIES, DIELECTRICS, load_catalog, shipped_catalog_dir, shipped_catalog_names
 from tradeoff.cli import cli
 from tradeoff.errors import CatalogError
-from tradeoff.physics import electrolytic_leakage_a, insulation_resistance_ohm
+from tradeoff.devices.capacitor import electrolytic_leakage_a, insulation_resistance_ohm
 
 ROOT = Path(__file__).resolve().parents[1]
 

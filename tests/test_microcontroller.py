@@ -2,7 +2,6 @@
 Monte Carlo seeding, and the optimiser's table against evaluate()."""
 from __future__ import annotations
 
-import dataclasses
 
 import numpy as np
 import pytest
@@ -12,10 +11,11 @@ from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
 from tradeoff.errors import CatalogError
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.microcontroller import Microcontroller, programmed_ticks, rc_band
+from tradeoff.topologies.microcontroller import Microcontroller, programmed_ticks
 from tradeoff.topologies.registry import build_topology
 
 from conftest import EXAMPLES
+from test_devices import DATASHEET_BOXES
 
 TOWEL = EXAMPLES / "towel_rail_boost.yaml"
 
@@ -39,27 +39,8 @@ def _design(osc, prescaler, regulator="ldo-micropower", **extra):
     return Design("mcu", {}, {"oscillator": osc, "regulator": regulator, "prescaler": prescaler, **extra})
 
 
-# Factory-trimmed internal RC, one maker's datasheet (REFERENCES.md): +/-1 % at 25 degC,
-# +/-1.5 % over 0 to 55 degC, -4/+3 % over -40 to 105 degC.
-DATASHEET_BOXES = ((25.0, 0.0, -40.0), (25.0, 55.0, 105.0), (-0.01, -0.015, -0.04), (0.01, 0.015, 0.03))
-
-
-@pytest.mark.parametrize("temp_c, lo, hi", [
-    (25.0, -0.01, 0.01),     # datasheet: +/-1 % at 25 degC
-    (0.0, -0.015, 0.015),    # datasheet: +/-1.5 % over 0 to 55 degC, at the box edge
-    (40.0, -0.015, 0.015),
-    (55.0, -0.015, 0.015),
-    (-0.5, -0.04, 0.03),     # just outside 0 to 55 degC: only the -40 to 105 degC box holds
-    (80.0, -0.04, 0.03),
-    (-40.0, -0.04, 0.03),    # datasheet: -4/+3 % over -40 to 105 degC
-])
-def test_internal_rc_band_is_the_datasheet_box(temp_c, lo, hi):
-    band_lo, band_hi = rc_band(np.array([temp_c]), *DATASHEET_BOXES)
-    assert band_lo[0] == pytest.approx(lo) and band_hi[0] == pytest.approx(hi)
-
-
 def test_catalog_internal_rc_is_the_datasheet(catalog):
-    # the shipped class carries the REFERENCES.md datasheet boxes unchanged
+    # the shipped class carries the microcontroller datasheet's boxes unchanged
     mcu = catalog.part("mcu-8bit-small")
     got = tuple(mcu.values(n, u) for n, u in (("internal_rc_band_tmin", "degC"), ("internal_rc_band_tmax", "degC"),
                                                ("internal_rc_band_lo", ""), ("internal_rc_band_hi", "")))

@@ -10,9 +10,10 @@ import pytest
 
 from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
-from tradeoff.topologies import hold
+from tradeoff.devices.capacitor import LEAK_LEVEL
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.rc_comparator import R_BOTTOM_OHM, R_HYST_OHM, R_TOP_OHM, threshold_v
+from tradeoff.devices.comparator import threshold_v
+from tradeoff.topologies.rc_comparator import R_BOTTOM_OHM, R_HYST_OHM, R_TOP_OHM
 from tradeoff.topologies.registry import build_topology
 
 from conftest import EXAMPLES
@@ -32,7 +33,7 @@ def _design(c_f=10e-6, cap="cap-film-pet-10pct", r_ohm=10e6, **options):
 
 def _no_loss_point(t, d):
     x = {n: np.array([v]) for n, v in t.nominal_point(d).items()}
-    x[hold.LEAK_LEVEL] = np.array([-1.0])   # no leakage
+    x[LEAK_LEVEL] = np.array([-1.0])   # no leakage
     x["bias_a"] = np.array([0.0])
     return x
 
@@ -91,7 +92,7 @@ def test_leakage_limit_sets_the_shortest_delay(fan):
     # exceeds the 60 nA of 10 Mohm at 0.6 V: the datasheet-limit unit times out far too early
     d = _design(c_f=47e-6, cap="cap-electrolytic-low-leakage")
     wc = fan.worst_case(d)
-    assert wc.at_min[hold.LEAK_LEVEL] == 1.0 and wc.at_max[hold.LEAK_LEVEL] == -1.0
+    assert wc.at_min[LEAK_LEVEL] == 1.0 and wc.at_max[LEAK_LEVEL] == -1.0
     assert wc.min_s < 0.5 * fan.nominal_delay(d)
 
 

@@ -9,7 +9,8 @@ from spice_measures import measures
 
 from tradeoff.analysis import worst_case
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.rc_darlington import RcDarlington, base_current_a, hold_time_closed_s
+from tradeoff.devices.junction import base_current_a, darlington_hold_closed_s as hold_time_closed_s
+from tradeoff.topologies.rc_darlington import RcDarlington
 
 from hold_cases import BRIEF, CATALOG, WIDE, delay_at, make_design, make_topology, sweep_beats_corners
 

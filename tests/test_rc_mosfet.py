@@ -8,7 +8,8 @@ from spice_measures import measures
 
 from tradeoff.analysis import worst_case
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.rc_mosfet import RcMosfet, hold_time_closed_s
+from tradeoff.devices.capacitor import rc_discharge_time_s as hold_time_closed_s
+from tradeoff.topologies.rc_mosfet import RcMosfet
 
 from hold_cases import BRIEF, CATALOG, WIDE, delay_at, make_design, make_topology, sweep_beats_corners
 

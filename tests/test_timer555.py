@@ -11,9 +11,9 @@ from spice_measures import measures
 from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.ic_common import power_on_release_s
 from tradeoff.topologies.registry import build_topology
-from tradeoff.topologies.timer555 import THRESHOLD_FRAC, monostable_netlist, monostable_width_s
+from tradeoff.devices.comparator import THRESHOLD_FRAC, monostable_width_s
+from tradeoff.topologies.timer555 import monostable_netlist
 
 from conftest import EXAMPLES
 
@@ -150,15 +150,3 @@ def test_waveform_crosses_threshold_at_the_delay(short):
     w = short.waveform(d, x)
     crossing = np.interp(w.threshold, w.signal, w.time_s)
     assert crossing == pytest.approx(short.nominal_delay(d), rel=1e-3) and w.unit == "V"
-
-
-def test_power_on_release_against_integration():
-    # physics identity: RC charged from a supply ramping to V in rise_s; release when v_c = frac·supply
-    for tau, rise, frac in ((0.1, 0.05, 1 / 3), (0.01, 0.05, 1 / 3), (0.1, 0.0, 0.3), (0.1, 0.2, 0.3)):
-        def supply(t):
-            return 1.0 if rise == 0 else min(1.0, t / rise)
-        sol = solve_ivp(lambda t, v: [(supply(t) - v[0]) / tau], (1e-9, 10 * tau + rise), [0.0], max_step=tau / 20,
-                        rtol=1e-9, atol=1e-12, events=lambda t, v: v[0] - frac * supply(t) if t > 1e-6 else -1.0)
-        assert sol.t_events[0][0] == pytest.approx(power_on_release_s(tau, rise, frac), rel=1e-4)
-    # step supply: ln(1/(1 − 1/3)) = 0.405 tau (standard circuit analysis)
-    assert power_on_release_s(1.0, 0.0, 1 / 3) == pytest.approx(math.log(1.5))

@@ -1,22 +1,12 @@
-"""Pieces shared by every RC-hold topology: start, capacitor leakage, shunt, discharge time.
+"""The shared frame of the transistor RC holds, composed from the device laws in `tradeoff.devices`.
 
-An RC-hold timer charges a hold capacitor at the start and ends when the capacitor has
-discharged far enough for the output stage (a Darlington base, a MOSFET gate, a comparator
-input) to let the relay go. Every such topology needs the same four things, written here once:
-
-- the start: a push-button (capacitor charged to the supply minus a diode or switch drop) or a
-  power-on pulse from a PNP stage whose own RC keeps it on long enough to charge the hold
-  capacitor through a charge resistor (`power_on_start`: the voltage actually reached and the
-  pulse's own length, which adds to the delay);
-- the capacitor's leakage against its voltage (`CapacitorLeakage`: the datasheet limit for the
-  worst case, a typical part for the nominal);
-- an optional external shunt across the capacitor (design option `shunt` [ohm], e.g. a 10 MΩ meter);
-- the discharge time t = C ∫ dV / i(V) for a discharge current i(V) = load(V) + leakage(V) + V/R_shunt
-  (`discharge_time_s`), by fixed-node Gauss–Legendre quadrature in a variable the caller chooses
-  (log of the load current, or the voltage), vectorised over samples.
-
-The topology modules supply the load law (junction law of a Darlington base, a bleed resistor ...)
-and their release condition.
+An RC-hold timer charges a hold capacitor at the start and ends when the capacitor has discharged
+far enough for the output stage (a Darlington base, a MOSFET gate) to let the relay go. The frame
+holds what every such topology shares: the hold state of a batch of samples, the component bands,
+the optional shunt across the capacitor (design option `shunt` [ohm], e.g. a 10 MΩ meter), the
+start (`devices.start`), the capacitor's leakage (`devices.capacitor`), the relay's release
+(`devices.relay`), BOM, standby, design rules, optimiser blocks and the SPICE skeleton. The
+topology modules supply the driver: its load law and its release condition.
 """
 from __future__ import annotations
 
@@ -28,259 +18,27 @@ from typing import TYPE_CHECKING, Any, Callable, ClassVar, Mapping
 
 import numpy as np
 import pandas as pd
-from scipy import constants
 
-from tradeoff import physics
+from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage, band_frac
+from tradeoff.devices.junction import hfe_at, hfe_spread, thermal_voltage_v, vbe_at_v
+from tradeoff.devices.quadrature import evaluate_in_chunks
+from tradeoff.devices.relay import coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a
+from tradeoff.devices.start import (
+    CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS, StartPulse, button_start_v, charge_window_s, pnp_base_currents,
+    power_on_start,
+)
 from tradeoff.analysis import Uncertain
 from tradeoff.candidates import role_candidates
 from tradeoff.errors import DesignError, UnitParseError
 from tradeoff.topologies.base import BomLine, Finding, Topology, Waveform
 
+__all__ = ["shunt_ohm", "shunt_current_a", "component_band", "hold_pairs", "HoldWaveform", "Dropped", "option",
+           "HoldState", "RcHoldTopology"]
+
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
     from tradeoff.catalog import Catalog, Part
     from tradeoff.topologies.base import Design, Role
-
-__all__ = [
-    "CHARGE_FRACTION_MIN", "CHARGE_TIME_CONSTANTS", "INSULATION_TYPICAL_FRAC", "LEAK_LEVEL",
-    "thermal_voltage_v", "button_start_v", "StartPulse", "power_on_start", "charge_window_s",
-    "CapacitorLeakage", "power_sum", "level_weights", "leakage_level", "shunt_ohm", "shunt_current_a", "discharge_time_s",
-    "discharge_integral_s", "gauss_legendre", "evaluate_in_chunks", "DELAY_CHUNK",
-    "component_band", "hold_pairs", "HoldWaveform", "Dropped", "option", "HoldState", "RcHoldTopology",
-]
-
-CHARGE_FRACTION_MIN = 0.95
-"""Design rule: the start must charge the hold capacitor to at least 95 % of its final voltage."""
-
-CHARGE_TIME_CONSTANTS = -math.log(1 - CHARGE_FRACTION_MIN)
-"""Charge time constants that reach CHARGE_FRACTION_MIN: ln 20 = 3.00."""
-
-INSULATION_TYPICAL_FRAC = 0.1
-"""Leakage of a typical film or ceramic part as a fraction of the one its guaranteed minimum
-insulation resistance allows (from memory: real parts measure about ten times the minimum)."""
-
-LEAK_LEVEL = "leak_level"
-"""Name of the uncertain leakage level: -1 no leakage, 0 a typical part, +1 the datasheet limit."""
-
-DEFAULT_NODES = 10
-"""Gauss–Legendre nodes of the discharge integral (relative error below 1e-7 on the hold models' integrands;
-tests/test_hold.py checks it against solve_ivp)."""
-
-
-def thermal_voltage_v(temp_c) -> np.ndarray:
-    """Thermal voltage kT/q [V] at `temp_c` [degC] (CODATA constants from scipy.constants)."""
-    return constants.k * (np.asarray(temp_c, dtype=float) + constants.zero_Celsius) / constants.e
-
-
-# ---- start --------------------------------------------------------------------------------------
-
-def button_start_v(supply_v, drop_v) -> np.ndarray:
-    """Hold-capacitor voltage after a push-button start [V]: supply minus the diode or switch drop."""
-    return np.maximum(np.asarray(supply_v, dtype=float) - drop_v, 0.0)
-
-
-@dataclass(frozen=True)
-class StartPulse:
-    """What a power-on start pulse does to the hold capacitor (arrays over samples).
-
-    pulse_s: time from power-on until the PNP turns off, which adds to the delay [s];
-    saturated_s: time the PNP stays saturated (charging through the charge resistor) [s];
-    peak_v: hold-capacitor voltage when the PNP turns off [V]; final_v: the voltage a long
-    pulse would reach (supply minus VCE(sat) minus the load's drop across the charge resistor) [V].
-    """
-
-    pulse_s: np.ndarray
-    saturated_s: np.ndarray
-    peak_v: np.ndarray
-    final_v: np.ndarray
-
-    @property
-    def charge_frac(self) -> np.ndarray:
-        """Fraction of the final voltage reached (design rule: >= CHARGE_FRACTION_MIN)."""
-        return np.divide(self.peak_v, self.final_v, out=np.zeros_like(self.peak_v), where=self.final_v > 0)
-
-
-def _pnp_base_currents(supply_v, r_start, r_be, veb_v):
-    """Base-network currents of the start PNP: IB(t) = a·exp(-t/τs) - b [A] (a, b returned)."""
-    a = np.maximum(np.asarray(supply_v, dtype=float) - veb_v, 0.0) / r_start
-    b = veb_v / r_be
-    return a, b
-
-
-def power_on_start(supply_v, r_start, c_start, r_be, r_charge, c_hold, hfe, veb_v, vce_sat_v,
-                   load_a, iterations: int = 32) -> StartPulse:
-    """Power-on start by a PNP stage (vectorised over samples).
-
-    Circuit: PNP emitter at the supply, base pulled up by r_be and pulled down through r_start in
-    series with c_start (discharged at power-on); collector charges the hold capacitor c_hold
-    through r_charge. The base current IB(t) = a·exp(-t/τs) - b with a = (V - VEB)/r_start,
-    b = VEB/r_be, τs = r_start·c_start, so the PNP turns off at pulse_s = τs·ln(a/b).
-    While hFE·IB exceeds what the capacitor takes, the PNP is saturated and the capacitor charges
-    as V_f·(1 - exp(-t/τc)), τc = r_charge·c_hold, V_f = V - VCE(sat) - r_charge·load_a; the
-    saturated phase ends at the root of hFE·IB(t) = (V_f/r_charge)·exp(-t/τc) + load_a (bisection).
-    From there to the turn-off the PNP is a decaying current source; its charge less the load's
-    (load_a: the hold network's discharge current near V_f [A]) moves the voltage to peak_v.
-
-    supply_v [V], r_start, r_be, r_charge [ohm], c_start, c_hold [F], hfe (PNP), veb_v, vce_sat_v [V].
-    """
-    supply_v, r_start, c_start, c_hold, hfe, load_a = np.broadcast_arrays(
-        *(np.asarray(v, dtype=float) for v in (supply_v, r_start, c_start, c_hold, hfe, load_a)))
-    a, b = _pnp_base_currents(supply_v, r_start, r_be, veb_v)
-    tau_s, tau_c = r_start * c_start, r_charge * c_hold
-    on = a > b
-    pulse = np.where(on, tau_s * np.log(np.where(on, a / b, 1.0)), 0.0)
-    final = np.maximum(supply_v - vce_sat_v - r_charge * load_a, 0.0)
-
-    def excess(t):
-        return hfe * (a * np.exp(-t / tau_s) - b) - final / r_charge * np.exp(-t / tau_c) - load_a
-
-    lo, hi = np.zeros_like(pulse), pulse.copy()
-    saturated_at_start = excess(lo) >= 0
-    for _ in range(iterations):
-        mid = 0.5 * (lo + hi)
-        up = excess(mid) >= 0
-        lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
-    t_sat = np.where(saturated_at_start & on, lo, 0.0)
-    v_sat = final * -np.expm1(-t_sat / tau_c)
-    source_charge = hfe * (a * tau_s * (np.exp(-t_sat / tau_s) - np.exp(-pulse / tau_s)) - b * (pulse - t_sat))
-    net = source_charge - load_a * (pulse - t_sat)
-    peak = np.clip(v_sat + net / c_hold, 0.0, final)
-    return StartPulse(pulse_s=pulse, saturated_s=t_sat, peak_v=peak, final_v=final)
-
-
-def charge_window_s(supply_min_v, supply_max_v, r_start_min, tau_s_min, r_be, r_charge, hfe_min, veb_v,
-                    vce_sat_v, load_max_a) -> np.ndarray:
-    """Longest charge time the start pulse guarantees at its worst corner [s] (0 if none).
-
-    The PNP stays saturated for CHARGE_TIME_CONSTANTS charge time constants (so the hold capacitor
-    reaches CHARGE_FRACTION_MIN) when hFE·IB(3τc) >= exp(-3)·V_f/r_charge + load, i.e. when
-    3·τc <= τs·ln(1/ρ), ρ = ((exp(-3)·V_f/r_charge + load)/hFE + b)/a. The return value is the
-    right-hand side τs·ln(1/ρ) with a at the lowest supply and largest r_start, V_f at the highest
-    supply, the smallest hFE and τs, and the largest load: a bound valid at every corner.
-    Compare it with CHARGE_TIME_CONSTANTS·r_charge·c_hold (largest c_hold).
-    """
-    a, b = _pnp_base_currents(supply_min_v, np.asarray(r_start_min, dtype=float), r_be, veb_v)
-    final = supply_max_v - vce_sat_v
-    need = (math.exp(-CHARGE_TIME_CONSTANTS) * final / r_charge + load_max_a) / hfe_min
-    rho = (need + b) / np.maximum(a, 1e-300)
-    return np.where(rho < 1, tau_s_min * np.log(1 / np.minimum(rho, 1.0)), 0.0)
-
-
-# ---- leakage ------------------------------------------------------------------------------------
-
-_HORNER_MAX_EXPONENT = 4
-"""Largest integer exponent `power_sum` evaluates by nested products instead of pow."""
-
-
-def power_sum(v, terms) -> np.ndarray:
-    """Sum of power laws Σ c·v**n over `terms` = ((n, c), ...) (c broadcasts against v).
-
-    Equal exponents are merged; small non-negative integer exponents are evaluated by Horner's rule
-    in one output array (a·v³ + b·v as ((a·v)·v + b)·v: four array operations, no pow), others by pow.
-    """
-    v = np.asarray(v, dtype=float)
-    merged: dict[float, Any] = {}
-    for n, c in terms:
-        merged[n] = merged[n] + c if n in merged else c
-    if not all(float(n).is_integer() and 0 <= n <= _HORNER_MAX_EXPONENT for n in merged):
-        return sum(c * v ** n for n, c in merged.items())
-    top = int(max(merged))
-    out = np.empty(np.broadcast_shapes(v.shape, *(np.shape(c) for c in merged.values())))
-    if top == 0:
-        out[...] = merged[0]
-        return out
-    np.multiply(v, merged[top], out=out)
-    for k in range(top - 1, -1, -1):
-        if k in merged:
-            out += merged[k]
-        if k > 0:
-            out *= v
-    return out
-
-
-def level_weights(level, typical, limit) -> tuple[np.ndarray, np.ndarray]:
-    """Split a leakage level in [-1, 1] into (typical part, limit part) currents [A].
-
-    -1 gives (0, 0); 0 gives (typical, 0); +1 gives (0, limit); linear in between.
-    """
-    level = np.clip(np.asarray(level, dtype=float), -1.0, 1.0)
-    return np.where(level <= 0, 1 + level, 1 - level) * typical, np.maximum(level, 0.0) * limit
-
-
-def leakage_level(note: str) -> Uncertain:
-    """A leakage level as a spread quantity: normal about a typical part (0), the limit (+1) at 3 sigma."""
-    return Uncertain(0.0, -1.0, 1.0, dist="normal", unit="", note=f"{note}: -1 none, 0 typical part, "
-                     "+1 datasheet limit (normal, limit at 3 sigma)")
-
-
-class CapacitorLeakage:
-    """Leakage current of a hold capacitor against its voltage, at a leakage level in [-1, 1].
-
-    Level -1: no leakage; 0: a typical part; +1: the datasheet limit; in between a linear blend
-    (0 to 1 blends typical into limit). Electrolytic: tradeoff.physics.electrolytic_leakage_a
-    (0.01·C·V or 3 µA at rated voltage and 20 degC, the class's voltage and temperature laws).
-    Film and ceramic: V / R_ins with R_ins = tradeoff.physics.insulation_resistance_ohm (its
-    guaranteed minimum) for the limit, INSULATION_TYPICAL_FRAC of that current for a typical part
-    (no temperature law: insulation leakage is far below the hold currents).
-
-    Every case is a sum of two power laws I(V) = a_typ·V^n_typ + a_lim·V^n_lim (V in volts), whose
-    coefficients are computed once per sample so the discharge integral stays fast. c_f and
-    rated_v may be arrays (one per candidate) of one part class.
-    """
-
-    def __init__(self, part: "Part", c_f, rated_v):
-        self.part = part
-        self.c_f, self.rated_v = np.asarray(c_f, dtype=float), np.asarray(rated_v, dtype=float)
-        self.electrolytic = part.fields.get("dielectric") == "electrolytic"
-        if self.electrolytic:
-            self.n_typ = part.value("leakage_voltage_exponent", "")
-            self.n_lim = part.value("leakage_voltage_exponent_limit", "")
-        else:
-            self.n_typ = self.n_lim = 1.0
-            self.insulation_ohm = physics.insulation_resistance_ohm(self.c_f, part)
-
-    def limits_at_rated_a(self, temp_c) -> tuple[np.ndarray, np.ndarray]:
-        """(typical, limit) leakage at rated voltage and `temp_c` [degC] [A]."""
-        temp_c = np.asarray(temp_c, dtype=float)
-        if self.electrolytic:
-            # at rated voltage the voltage law is 1, so the typical part is the limit times its fraction
-            limit = physics.electrolytic_leakage_a(self.c_f, self.rated_v, self.rated_v, temp_c, self.part)
-            return limit * self.part.value("leakage_typical_frac", ""), limit
-        limit = self.rated_v / self.insulation_ohm + 0 * temp_c
-        return INSULATION_TYPICAL_FRAC * limit, limit
-
-    def coefficients(self, temp_c, level) -> tuple[np.ndarray, np.ndarray]:
-        """(a_typ, a_lim) of I(V) = a_typ·V^n_typ + a_lim·V^n_lim [A/V^n] at `temp_c` [degC], `level`."""
-        typ, lim = self.limits_at_rated_a(temp_c)
-        typ, lim = level_weights(level, typ, lim)
-        return typ / self.rated_v ** self.n_typ, lim / self.rated_v ** self.n_lim
-
-    def current_a(self, v, a_typ, a_lim, scratch: bool = False) -> np.ndarray:
-        """Leakage [A] at capacitor voltage v [V] >= 0 with coefficients from `coefficients`.
-
-        scratch: v is the caller's temporary array, which may be clipped at 0 V in place.
-        """
-        v = np.asarray(v, dtype=float)
-        v = np.maximum(v, 0.0, out=v if scratch and v.ndim else None)
-        return power_sum(v, ((self.n_typ, a_typ), (self.n_lim, a_lim)))
-
-    def uncertain(self) -> Uncertain:
-        """The leakage level as a spread quantity (normal about a typical part, the limit at 3 sigma)."""
-        what = "leakage rule" if self.electrolytic else "minimum insulation resistance"
-        return leakage_level(f"hold capacitor {self.part.id} ({what})")
-
-    def finding(self) -> Finding:
-        """Says which leakage figure a result uses (an 'info' finding)."""
-        if self.electrolytic:
-            text = (f"hold capacitor leakage ({self.part.id}): datasheet limit max(k·C·Vr, floor) scaled by "
-                    f"(V/Vr)^{self.n_lim:g} and the temperature law for the worst case; a typical part "
-                    f"({self.part.value('leakage_typical_frac', ''):g} of the limit, (V/Vr)^{self.n_typ:g}) "
-                    "for the nominal")
-        else:
-            text = (f"hold capacitor leakage ({self.part.id}): V / minimum insulation resistance "
-                    f"({float(np.min(self.insulation_ohm)) / 1e9:.3g} GΩ) for the worst case; {INSULATION_TYPICAL_FRAC:g} of it "
-                    "for nominal")
-        return Finding("info", "leakage-model", text)
 
 
 def shunt_ohm(design: "Design") -> float | None:
@@ -308,62 +66,13 @@ def shunt_current_a(v, shunt: float | None):
     return 0.0 if shunt is None else np.asarray(v, dtype=float) / shunt
 
 
-# ---- discharge time -----------------------------------------------------------------------------
-
-_RULES: dict[int, tuple[np.ndarray, np.ndarray]] = {}
-
-
-def gauss_legendre(nodes: int) -> tuple[np.ndarray, np.ndarray]:
-    """Gauss–Legendre nodes and weights on [-1, 1] (cached)."""
-    if nodes not in _RULES:
-        _RULES[nodes] = np.polynomial.legendre.leggauss(nodes)
-    return _RULES[nodes]
-
-
-def discharge_time_s(c_f, u_end, u_start, path: Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]],
-                     nodes: int = DEFAULT_NODES) -> np.ndarray:
-    """Time to discharge from u_start to u_end: t = C ∫ (dV/du) / i(u) du [s], vectorised.
-
-    u is whatever variable the caller integrates in (the log of the load current for a junction
-    load, or the capacitor voltage); `path(u)` receives u with a trailing axis of quadrature nodes
-    (shape (..., nodes)) and returns (dV/du [V per unit of u], total discharge current i [A]) of
-    that shape, where i = load + leakage + shunt current must stay positive. Parameters the path
-    uses must therefore carry a trailing axis of length 1. Returns 0 where u_start <= u_end.
-    Fixed-node Gauss–Legendre quadrature: exact for polynomials of degree 2·nodes - 1; the hold
-    integrands are smooth in these variables (tests/test_hold.py checks < 0.1 % against solve_ivp).
-    """
-    def integrand(u):
-        dv_du, current = path(u)
-        return dv_du / current
-    return discharge_integral_s(c_f, u_end, u_start, integrand, nodes)
-
-
-def discharge_integral_s(c_f, u_end, u_start, integrand: Callable[[np.ndarray], np.ndarray],
-                         nodes: int = DEFAULT_NODES) -> np.ndarray:
-    """t = C ∫ f(u) du from u_end to u_start [s] with f = (dV/du) / i given whole (see `discharge_time_s`).
-
-    `integrand(u)` receives the nodes as a fresh array of shape (..., nodes) that it may overwrite
-    (so a hot path can build its quotient in place) and returns f at them [s/F per unit of u].
-    """
-    x, w = gauss_legendre(nodes)
-    u_end, u_start = np.broadcast_arrays(np.asarray(u_end, dtype=float), np.asarray(u_start, dtype=float))
-    half = np.maximum(u_start - u_end, 0.0) / 2
-    u = half[..., None] * x
-    u += (u_end + half)[..., None]
-    return np.asarray(c_f, dtype=float) * half * (integrand(u) @ w)
-
-
 # ---- component bands and candidate pairs --------------------------------------------------------
 
 def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Uncertain:
-    """Value spread of a resistor or capacitor [ohm or F]: tolerance plus tempco over the ambient range.
-
-    The catalog gives the temperature coefficient as a bound without sign, so it widens the
-    band symmetrically by tempco·(largest distance of the brief's ambient from 25 degC): a
-    conservative fold that keeps the corner count low.
-    """
-    swing = max(abs(brief.ambient.min_c - 25.0), abs(brief.ambient.max_c - 25.0))
-    spread = part.value("tolerance", "") + part.value("tempco", "1/K") * swing
+    """Value spread of a resistor or capacitor [ohm or F]: tolerance plus tempco over the brief's ambient
+    range (`devices.capacitor.band_frac`), uniform."""
+    spread = band_frac(part.value("tolerance", ""), part.value("tempco", "1/K"), brief.ambient.min_c,
+                       brief.ambient.max_c)
     return Uncertain(value, value * (1 - spread), value * (1 + spread), unit=note.split(":")[0],
                      note=f"{note}: {part.id} tolerance ± tempco over the ambient range (uniform)")
 
@@ -378,15 +87,15 @@ def hold_pairs(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog
     """
     r = role_candidates(r_role, brief, catalog, r_classes)
     c = role_candidates(c_role, brief, catalog, c_classes)
-    swing = max(abs(brief.ambient.min_c - 25.0), abs(brief.ambient.max_c - 25.0))
+    amb = brief.ambient
     ri, ci = np.meshgrid(np.arange(len(r)), np.arange(len(c)), indexing="ij")
     ri, ci = ri.ravel(), ci.ravel()
     rr, cc = r.iloc[ri].reset_index(drop=True), c.iloc[ci].reset_index(drop=True)
     return pd.DataFrame({
         r_role.name: rr["value"].to_numpy(float), c_role.name: cc["value"].to_numpy(float),
         "r_part": rr["part"].to_numpy(), "c_part": cc["part"].to_numpy(),
-        "r_spread": (rr["tolerance"] + rr["tempco"] * swing).to_numpy(float),
-        "c_spread": (cc["tolerance"] + cc["tempco"] * swing).to_numpy(float),
+        "r_spread": band_frac(rr["tolerance"], rr["tempco"], amb.min_c, amb.max_c).to_numpy(float),
+        "c_spread": band_frac(cc["tolerance"], cc["tempco"], amb.min_c, amb.max_c).to_numpy(float),
         "c_rated_v": cc["rated_v"].to_numpy(float),
         "cost": (rr["cost"] + cc["cost"]).to_numpy(float),
         "placements": (rr["placements"] + cc["placements"]).to_numpy(int),
@@ -487,27 +196,6 @@ DISSIPATION_DERATING = 0.5
 START_PNP_OFF_V = 0.3
 """Design rule: the start capacitor's leakage across r_be must stay below 0.3 V so the start PNP stays
 off after its pulse (common practice: a silicon junction conducts negligibly below about 0.4 V)."""
-
-DELAY_CHUNK = 8192
-"""Samples evaluated at once by the hold delay models (keeps the node arrays in cache)."""
-
-
-def evaluate_in_chunks(function: Callable[[dict[str, np.ndarray]], np.ndarray], x: Mapping[str, np.ndarray],
-                       chunk: int = DELAY_CHUNK) -> np.ndarray:
-    """function(x) [s] over long one-dimensional sample arrays, `chunk` samples at a time.
-
-    The quadrature's (samples x nodes) temporaries of one chunk stay in the processor cache (about
-    2.5 times faster at a million samples than one pass). Arrays of another length (scalars) and
-    multi-dimensional batches (candidates x corners) are passed whole.
-    """
-    x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
-    n = max(v.size for v in x.values())
-    if n <= chunk or any(v.ndim > 1 for v in x.values()):
-        return function(x)
-    out = np.empty(n)
-    for i in range(0, n, chunk):
-        out[i:i + chunk] = function({k: v[i:i + chunk] if v.size == n else v for k, v in x.items()})
-    return out
 
 FLYBACK_REVERSE_FACTOR = 3.0
 """Flyback diode reverse rating of about 3 times the supply (relay manufacturers' application notes)."""
@@ -692,12 +380,11 @@ class RcHoldTopology(Topology):
 
     def release_current_a(self, release_frac, coil_ohm) -> np.ndarray:
         """Release current [A] of a unit at `release_frac` with coil resistance coil_ohm at 25 degC [ohm]."""
-        return np.asarray(release_frac, dtype=float) * self.release_band_frac()[2] / np.asarray(coil_ohm, dtype=float)
+        return release_current_a(release_frac, self.release_band_frac()[2], coil_ohm)
 
     def coil_ohm_at(self, coil_ohm, temp_c) -> np.ndarray:
         """Coil resistance at `temp_c` [degC] from its 25 degC value [ohm] (copper tempco)."""
-        _, tc = self.coil_tolerance()
-        return np.asarray(coil_ohm, dtype=float) * (1 + tc * (np.asarray(temp_c, dtype=float) - 25.0))
+        return coil_ohm_at(coil_ohm, self.coil_tolerance()[1], temp_c)
 
     def release_time_s(self) -> float:
         """Relay release time [s] (relay class, else DEFAULT_RELEASE_TIME_S)."""
@@ -746,14 +433,8 @@ class RcHoldTopology(Topology):
             q["c_start"] = component_band(design.values["c_start"],
                                           self.value_part(design, "c_start", "cap-ceramic-x7r"),
                                           self.brief, "F: start capacitor")
-            q["start_hfe"] = self.gain(self.pnp(design), "start PNP")
+            q["start_hfe"] = hfe_spread(self.pnp(design), "start PNP")
         return q
-
-    @staticmethod
-    def gain(part: "Part", what: str) -> Uncertain:
-        """hFE of a bipolar class at 25 degC: log-normal between its limits, median hfe_typ."""
-        return Uncertain(part.value("hfe_typ", ""), part.value("hfe_min", ""), part.value("hfe_max", ""),
-                         dist="lognormal", note=f"{what} {part.id}: hFE at 25 degC, log-normal between the limits")
 
     def leakage(self, design: "Design", c_f=None, rated_v=None, part: "Part | None" = None) -> CapacitorLeakage:
         """Leakage law of the hold capacitor of `design` (or of arrays of candidate values of one class)."""
@@ -776,10 +457,10 @@ class RcHoldTopology(Topology):
         if not self.power_on:
             return button_start_v(s.supply_v, self.diode(design).value("vf", "V")), None
         pnp = self.pnp(design)
-        veb = pnp.value("vbe_on_typ", "V") + pnp.value("vbe_tempco", "V/K") * (s.temp_c - 25.0)
+        veb = vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), s.temp_c)
         vce = pnp.value("vce_sat", "V")
         top = np.maximum(s.supply_v - vce, 0.0)
-        hfe = s.x["start_hfe"] * np.exp(pnp.value("hfe_tempco", "1/K") * (s.temp_c - 25.0))
+        hfe = hfe_at(s.x["start_hfe"], pnp.value("hfe_tempco", "1/K"), s.temp_c)
         pulse = power_on_start(s.supply_v, s.x["r_start"], s.x["c_start"], self.fixed_ohm(design, "r_be"),
                                self.fixed_ohm(design, "r_charge"), s.c_f, hfe, veb, vce, self.discharge_a(s, top))
         return pulse.peak_v, pulse
@@ -867,15 +548,13 @@ class RcHoldTopology(Topology):
         driver = self.driver(design)
         tol, _ = self.coil_tolerance()
         r_min = float(self.coil_ohm_at(self.coil_nominal_ohm() * (1 - tol), self.brief.ambient.min_c))
-        peak = self.brief.supply.max_v ** 2 / (4 * r_min)
-        tj = driver.value("tj_max", "degC")
-        rating = driver.value("p_tot", "W") * max(tj - max(self.brief.ambient.max_c, 25.0), 0.0) / (tj - 25.0)
-        return peak, rating
+        peak = float(linear_peak_dissipation_w(self.brief.supply.max_v, r_min))
+        return peak, derated_power_w(driver.value("p_tot", "W"), driver.value("tj_max", "degC"), self.brief.ambient.max_c)
 
     def checks(self, design: "Design") -> list[Finding]:
         """Common design rules (start, chatter band, dissipation, ratings) plus the driver's."""
         from tradeoff.units import format_quantity as fq
-        brief, out = self.brief, [self.leakage(design).finding()]
+        brief, out = self.brief, [Finding("info", "leakage-model", self.leakage(design).basis_text())]
         v_max, v_min = brief.supply.max_v, brief.supply.min_v
         rated = self.rated_v(design, "c_hold")
         if v_max > rated:
@@ -972,7 +651,7 @@ class RcHoldTopology(Topology):
         """
         pnp, amb = self.pnp(design), self.brief.ambient
         hfe_min = pnp.value("hfe_min", "") * math.exp(pnp.value("hfe_tempco", "1/K") * (amb.min_c - 25.0))
-        veb = pnp.value("vbe_on_max", "V") + pnp.value("vbe_tempco", "V/K") * (amb.min_c - 25.0)
+        veb = vbe_at_v(pnp.value("vbe_on_max", "V"), pnp.value("vbe_tempco", "V/K"), amb.min_c)
         tau_min = np.asarray(r_start_lo, dtype=float) * np.asarray(c_start_lo, dtype=float)
         return charge_window_s(self.brief.supply.min_v, self.brief.supply.max_v, r_start_hi, tau_min,
                                self.fixed_ohm(design, "r_be"), self.fixed_ohm(design, "r_charge"), hfe_min, veb,
@@ -1180,8 +859,8 @@ class RcHoldTopology(Topology):
     def pulse_length_s(self, design: "Design", supply_v, r_start, c_start, temp_c) -> np.ndarray:
         """Power-on pulse length τs·ln(a/b) [s] (see `power_on_start`), typical VEB at `temp_c`."""
         pnp = self.pnp(design)
-        veb = pnp.value("vbe_on_typ", "V") + pnp.value("vbe_tempco", "V/K") * (temp_c - 25.0)
-        a, b = _pnp_base_currents(supply_v, np.asarray(r_start, dtype=float), self.fixed_ohm(design, "r_be"), veb)
+        veb = vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), temp_c)
+        a, b = pnp_base_currents(supply_v, np.asarray(r_start, dtype=float), self.fixed_ohm(design, "r_be"), veb)
         return np.where(a > b, r_start * np.asarray(c_start, dtype=float) * np.log(np.maximum(a / b, 1.0)), 0.0)
 
     # ---- plots and SPICE ------------------------------------------------------------------------
@@ -1222,7 +901,7 @@ class RcHoldTopology(Topology):
             pnp = self.pnp(design)
             hfe = float(s.x["start_hfe"][0]) * math.exp(pnp.value("hfe_tempco", "1/K") * (temp - 25.0))
             vt = float(thermal_voltage_v(temp))
-            veb = pnp.value("vbe_on_typ", "V") + pnp.value("vbe_tempco", "V/K") * (temp - 25.0)
+            veb = float(vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), temp))
             i_s = pnp.value("vbe_test_current", "A") * math.exp(-veb / (pnp.value("ideality", "") * vt))
             lines += [f"C1 hold 0 {float(s.c_f[0]):.9g} ic=0",
                       "QS chg b2 vcc QSTART",

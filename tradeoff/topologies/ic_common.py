@@ -1,19 +1,18 @@
 """Pieces shared by the IC timers (555-class monostable, ripple counters with RC or crystal
-oscillator): the part classes a design uses (with its overrides), datasheet figures given at
-a few supply voltages, the spread of a timing resistor or capacitor, small currents known as a
+oscillator): the part classes a design uses (with its overrides), the spread of a timing resistor or capacitor, small currents known as a
 typical value and a datasheet limit, candidate tables for a timing R and C, and the power-on
-RC network that starts the timing (trigger of a 555, reset of a counter).
+RC network that starts the timing (trigger of a 555, reset of a counter; its release time is
+`devices.start.power_on_release_s`).
 """
 from __future__ import annotations
 
-import math
 from typing import TYPE_CHECKING, Mapping
 
 import numpy as np
 import pandas as pd
-from scipy.special import lambertw
 
 from tradeoff.analysis import Uncertain
+from tradeoff.devices.start import power_on_release_s
 from tradeoff.candidates import rated_voltage, role_candidates
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role
@@ -24,8 +23,8 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Topology
 
 __all__ = [
-    "TEMPCO_REFERENCE_C", "part_of", "on_supply", "role_part", "value_spread", "at_temperature",
-    "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic", "power_on_release_s",
+    "TEMPCO_REFERENCE_C", "part_of", "role_part", "value_spread", "at_temperature",
+    "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic",
     "fixed_part", "drop_count", "supply_problem", "drop_dominated", "diode", "start_bom", "start_checks",
 ]
 
@@ -38,25 +37,6 @@ def part_of(topo: "Topology", design: Design, part_id: str) -> "Part":
     part = topo.catalog.part(part_id)
     own = design.overrides.get(part_id)
     return part.with_overrides(own, origin="design overrides") if own else part
-
-
-def on_supply(part: "Part", axis: str, name: str, unit: str, supply_v: float) -> float:
-    """Datasheet figure `name` [unit] given at the supplies `axis` [V], at `supply_v` [V].
-
-    Linear between the listed supplies and extended along the end segments beyond them
-    (a current that rises with supply keeps rising: the conservative reading).
-    """
-    v = np.asarray(part.values(axis, "V"), dtype=float)
-    y = np.asarray(part.values(name, unit), dtype=float)
-    if len(v) != len(y):
-        raise ValueError(f"{part.id}: {axis} and {name} must list the same number of values")
-    if len(v) == 1:
-        return float(y[0])
-    order = np.argsort(v)
-    v, y = v[order], y[order]
-    i = int(np.clip(np.searchsorted(v, supply_v) - 1, 0, len(v) - 2))
-    slope = (y[i + 1] - y[i]) / (v[i + 1] - v[i])
-    return float(max(0.0, y[i] + slope * (supply_v - v[i])))
 
 
 def _holds(part: "Part", role: Role, value: float, supply_max_v: float) -> bool:
@@ -145,23 +125,6 @@ def fixed_part(topo: "Topology", kind: str, value: float, ref: str, note: str, t
     part = logic.cheapest(topo.catalog, kind, lambda p: _holds(p, role, value, topo.brief.supply.max_v)
                     and not (timing and class_two_ceramic(p)), f"{note}: {fq(value, unit)}")
     return BomLine(ref, part.id, fq(value, unit), 1, part.cost, note)
-
-
-def power_on_release_s(tau_s: float, rise_s: float, frac: float) -> float:
-    """Time after power-on at which an RC-held pin is released [s].
-
-    The supply ramps linearly from 0 to its final value V in `rise_s` [s] and then stays; a
-    capacitor charges through R (time constant `tau_s` [s]) from it. Returns the time at which
-    the capacitor voltage reaches `frac` of the (momentary) supply. During the ramp the ratio is
-    independent of the slope: (1 − frac)·u = 1 − exp(−u), u = t/tau, solved with the Lambert W
-    function; after the ramp, an ordinary exponential approach to V (standard circuit analysis).
-    """
-    a = 1.0 - frac
-    u = 1.0 / a + float(np.real(lambertw(-(1.0 / a) * math.exp(-1.0 / a), 0)))
-    if rise_s > 0 and u * tau_s <= rise_s:
-        return u * tau_s
-    v_at_rise = 0.0 if rise_s <= 0 else (rise_s - tau_s * (1.0 - math.exp(-rise_s / tau_s))) / rise_s
-    return max(rise_s, 0.0) + tau_s * math.log((1.0 - v_at_rise) / a)
 
 
 def drop_count(dropped: dict[str, int], reason: str, count: int) -> None:

@@ -15,6 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Callable
 
+from tradeoff.devices.mosfet import on_state_drop_v
 from tradeoff.errors import CatalogError
 from tradeoff.topologies.base import BomLine, Finding
 from tradeoff.units import format_quantity as fq
@@ -25,7 +26,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom", "cheapest",
-    "resistor_class", "output_driver_bom", "on_state_drop_v", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM",
+    "resistor_class", "output_driver_bom", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM",
     "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet", "regulator_bom", "p_channel",
 ]
 
@@ -224,14 +225,6 @@ def output_driver_bom(brief: "Brief", catalog: "Catalog", rail: LogicRail, first
         diode = _diode(brief, catalog)
         lines.append(BomLine("D1", diode.id, diode.summary, 1, diode.cost, "flyback diode across the coil"))
     return lines
-
-
-def on_state_drop_v(overdrive_v, k_a_per_v2, current_a):
-    """Drain-source voltage of a square-law MOSFET in its linear region carrying `current_a` [V]:
-    Id = K ((Vgs - Vt) Vds - Vds^2 / 2) solved for Vds (SPICE level 1); inf when the current exceeds
-    the saturation current K (Vgs - Vt)^2 / 2."""
-    disc = overdrive_v * overdrive_v - 2.0 * current_a / k_a_per_v2
-    return overdrive_v - disc ** 0.5 if overdrive_v > 0 and disc >= 0 else float("inf")
 
 
 def output_driver_checks(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> list[Finding]:

@@ -33,21 +33,20 @@ keeps drawing its quiescent current after the timeout.
 from __future__ import annotations
 
 import dataclasses
-import math
 from typing import Callable, Mapping
 
 import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain, worst_case
+from tradeoff.devices.oscillator import crystal_frequency, rc_band
 from tradeoff.errors import DesignError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["Microcontroller", "INTERNAL_RC", "LOW_POWER_RC", "COUNTER_MAX", "rc_band", "programmed_ticks",
-           "crystal_frequency"]
+__all__ = ["Microcontroller", "INTERNAL_RC", "LOW_POWER_RC", "COUNTER_MAX", "programmed_ticks"]
 
 INTERNAL_RC = "internal-rc"
 LOW_POWER_RC = "low-power-rc"
@@ -59,32 +58,9 @@ _LOAD_CAP_F = 12e-12
 capacitance)."""
 
 
-def rc_band(temp_c, tmin_c, tmax_c, lo_frac, hi_frac) -> tuple[np.ndarray, np.ndarray]:
-    """Frequency-error band [fraction] of a trimmed RC oscillator at ambient `temp_c` [degC].
-
-    tmin_c, tmax_c, lo_frac, hi_frac: the datasheet's boxes (box i holds over tmin_c[i]..tmax_c[i]).
-    At each temperature the narrowest box containing it applies; outside every box the widest
-    (callers flag that ambient as out of specification).
-    """
-    t = np.asarray(temp_c, dtype=float)
-    order = np.argsort(np.asarray(hi_frac) - np.asarray(lo_frac), kind="stable")
-    inside = [(t >= tmin_c[i]) & (t <= tmax_c[i]) for i in order]
-    widest = order[-1]
-    lo = np.select(inside, [np.full_like(t, lo_frac[i]) for i in order], lo_frac[widest])
-    hi = np.select(inside, [np.full_like(t, hi_frac[i]) for i in order], hi_frac[widest])
-    return lo, hi
-
-
 def programmed_ticks(target_s: float, tick_nominal_s: float) -> int:
     """Tick count the firmware is programmed with: the whole number nearest target / tick [ticks]."""
     return int(round(target_s / tick_nominal_s))
-
-
-def crystal_frequency(f0_hz, tolerance_frac, aging_frac, k_per_k2, temp_c, turnover_c) -> np.ndarray:
-    """Tuning-fork crystal frequency [Hz]: f0 (1 + tolerance + aging + k (T - T0)^2), k [1/K^2] < 0
-    (crystal datasheets' parabolic temperature curve)."""
-    dt = np.asarray(temp_c, dtype=float) - turnover_c
-    return f0_hz * (1.0 + tolerance_frac + aging_frac + k_per_k2 * dt * dt)
 
 
 @dataclasses.dataclass(frozen=True)

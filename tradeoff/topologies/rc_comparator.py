@@ -14,7 +14,7 @@ must be recharged above the raised threshold to start again.
 The divider is fixed (not a value role): the threshold is set once by the reference and the
 ratio, and the optimiser picks r_hold and c_hold, which set the delay
     t = C ∫ dV / i(V) from V_th to V0,  i(V) = V/r_hold + leakage(V) + I_bias (+ shunt)
-(tradeoff.topologies.hold.discharge_time_s, in u = ln V). With no leakage and no bias this is
+(tradeoff.devices.quadrature.discharge_integral_s, in u = ln V). With no leakage and no bias this is
 t = r_hold·c_hold·ln(V0/V_th).
 
 The delay is monotone in every spread quantity (each lengthens or shortens it), so the
@@ -31,11 +31,15 @@ import pandas as pd
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import DesignError
 from tradeoff.selection import Block, SelectionModel
+from tradeoff.devices import capacitor
+from tradeoff.devices.comparator import threshold_v
+from tradeoff.devices.mosfet import on_state_drop_v
+from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
 from tradeoff.topologies import hold, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["RcComparator", "R_TOP_OHM", "R_BOTTOM_OHM", "R_HYST_OHM", "threshold_v", "HYSTERESIS_MIN_V"]
+__all__ = ["RcComparator", "R_TOP_OHM", "R_BOTTOM_OHM", "R_HYST_OHM", "HYSTERESIS_MIN_V"]
 
 R_TOP_OHM = 1e6
 """Threshold divider, reference side [ohm]."""
@@ -50,13 +54,8 @@ _R_HOLD = (10e3, 10e6)
 _C_HOLD = (1e-6, 4.7e-3)
 
 # Sign of each quantity's effect on the delay: +1 lengthens it when the quantity rises, -1 shortens it.
-_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, hold.LEAK_LEVEL: -1, "bias_a": -1, "v_ref": -1,
+_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "bias_a": -1, "v_ref": -1,
               "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1, "ambient_c": -1}
-
-
-def threshold_v(v_ref, v_drain, r_top, r_bottom, r_hyst):
-    """Voltage of the threshold node [V]: reference through r_top, ground through r_bottom, drain through r_hyst."""
-    return (v_ref / r_top + v_drain / r_hyst) / (1.0 / r_top + 1.0 / r_bottom + 1.0 / r_hyst)
 
 
 class RcComparator(Topology):
@@ -105,7 +104,7 @@ class RcComparator(Topology):
         """Largest drain voltage while the MOSFET conducts [V] (square-law model at its weakest corner)."""
         fet = logic.output_mosfet(self.brief, self.catalog, rail)
         vth = fet.value("vth_max", "V") + fet.value("vth_tempco", "V/K") * (self.brief.ambient.min_c - 25.0)
-        drop = logic.on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), logic.load_current_max(self.brief))
+        drop = on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), logic.load_current_max(self.brief))
         return min(drop, self.brief.supply.max_v)
 
     # ---- Topology interface ---------------------------------------------------------
@@ -126,7 +125,7 @@ class RcComparator(Topology):
         return {
             "r_hold": hold.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
             "c_hold": hold.component_band(self._value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
-            hold.LEAK_LEVEL: hold.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated).uncertain(),
+            capacitor.LEAK_LEVEL: capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated).uncertain(),
             "rail_v": Uncertain(rail.nominal_v, rail.min_v, rail.max_v, unit="V",
                                 note=f"start voltage: the logic rail ({rail.option}) the capacitor charges to"),
             "v_ref": hold.component_band(ref.value("output", "V"), ref, self.brief, "V: reference output"),
@@ -141,40 +140,40 @@ class RcComparator(Topology):
                                  note="output MOSFET drain while on: 0 to its weakest-corner drop (uniform)"),
         }
 
-    def _leakage(self, design: Design) -> hold.CapacitorLeakage:
+    def _leakage(self, design: Design) -> capacitor.CapacitorLeakage:
         c_part, rated = self._cap(design)
-        return hold.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated)
+        return capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated)
 
     def trip_v(self, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Capacitor voltage at which the comparator switches [V]: the threshold plus the offset."""
         return threshold_v(x["v_ref"], x["drain_v"], x["r_top"], x["r_bottom"], x["r_hyst"]) + x["offset_v"]
 
     @staticmethod
-    def _current_terms(leak: hold.CapacitorLeakage, x: Mapping[str, np.ndarray], shunt: float | None):
+    def _current_terms(leak: capacitor.CapacitorLeakage, x: Mapping[str, np.ndarray], shunt: float | None):
         """Discharge current I(V) = Σ c·V**n as (n, c) terms: leakage power laws, the hold resistor's and
         shunt's conductance (n = 1) and the comparator's bias current (n = 0) [A/V^n]."""
-        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL])
+        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[capacitor.LEAK_LEVEL])
         conductance = 1.0 / x["r_hold"] + (0.0 if shunt is None else 1.0 / shunt)
         return [(leak.n_typ, a_typ), (leak.n_lim, a_lim), (1, conductance), (0, x["bias_a"])]
 
     def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Current leaving the hold capacitor at voltage v [V] > 0: hold resistor, leakage, bias, optional shunt [A]."""
         x = {k: np.asarray(val, dtype=float) for k, val in x.items()}
-        return hold.power_sum(v, self._current_terms(self._leakage(design), x, hold.shunt_ohm(design)))
+        return capacitor.power_sum(v, self._current_terms(self._leakage(design), x, hold.shunt_ohm(design)))
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Discharge time from the rail to the trip voltage [s]; inf where the current at the trip is not positive.
 
-        Long sample arrays are evaluated in chunks (hold.evaluate_in_chunks); the leakage law is built once.
+        Long sample arrays are evaluated in chunks (evaluate_in_chunks); the leakage law is built once.
         """
         leak, shunt = self._leakage(design), hold.shunt_ohm(design)
-        return hold.evaluate_in_chunks(lambda chunk: self._delay(chunk, leak, shunt), x)
+        return evaluate_in_chunks(lambda chunk: self._delay(chunk, leak, shunt), x)
 
-    def _delay(self, x: Mapping[str, np.ndarray], leak: hold.CapacitorLeakage, shunt: float | None) -> np.ndarray:
+    def _delay(self, x: Mapping[str, np.ndarray], leak: capacitor.CapacitorLeakage, shunt: float | None) -> np.ndarray:
         """Delay [s] of one chunk of samples (see `delay`)."""
         v0, v_end = x["rail_v"], np.clip(self.trip_v(x), 1e-6, None)
         terms = self._current_terms(leak, x, shunt)
-        ends = (hold.power_sum(v_end, terms) > 0) & (v0 > v_end)
+        ends = (capacitor.power_sum(v_end, terms) > 0) & (v0 > v_end)
         # I(V) rises with V, so it stays positive above the trip where it is positive at the trip; samples that
         # never end get no bias current in the quadrature (their result is replaced below)
         n_bias, bias = terms[-1]
@@ -183,10 +182,10 @@ class RcComparator(Topology):
 
         def integrand(u):  # (dV/du) / I = V / I(V) in u = ln V, built in place
             v = np.exp(u, out=u)
-            current = hold.power_sum(v, along)
+            current = capacitor.power_sum(v, along)
             return np.divide(v, current, out=current)
 
-        t = hold.discharge_integral_s(x["c_hold"], np.log(v_end), np.log(np.maximum(v0, v_end)), integrand)
+        t = discharge_integral_s(x["c_hold"], np.log(v_end), np.log(np.maximum(v0, v_end)), integrand)
         return np.where(ends, t, np.where(v0 > v_end, np.inf, 0.0))
 
     def _currents(self, design: Design, rail: logic.LogicRail) -> tuple[float, float]:
@@ -236,7 +235,7 @@ class RcComparator(Topology):
         on = threshold_v(nominal["v_ref"], 0.0, R_TOP_OHM, R_BOTTOM_OHM, R_HYST_OHM)
         off = threshold_v(nominal["v_ref"], self.brief.supply.min_v, R_TOP_OHM, R_BOTTOM_OHM, R_HYST_OHM)
         off_max = threshold_v(q["v_ref"].hi, self.brief.supply.max_v, q["r_top"].lo, q["r_bottom"].hi, q["r_hyst"].lo)
-        out = [self._leakage(design).finding()]
+        out = [Finding("info", "leakage-model", self._leakage(design).basis_text())]
         step = off - on - 2 * q["offset_v"].hi
         if step < HYSTERESIS_MIN_V:
             out.append(Finding("violation", "hysteresis", f"the threshold steps only {fq(off - on, 'V')} when the "
@@ -344,7 +343,7 @@ class RcComparator(Topology):
         x = {n: u.nominal for n, u in q.items()}
         leak = self._leakage(design)
         a_typ, a_lim = (float(np.asarray(a).reshape(-1)[0]) for a in leak.coefficients(x["ambient_c"],
-                                                                                        x[hold.LEAK_LEVEL]))
+                                                                                        x[capacitor.LEAK_LEVEL]))
         shunt = hold.shunt_ohm(design)
         expected = self.nominal_delay(design)
         stop = 1.3 * expected if math.isfinite(expected) else 20 * x["r_hold"] * x["c_hold"]

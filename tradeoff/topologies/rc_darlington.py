@@ -15,7 +15,7 @@ Model (per sample, vectorised):
   must-operate current: that spread dominates the worst case);
 - discharge current i(V) = IB + capacitor leakage(V) + V/R_shunt; the hold time
   t = C ∫ dV / i(V) is integrated in u = ln IB (dV/du = IB·r + 2·n·Vt, split at saturation) by
-  Gauss–Legendre quadrature; `hold_time_closed_s` is the closed form for a constant leakage.
+  Gauss–Legendre quadrature; `devices.junction.darlington_hold_closed_s` is the closed form for a constant leakage.
 """
 from __future__ import annotations
 
@@ -26,65 +26,18 @@ import numpy as np
 
 from tradeoff.analysis import Uncertain
 from tradeoff.topologies.base import Finding
-from tradeoff.topologies.hold import (
-    CHARGE_FRACTION_MIN, HoldState, RcHoldTopology, discharge_integral_s, thermal_voltage_v,
+from tradeoff.devices.junction import (
+    base_current_a, darlington_vbe_v, hfe_at, hfe_spread, thermal_voltage_v, vbe_at_v,
 )
+from tradeoff.devices.quadrature import discharge_integral_s
+from tradeoff.devices.start import CHARGE_FRACTION_MIN
+from tradeoff.topologies.hold import HoldState, RcHoldTopology
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
     from tradeoff.topologies.base import Design
 
-__all__ = ["RcDarlington", "darlington_vbe_v", "base_current_a", "hold_time_closed_s", "NEWTON_STEPS"]
-
-NEWTON_STEPS = 14
-"""Newton steps for the base current at a given capacitor voltage (converges to machine precision)."""
-
-
-def darlington_vbe_v(ib_a, hfe, vbe_on_v, test_a, n, vt_v, sat_a) -> np.ndarray:
-    """Both junctions' drop at base current ib_a [A]: VBE(on) + 2·n·Vt·ln(min(hFE·IB, I_sat)/I_test) [V]."""
-    return vbe_on_v + 2 * n * vt_v * np.log(np.minimum(hfe * ib_a, sat_a) / test_a)
-
-
-def base_current_a(v, r_ohm, hfe, vbe_on_v, test_a, n, vt_v, sat_a, steps: int = NEWTON_STEPS) -> np.ndarray:
-    """Base current [A] at which IB·r + VBE(IB) equals the capacitor voltage v [V].
-
-    Saturated (v above the saturation point): IB = (v - VBE_sat)/r. Otherwise Newton in u = ln IB on
-    f(u) = e^u·r + VBE(e^u) - v, convex and increasing, started right of the root: monotone convergence.
-    A voltage below the junction law's reach gives a vanishing (not negative) current.
-    """
-    v, r_ohm, hfe, vbe_on_v, vt_v, sat_a = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in
-                                                                (v, r_ohm, hfe, vbe_on_v, vt_v, sat_a)))
-    ib_sat = sat_a / hfe
-    drop_sat = vbe_on_v + 2 * n * vt_v * np.log(sat_a / test_a)
-    out = np.maximum(v - drop_sat, 0.0) / r_ohm
-    todo = v < ib_sat * r_ohm + drop_sat
-    if todo.any():
-        v, r, vbe, slope, cap = v[todo], r_ohm[todo], vbe_on_v[todo], 2 * n * vt_v[todo], np.log(ib_sat[todo])
-        k = np.log(hfe[todo] / test_a)
-        u = np.minimum(cap, np.log(np.maximum(v, 1e-12) / r))
-        for _ in range(steps):
-            e = np.exp(u)
-            u = u - (e * r + vbe + slope * (u + k) - v) / (e * r + slope)
-        out[todo] = np.exp(np.minimum(u, cap))
-    return out
-
-
-def hold_time_closed_s(c_f, r_ohm, ib_start_a, ib_end_a, ib_sat_a, n, vt_v, leak_a) -> np.ndarray:
-    """Closed-form discharge time [s] from base current ib_start_a to ib_end_a with a constant leakage.
-
-    Saturated part (fixed drop): C·r·ln((I0 + IL)/(Is + IL)). Junction-law part, with
-    dV = (r + 2nVt/I) dI and i = I + IL: C·[r·ln((Ia + IL)/(I1 + IL)) + (2nVt/IL)·(ln(1 + IL/I1) - ln(1 + IL/Ia))],
-    Ia = min(I0, Is); the IL -> 0 limit of the last term is 2nVt·(1/I1 - 1/Ia). Exact for the model's
-    junction law without a shunt (with n = 0 it is the textbook RC exponential).
-    """
-    i0, i1, i_s, leak = (np.asarray(a, dtype=float) for a in (ib_start_a, ib_end_a, ib_sat_a, leak_a))
-    ia = np.minimum(i0, i_s)
-    sat = r_ohm * np.log((np.maximum(i0, i_s) + leak) / (i_s + leak))
-    safe = np.where(leak > 0, leak, 1.0)
-    junction_term = np.where(leak > 0, (np.log1p(leak / i1) - np.log1p(leak / ia)) / safe, 1 / i1 - 1 / ia)
-    linear = r_ohm * np.log((ia + leak) / (i1 + leak)) + 2 * n * vt_v * junction_term
-    return np.where(i0 > i1, c_f * (sat + np.where(ia > i1, linear, 0.0)), 0.0)
-
+__all__ = ["RcDarlington"]
 
 class RcDarlington(RcHoldTopology):
     """RC hold into a small-signal NPN Darlington driving the relay coil."""
@@ -99,7 +52,7 @@ class RcDarlington(RcHoldTopology):
     def driver_uncertain(self, driver: "Part") -> dict[str, Uncertain]:
         """Darlington hFE (log-normal between limits) and VBE(on) at its test current (uniform), at 25 degC."""
         return {
-            "hfe": self.gain(driver, "Darlington"),
+            "hfe": hfe_spread(driver, "Darlington"),
             "vbe_on": Uncertain(driver.value("vbe_on_typ", "V"), driver.value("vbe_on_min", "V"),
                                 driver.value("vbe_on_max", "V"), unit="V",
                                 note=f"Darlington {driver.id}: VBE(on) at {driver.value('vbe_test_current', 'A') * 1e3:g} "
@@ -114,9 +67,8 @@ class RcDarlington(RcHoldTopology):
         p = s.memo.get("junction")
         if p is None:
             d = s.driver
-            dt = s.temp_c - 25.0
-            p = {"hfe": s.x["hfe"] * np.exp(d.value("hfe_tempco", "1/K") * dt),
-                 "vbe_on_v": s.x["vbe_on"] + d.value("vbe_tempco", "V/K") * dt,
+            p = {"hfe": hfe_at(s.x["hfe"], d.value("hfe_tempco", "1/K"), s.temp_c),
+                 "vbe_on_v": vbe_at_v(s.x["vbe_on"], d.value("vbe_tempco", "V/K"), s.temp_c),
                  "vt_v": thermal_voltage_v(s.temp_c), "sat_a": np.maximum(s.supply_v - d.value("vce_sat", "V"), 1e-3)
                  / s.coil_ohm, "r_ohm": s.r_ohm}
             p = {k: np.asarray(v, dtype=float) for k, v in p.items()}

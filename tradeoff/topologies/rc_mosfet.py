@@ -11,35 +11,27 @@ limits with its tempco; Vto = VGS(th) - sqrt(2·I_test/K) so the square law pass
 datasheet threshold point; K spread uniform between limits, scaling as T^k_temp_exponent (mobility);
 gate leakage as the conductance IGSS/V_test (a typical part a fraction of it); discharge time
 t = C ∫ dV / (V/R_eq + leakage(V)) in u = ln V by Gauss–Legendre quadrature, with the closed form
-R_eq·C·ln((V0 + IL·R_eq)/(V1 + IL·R_eq)) for a constant leakage (`hold_time_closed_s`).
+R_eq·C·ln((V0 + IL·R_eq)/(V1 + IL·R_eq)) for a constant leakage (`devices.capacitor.rc_discharge_time_s`).
 """
 from __future__ import annotations
 
-import math
 from typing import TYPE_CHECKING
 
 import numpy as np
 
 from tradeoff.analysis import Uncertain
 from tradeoff.topologies.base import Finding
-from tradeoff.topologies.hold import (
-    CHARGE_FRACTION_MIN, HoldState, RcHoldTopology, discharge_time_s, leakage_level, level_weights,
-)
+from tradeoff.devices.capacitor import leakage_level, level_weights
+from tradeoff.devices.mosfet import drain_current_a, gate_voltage_for_a, k_at, vto_v
+from tradeoff.devices.quadrature import discharge_time_s
+from tradeoff.devices.start import CHARGE_FRACTION_MIN
+from tradeoff.topologies.hold import HoldState, RcHoldTopology
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
     from tradeoff.topologies.base import Design
 
-__all__ = ["RcMosfet", "hold_time_closed_s"]
-
-
-def hold_time_closed_s(c_f, r_eq_ohm, v_start, v_end, leak_a) -> np.ndarray:
-    """Closed-form discharge time [s] of C through R_eq with a constant extra current leak_a [A].
-
-    C dV/dt = -(V/R_eq + IL) gives t = R_eq·C·ln((V0 + IL·R_eq)/(V1 + IL·R_eq)) (0 where V0 <= V1).
-    """
-    r, v0, v1, il = (np.asarray(a, dtype=float) for a in (r_eq_ohm, v_start, v_end, leak_a))
-    return np.where(v0 > v1, c_f * r * np.log((v0 + il * r) / (v1 + il * r)), 0.0)
+__all__ = ["RcMosfet"]
 
 
 class RcMosfet(RcHoldTopology):
@@ -67,12 +59,12 @@ class RcMosfet(RcHoldTopology):
     def gate(self, s: HoldState) -> dict[str, np.ndarray]:
         """Gate-law parameters at the samples' temperature: vto [V], k [A/V²], sat_a [A], g [S] (bleed + gate)."""
         d = s.driver
-        k = s.x["k"] * ((s.temp_c + 273.15) / 298.15) ** d.value("k_temp_exponent", "")
+        k = k_at(s.x["k"], s.temp_c, d.value("k_temp_exponent", ""))
         vth = s.x["vth"] + d.value("vth_tempco", "V/K") * (s.temp_c - 25.0)
         g_limit = d.value("igss", "A") / d.value("igss_test_voltage", "V")
         g_typ, g_lim = level_weights(s.x["gate_leak"], d.value("igss_typical_frac", "") * g_limit, g_limit)
         return {"k": np.asarray(k, dtype=float),
-                "vto": np.asarray(vth - np.sqrt(2 * d.value("vth_test_current", "A") / k), dtype=float),
+                "vto": np.asarray(vto_v(vth, d.value("vth_test_current", "A"), k), dtype=float),
                 "sat_a": np.asarray(s.supply_v / s.coil_ohm, dtype=float),
                 "g": np.asarray(1 / s.r_ohm + g_typ + g_lim, dtype=float)}
 
@@ -83,13 +75,12 @@ class RcMosfet(RcHoldTopology):
     def output_a(self, s: HoldState, v) -> np.ndarray:
         """Drain (coil) current min(K/2·(V - Vto)², I_sat) at gate voltage v [V] [A]."""
         p = self.gate(s)
-        over = np.maximum(np.asarray(v, dtype=float) - p["vto"], 0.0)
-        return np.minimum(p["k"] / 2 * over * over, p["sat_a"])
+        return drain_current_a(v, p["vto"], p["k"], p["sat_a"])
 
     def voltage_for_a(self, s: HoldState, i_a) -> np.ndarray:
         """Gate voltage [V] where the drain current is i_a [A]: Vto + sqrt(2·I/K)."""
         p = self.gate(s)
-        return p["vto"] + np.sqrt(2 * np.minimum(i_a, p["sat_a"]) / p["k"])
+        return gate_voltage_for_a(i_a, p["vto"], p["k"], p["sat_a"])
 
     def time_between_s(self, s: HoldState, v_hi, v_lo) -> np.ndarray:
         """Discharge time from v_hi to v_lo [s] by quadrature in u = ln V."""

@@ -49,11 +49,13 @@ import pandas as pd
 
 from tradeoff import eseries
 from tradeoff.analysis import Uncertain
+from tradeoff.devices.supply_current import on_supply
+from tradeoff.devices.oscillator import crystal_period_s, rc_period_s, threshold_factor
 from tradeoff.errors import CatalogError, DesignError
 from tradeoff.selection import Block, Link, SelectionModel
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
-    at_temperature, diode, drop_count, drop_dominated, fixed_part, on_supply, part_of, role_bom, role_part, start_bom,
+    at_temperature, diode, drop_count, drop_dominated, fixed_part, part_of, role_bom, role_part, start_bom,
     start_checks, supply_problem, timing_candidates, value_spread, TEMPCO_REFERENCE_C,
 )
 from tradeoff.topologies import logic
@@ -63,7 +65,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
 
 __all__ = [
-    "threshold_factor", "rc_period_s", "stage_factor", "crystal_period_s", "oscillator_netlist",
+    "stage_factor", "oscillator_netlist",
     "RCCounter", "CrystalCounter", "RS_MIN_OHM", "RT_RANGE_OHM", "CT_MIN_F", "output_bit", "decoded_count",
     "parse_decode", "decode_text", "LoadSwitch", "NODE_DROP_V", "DECODE_MAX_OUTPUTS",
 ]
@@ -110,28 +112,11 @@ _RT = Role("r_timing", "resistor", *RT_RANGE_OHM, "oscillator timing resistor Rt
 _CT = Role("c_timing", "capacitor", CT_MIN_F, CT_MAX_F, "oscillator timing capacitor Ct", ("film", "ceramic"))
 
 
-# ---- physics ------------------------------------------------------------------------------
-
-def threshold_factor(vt_frac):
-    """F(v) = T/(R·C) of a two-inverter RC oscillator with threshold v = Vt/VDD (0 < v < 1)."""
-    v = np.asarray(vt_frac, dtype=float)
-    return np.log((1.0 + v) / v) + np.log((2.0 - v) / (1.0 - v))
-
-
-def rc_period_s(rt_ohm, ct_f, k, vt_frac, vt_typ_frac=0.5):
-    """Oscillator period [s]: the datasheet's k·Rt·Ct at the typical threshold, scaled by F(v)/F(v_typ)."""
-    return k * np.asarray(rt_ohm) * ct_f * threshold_factor(vt_frac) / threshold_factor(vt_typ_frac)
-
+# ---- divider and oscillator netlist ---------------------------------------------------------------------------
 
 def stage_factor(n_total):
     """Oscillator periods until counter stage N goes high: 2^(N−1) (4060-type datasheets)."""
     return np.power(2.0, np.asarray(n_total, dtype=float) - 1.0)
-
-
-def crystal_period_s(f0_hz, tolerance_frac, aging_frac, parabolic_per_k2, turnover_c, ambient_c):
-    """Crystal period [s]: 1/(f0·(1 + tolerance + aging + β·(T − T0)²))."""
-    dt = np.asarray(ambient_c, dtype=float) - turnover_c
-    return 1.0 / (f0_hz * (1.0 + tolerance_frac + aging_frac + parabolic_per_k2 * dt * dt))
 
 
 def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, vt_frac: float, title: str,

@@ -9,7 +9,7 @@ analysis): with the capacitor starting discharged and a constant current Ix draw
 
 and no unit ever times out once Ix·R reaches Vcc/3. Ix is taken at the highest voltage the
 capacitor reaches (2/3 Vcc, the conservative reading): for an electrolytic, the datasheet
-leakage limit (0.01·C·V or 3 uA, scaled to voltage and temperature by tradeoff.physics) in the
+leakage limit (0.01·C·V or 3 uA, scaled to voltage and temperature by tradeoff.devices.capacitor) in the
 worst case and the class's typical fraction for nominal; for film and ceramic, the minimum
 insulation resistance. The datasheet class adds its initial error, temperature drift and
 supply drift as factors on t; R and C carry their tolerance and temperature coefficient.
@@ -28,7 +28,9 @@ from typing import TYPE_CHECKING, Mapping
 import numpy as np
 import pandas as pd
 
-from tradeoff import physics
+from tradeoff.devices import capacitor
+from tradeoff.devices.supply_current import on_supply
+from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, monostable_width_s
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import CatalogError
 from tradeoff.candidates import rated_voltage
@@ -36,7 +38,7 @@ from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
-    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, on_supply, part_of, role_bom, role_part,
+    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, part_of, role_bom, role_part,
     start_bom, start_checks, supply_problem, timing_candidates, typical_to_limit, value_spread,
 )
 from tradeoff.units import format_quantity as fq
@@ -44,13 +46,7 @@ from tradeoff.units import format_quantity as fq
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
 
-__all__ = ["Timer555", "monostable_width_s", "THRESHOLD_FRAC", "monostable_netlist"]
-
-THRESHOLD_FRAC = 2.0 / 3.0
-"""Threshold comparator level as a fraction of the supply (NE555 and TLC555 datasheets)."""
-
-TRIGGER_FRAC = 1.0 / 3.0
-"""Trigger comparator level as a fraction of the supply (NE555 and TLC555 datasheets)."""
+__all__ = ["Timer555", "monostable_netlist"]
 
 R_MIN_OHM = 1e3
 """Smallest timing resistance considered [ohm]: below it the discharge transistor's saturation
@@ -72,19 +68,6 @@ _ROLES = (
     Role("r_timing", "resistor", R_MIN_OHM, R_HI_OHM, "timing resistor"),
     Role("c_timing", "capacitor", *C_RANGE_F, "timing capacitor", ("electrolytic", "film", "ceramic")),
 )
-
-
-def monostable_width_s(r_ohm, c_f, ix_a, vcc_v):
-    """Monostable pulse width t = R·C·ln((Vcc − Ix·R)/(Vcc/3 − Ix·R)) [s]; inf where Ix·R >= Vcc/3.
-
-    r_ohm [ohm], c_f [F], ix_a: constant current drawn from the capacitor [A], vcc_v [V]; arrays broadcast.
-    """
-    drop = np.asarray(ix_a, dtype=float) * r_ohm
-    headroom = np.asarray(vcc_v, dtype=float) * TRIGGER_FRAC - drop
-    ok = headroom > 0
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = r_ohm * c_f * np.log((vcc_v - drop) / np.where(ok, headroom, 1.0))
-    return np.where(ok, t, np.inf)
 
 
 def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, title: str) -> str:
@@ -175,21 +158,21 @@ class Timer555(Topology):
                 *role_bom(self, design, _ROLES[1], "C1", "timing capacitor"),
                 *self._support(self._timer(design))]
 
-    # ---- physics -----------------------------------------------------------------------
+    # ---- device laws --------------------------------------------------------------------
     def _cap_model(self, c_part: "Part", c_nominal_f):
         """Leakage limit at (supply [V], ambient [degC]) -> [A] for the timing capacitor, and the nominal fraction."""
         if c_part.fields.get("dielectric") == "electrolytic":
             rated = rated_voltage(c_part, self.brief.supply.max_v) or max(c_part.values("rated_voltages", "V"))
 
             def limit(v, t):
-                return physics.electrolytic_leakage_a(c_nominal_f, THRESHOLD_FRAC * v, rated, t, c_part)
+                return capacitor.electrolytic_leakage_a(c_nominal_f, THRESHOLD_FRAC * v, rated, t, c_part)
 
             v0, t0 = self.brief.supply.nominal_v, TEMPCO_REFERENCE_C
-            typical = physics.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part, typical=True)
-            frac = float(typical / physics.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part))
+            typical = capacitor.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part, typical=True)
+            frac = float(typical / capacitor.electrolytic_leakage_a(1.0, THRESHOLD_FRAC * v0, rated, t0, c_part))
             return limit, frac, "electrolytic leakage: datasheet limit (k·C·V or the floor) for the worst case, " \
                                 f"typical fraction {frac:.3g} of it for nominal ({c_part.source('leakage_typical_frac')})"
-        r_ins = physics.insulation_resistance_ohm(c_nominal_f, c_part)
+        r_ins = capacitor.insulation_resistance_ohm(c_nominal_f, c_part)
 
         def limit(v, t):
             return THRESHOLD_FRAC * v / r_ins
