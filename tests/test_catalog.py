@@ -195,7 +195,7 @@ def test_value_is_si_and_dimension_checked(shipped):
     assert part.value("tolerance", "") == 0.2
     assert part.values("rated_voltages", "V")[:3] == (6.3, 10.0, 16.0)
     with pytest.raises(CatalogError, match=r"passives\.yaml:\d+:\d+: cap-electrolytic-85c\.params\.leakage_floor: "
-                                           r"'3 uA' is a current; expected a voltage"):
+                                           r"'3 uA' is a current; accepted: a voltage"):
         part.value("leakage_floor", "V")
     with pytest.raises(CatalogError, match=r"rated_voltages: is a list of 8 values"):
         part.value("rated_voltages", "V")
@@ -332,10 +332,10 @@ def test_malformed_catalog_reports_location(tmp_path, old, new, line, column, ke
 
 def test_malformed_whole_documents(tmp_path):
     cases = [("", "the file is empty"), ("- a\n", "expected a mapping with a 'parts:' list"),
-             (GOOD.replace('"1 %"', "&loop [*loop]"), "a list of lists is not accepted"),
+             (GOOD.replace('"1 %"', "&loop [*loop]"), "an alias inside its own anchor (a recursive alias)"),
              (GOOD.replace('"1 %"', "[[1, 2]]"), "a list of lists is not accepted"),
              (GOOD.replace('"1 %"', "{a: 1}"), "a dict is not a value"),
-             ("parts: &p\n  - *p\n", "expected a part entry"),
+             ("parts: &p\n  - *p\n", "an alias inside its own anchor"),
              ("parts: 3\n", "expected a list of part entries"), ("other: 1\n", "unknown key 'other'"),
              ("parts:\n  - 3\n", "expected a part entry")]
     for text, fragment in cases:

@@ -4,7 +4,6 @@ from __future__ import annotations
 import pytest
 from click.testing import CliRunner
 
-from tradeoff import brief as brief_module
 from tradeoff.cli import cli
 
 from conftest import EXAMPLES
@@ -43,13 +42,13 @@ analysis:
 # (id, {line: replacement text, "#" blanks it}, [(line, column, key, message fragment), ...])
 MALFORMED = [
     # wrong dimension
-    ("time-given-volts", {3: "  nominal: 12 V"}, [(3, 12, "delay.nominal", "'12 V' is a voltage; expected a time")]),
-    ("temperature-given-volts", {6: "  min: 5 V"}, [(6, 8, "ambient.min", "is a voltage; expected a temperature")]),
-    ("supply-given-seconds", {9: "  nominal: 12 s"}, [(9, 12, "supply.nominal", "is a time; expected a voltage")]),
+    ("time-given-volts", {3: "  nominal: 12 V"}, [(3, 12, "delay.nominal", "'12 V' is a voltage; accepted: a time")]),
+    ("temperature-given-volts", {6: "  min: 5 V"}, [(6, 8, "ambient.min", "is a voltage; accepted: a temperature")]),
+    ("supply-given-seconds", {9: "  nominal: 12 s"}, [(9, 12, "supply.nominal", "is a time; accepted: a voltage")]),
     ("coil-resistance-in-volts", {17: "    coil_resistance: 400 V"},
-     [(17, 22, "load.relay.coil_resistance", "is a voltage; expected a resistance")]),
+     [(17, 22, "load.relay.coil_resistance", "is a voltage; accepted: a resistance")]),
     ("switched-current-in-volts", {22: "    current: 230 V"},
-     [(22, 14, "load.switched.current", "is a voltage; expected a current")]),
+     [(22, 14, "load.switched.current", "is a voltage; accepted: a current")]),
     ("prefix-space-molar", {17: "    coil_resistance: 0.4k ohm"},
      [(17, 22, "load.relay.coil_resistance", "space between the prefix 'k' and the unit 'ohm'")]),
     ("milliohm-typo", {17: "    coil_resistance: 2.2 mohm"},
@@ -160,7 +159,9 @@ def test_every_problem_is_reported_at_once(tmp_path):
 
 
 def test_unknown_topology_gets_did_you_mean(tmp_path, monkeypatch):
-    monkeypatch.setattr(brief_module, "known_topologies", lambda: ("rc_darlington", "cmos_555", "counter_osc"))
+    import tradeoff.topologies.registry as registry
+
+    monkeypatch.setattr(registry, "topology_ids", lambda *_: ["rc_darlington", "cmos_555", "counter_osc"])
     path = _write(tmp_path, {24: "topologies: [rc_darlinton, cmos_555]", 25: "#", 26: "#", 27: "#"})
     result = CliRunner().invoke(cli, ["check", str(path)])
     assert result.exit_code == 2
@@ -183,7 +184,7 @@ def test_empty_or_non_mapping_brief(tmp_path, text, fragment):
 def test_missing_file_exits_2(tmp_path):
     result = CliRunner().invoke(cli, ["check", str(tmp_path / "nope.yaml")])
     assert result.exit_code == 2
-    assert "cannot read the brief (FileNotFoundError" in result.stderr
+    assert "cannot read the brief (No such file or directory)" in result.stderr
 
 
 @pytest.mark.parametrize("name", ["towel_rail_boost", "glue_pot_warmer", "fan_run_on", "propagator_mat"])

@@ -70,3 +70,130 @@ def test_an_unexpected_exception_is_one_line_with_the_internal_exit_code(monkeyp
     result = _run("check", EXAMPLES / "towel_rail_boost.yaml")
     assert result.exit_code == EXIT_INTERNAL
     assert "internal error (ZeroDivisionError" in result.output and "Traceback" not in result.output
+
+
+# ---- one bounded reader for every input file (issue 13 items 1, 3, 8) -----------------------
+
+GOOD_BRIEF = (EXAMPLES / "towel_rail_boost.yaml").read_text(encoding="utf-8")
+
+
+def _subprocess(*args, timeout: float = 60):
+    """The CLI in its own process (hang-prone cases: a timeout fails the test instead of hanging the suite)."""
+    import subprocess
+    import sys
+
+    return subprocess.run([sys.executable, "-m", "tradeoff", *map(str, args)], capture_output=True, text=True,
+                          timeout=timeout, cwd=ROOT)
+
+
+def _check(path: Path):
+    result = _run("check", path)
+    assert "Traceback" not in result.output
+    return result
+
+
+def _alias_bomb() -> str:
+    lines = ["l0: &l0 [x, x, x, x, x, x, x, x, x, x]"]
+    lines += [f"l{i}: &l{i} [{', '.join([f'*l{i - 1}'] * 10)}]" for i in range(1, 9)]
+    return "\n".join(lines) + "\n"
+
+
+@pytest.mark.parametrize("name, text, line, fragment", [
+    ("alias bomb", GOOD_BRIEF + "extra:\n" + "".join("  " + row + "\n" for row in _alias_bomb().splitlines()),
+     None, "once aliases are expanded; accepted: at most 200,000"),
+    ("100k near-miss keys", GOOD_BRIEF + "".join(f"weightz{i}: 1\n" for i in range(100_000)), None,
+     "more than 20,000 keys"),
+    ("990-deep mapping", GOOD_BRIEF + "".join("  " * i + f"k{i}:\n" for i in range(990)) + "  " * 990 + "v\n",
+     None, "nesting deeper than 40 levels"),
+    ("20 MB title", "title: " + "x" * 20_000_000 + "\n", None, "is larger than 4 MB"),
+    ("a 20 kB title", GOOD_BRIEF.replace("title:", f"title: {'y' * 20_000}\nold_title:", 1), 6,
+     "a text of 20,000 characters; accepted: at most 10,000"),
+    ("a 5000-digit integer", GOOD_BRIEF.replace("analysis:", "analysis:\n  seed: " + "9" * 5000 + "\nold:"), None,
+     "a number of 5,000 characters"),
+    ("recursive alias", GOOD_BRIEF + "loop: &loop [*loop]\n", None, "recursive alias"),
+    ("NUL character", GOOD_BRIEF.replace("title:", "title:\x00", 1), 6, "control character U+0000"),
+    ("escape character", GOOD_BRIEF + "x: a\x1bb\n", None, "control character U+001B"),
+])
+def test_input_limits_are_located_refusals(tmp_path, name, text, line, fragment):
+    # issue 13 item 1: each limit is a located FILE:LINE:COLUMN error with exit 2, within seconds
+    path = tmp_path / "brief.yaml"
+    path.write_text(text, encoding="utf-8")
+    result = _subprocess("check", path)
+    assert result.returncode == EXIT_INPUT, result.stderr[-2000:]
+    assert "Traceback" not in result.stderr
+    first = result.stderr.splitlines()[0]
+    assert first.startswith(f"Error: {path}"), first
+    assert fragment in first, first
+    if line is not None:
+        assert first.startswith(f"Error: {path}:{line}:"), first
+    if "MB" not in fragment:  # the size refusal has no place in the text to point at
+        assert first.split(f"{path}:", 1)[1].split(":")[0].isdigit(), first
+
+
+def test_non_utf8_bytes_are_located_by_line_and_column(tmp_path):
+    path = tmp_path / "brief.yaml"
+    path.write_bytes(GOOD_BRIEF.encode("utf-8").replace(b"title: ", b"title: caf\xe9 ", 1))
+    result = _check(path)
+    assert result.exit_code == EXIT_INPUT
+    line = 1 + GOOD_BRIEF[:GOOD_BRIEF.index("title:")].count("\n")
+    assert f"{path}:{line}:11: byte 0xe9 is not UTF-8" in result.output  # 'title: caf' is 10 characters
+
+
+@pytest.mark.parametrize("special", ["fifo", "directory", "/dev/zero", "/dev/null"])
+def test_only_regular_files_are_read(tmp_path, special):
+    # a FIFO with no writer would block a plain open(); /dev/zero would fill the memory
+    if special == "fifo":
+        path = tmp_path / "pipe.yaml"
+        os.mkfifo(path)
+    elif special == "directory":
+        path = tmp_path / "dir.yaml"
+        path.mkdir()
+    else:
+        path = Path(special)
+    for command in (["check", path], ["analyze", path], ["catalog", "--catalog", path]):
+        result = _subprocess(*command, timeout=30)
+        assert result.returncode == EXIT_INPUT, result.stderr
+        assert str(path) in result.stderr and "Traceback" not in result.stderr
+
+
+def test_a_bom_and_yaml_1_1_numbers_read_as_meant(tmp_path):
+    from tradeoff.brief import load_brief
+
+    path = tmp_path / "brief.yaml"
+    path.write_text("\ufeff" + GOOD_BRIEF.replace("samples: 20000", "samples: 2e4", 1), encoding="utf-8")
+    brief = load_brief(path)
+    assert brief.analysis.samples == 20000 and isinstance(brief.analysis.samples, int)
+
+
+def test_many_unknown_keys_get_few_suggestions_and_a_count(tmp_path):
+    # issue 13 item 3: suggestions for the first few unknown keys, then "and N more"; problems capped
+    path = tmp_path / "brief.yaml"
+    path.write_text(GOOD_BRIEF + "".join(f"weightz{i}: 1\n" for i in range(5000)), encoding="utf-8")
+    result = _check(path)
+    assert result.exit_code == EXIT_INPUT
+    rows = result.output.splitlines()
+    assert sum("unknown key 'weightz" in row for row in rows) == 3
+    assert any("and 4997 more unknown keys" in row for row in rows)
+
+
+def test_suggestions_only_when_really_close():
+    from tradeoff.fields import closest
+
+    assert closest("nominl", ["nominal", "tolerance"]) == "nominal"  # one letter missing
+    assert closest("E25", ["E24", "E12"]) == "E24"  # one substitution
+    assert closest("comparator", ["comparator-nanopower"]) == "comparator-nanopower"  # start of the name
+    assert closest("delay.tolerance", ["load.relay.coil_resistance", "delay.nominal"]) is None
+    assert closest("weightz0", ["weights"]) == "weights"
+    assert closest("xyz", ["title", "delay"]) is None
+
+
+@pytest.mark.parametrize("written, fragment", [
+    ("\uff11\uff12 V", "supply.nominal: '\uff11\uff12 V' has digits other than ASCII 0-9"),  # never read as 12 V
+    ("1e308 V", "supply.nominal: 1e308 V is outside the accepted range; accepted: 1 V to 60 V"),  # not '1e+296 TV'
+])
+def test_odd_numbers_are_refused_as_written(tmp_path, written, fragment):
+    path = tmp_path / "brief.yaml"
+    path.write_text(GOOD_BRIEF.replace("nominal: 12 V", f"nominal: {written}", 1), encoding="utf-8")
+    result = _check(path)
+    assert result.exit_code == EXIT_INPUT
+    assert fragment in result.output and "TV" not in result.output

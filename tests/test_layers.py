@@ -26,10 +26,6 @@ REPORT_USERS = ("tradeoff.cli", "tradeoff.__main__")
 """The only modules outside `tradeoff.report` that may import a report module: the command shell."""
 
 ALLOWED = {
-    ("tradeoff.brief", "tradeoff.topologies.registry"):
-        "the brief checks topology names against the registry; the check moves where the registry is in scope",
-    ("tradeoff.cautions", "tradeoff.brief"):
-        "cautions <-> brief circle: the brief imports the hazardous-voltage threshold from cautions",
     ("tradeoff.design", "tradeoff.topologies.base"):
         "design loading builds the Design value object defined with the topology interface",
     ("tradeoff.design", "tradeoff.topologies.registry"):

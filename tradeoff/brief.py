@@ -43,8 +43,6 @@ load 1 uA .. 10 A; switched 1 V .. 440 V and 1 mA .. 32 A; standby limit 1 nA ..
 from __future__ import annotations
 
 import copy
-import difflib
-import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -53,20 +51,24 @@ from typing import Any, Literal
 import yaml
 from pydantic import BaseModel, ConfigDict, PrivateAttr, ValidationError
 
-from tradeoff import yamlpos
-from tradeoff.cautions import HAZARDOUS_VOLTAGE_V
+from tradeoff import inputfile, yamlpos
 from tradeoff.errors import BriefError, Problem, UnitParseError
-from tradeoff.units import format_quantity, parse_fraction, parse_quantity
+from tradeoff.fields import (Invalid, Problems, boolean, choice, closest, dotted, first_unknown, fraction, number,
+                             quantity, show, text)
+from tradeoff.units import format_quantity
 
 __all__ = [
     "Brief", "Delay", "Ambient", "Supply", "Load", "Switched", "Limits", "Weights", "Series",
-    "Analysis", "BriefValue", "load_brief", "brief_from_node", "known_topologies",
+    "Analysis", "BriefValue", "load_brief", "brief_from_node", "HAZARDOUS_VOLTAGE_V",
 ]
 
 SERIES_NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
 SeriesName = Literal["E3", "E6", "E12", "E24", "E48", "E96", "E192"]
 
 DAY_S = 86400.0
+HAZARDOUS_VOLTAGE_V = 50.0
+"""Switched voltage above which the mains cautions apply even when the brief does not say 'mains' [V]
+(the usual extra-low-voltage boundary, common practice)."""
 MAINS_MIN_V = 100.0  # lowest public mains voltage in use (100 V, Japan), from memory
 SUPPLY_SPREAD = {"unregulated": (-0.10, 0.20), "regulated": (-0.05, 0.05)}  # common practice
 
@@ -218,6 +220,17 @@ class Brief(_Frozen):
         """Normalised brief: SI values under unit-suffixed keys, plain lists, path as text."""
         return self.model_dump(mode="json")
 
+    def check_topologies(self, known: Sequence[str]) -> None:
+        """Raise BriefError, at each name's line and column in the brief, for a listed topology not in `known`
+        (the registered ids: the registry is read by the caller, so the brief knows no topology module)."""
+        unknown = [(i, name) for i, name in enumerate(self.topologies) if name != "all" and name not in known]
+        if unknown:
+            accepted = f"all, or a list of: {', '.join(known)}"
+            raise BriefError([Problem(self._source, *yamlpos.locate(self._root, ("topologies", i)), f"topologies[{i}]",
+                                      f"unknown topology '{name}'"
+                                      f"{f' (did you mean {close!r}?)' if (close := closest(name, known)) else ''}; "
+                                      f"accepted: {accepted}") for i, name in unknown])
+
     def replace(self, changes: Mapping[str, object]) -> "Brief":
         """A validated copy with dotted YAML keys changed ({"delay.nominal": "1 h"}); None removes a key.
 
@@ -239,128 +252,6 @@ class Brief(_Frozen):
         return _build(data, self._source, self.path, self._root, changed=frozenset(changes))
 
 
-def known_topologies() -> tuple[str, ...] | None:
-    """Registered topology ids, or None when nothing is registered yet (then any name is accepted).
-
-    Reads the topology registry; while its catalog module is not there yet, reads the ids in
-    catalogs/topologies.yaml directly.
-    """
-    try:
-        from tradeoff.topologies.registry import topology_ids
-    except ModuleNotFoundError:
-        pass
-    else:
-        try:
-            ids = topology_ids()
-        except ModuleNotFoundError as exc:  # the catalog loader is not written yet
-            if not (exc.name or "").startswith("tradeoff"):
-                raise
-        else:
-            return tuple(ids) or None
-    here = Path(__file__).resolve().parent
-    for candidate in (here / "catalogs" / "topologies.yaml", here.parent / "catalogs" / "topologies.yaml"):
-        if candidate.is_file():
-            data = yaml.safe_load(candidate.read_text(encoding="utf-8")) or {}
-            ids = [p.get("id") for p in data.get("parts", []) if isinstance(p, dict)]
-            return tuple(i for i in ids if isinstance(i, str)) or None
-    return None
-
-
-class _Invalid(ValueError):
-    """A value that parsed but is not acceptable; the message says what is accepted."""
-
-
-def _show(value: object) -> str:
-    """Short text of a user value for messages."""
-    text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
-
-
-def _plain(value: float) -> str:
-    """A plain number for messages: integers in full, others in short form."""
-    return str(int(value)) if float(value).is_integer() else f"{value:g}"
-
-
-def _did_you_mean(word: str, options: Sequence[str]) -> str:
-    close = difflib.get_close_matches(word, options, n=1, cutoff=0.6)
-    return f" (did you mean '{close[0]}'?)" if close else ""
-
-
-def _dotted(path: Sequence[str | int]) -> str:
-    text = ""
-    for step in path:
-        text += f"[{step}]" if isinstance(step, int) else (f".{step}" if text else str(step))
-    return text
-
-
-def quantity(unit: str, lo: float, hi: float) -> Callable[[object], float]:
-    """Parser for a quantity in `unit`, accepted within [lo, hi] (SI, or degC)."""
-
-    def parse(raw: object) -> float:
-        value = parse_quantity(raw, unit)
-        if not lo <= value <= hi:
-            raise _Invalid(f"{format_quantity(value, unit)} is outside the accepted range; accepted: "
-                           f"{format_quantity(lo, unit)} to {format_quantity(hi, unit)}")
-        return value
-
-    return parse
-
-
-def fraction(lo: float, hi: float, *, open_lo: bool = False, open_hi: bool = False) -> Callable[[object], float]:
-    """Parser for a percentage or fraction accepted between lo and hi (fractions)."""
-
-    def parse(raw: object) -> float:
-        value = parse_fraction(raw)
-        if value < lo or value > hi or (open_lo and value == lo) or (open_hi and value == hi):
-            raise _Invalid(f"{format_quantity(value, '%')} is outside the accepted range; accepted: "
-                           f"{'above' if open_lo else 'from'} {format_quantity(lo, '%')} "
-                           f"{'and below' if open_hi else 'to'} {format_quantity(hi, '%')}")
-        return value
-
-    return parse
-
-
-def number(lo: float, hi: float, *, integer: bool = False) -> Callable[[object], float | int]:
-    """Parser for a plain number (an integer with `integer`) within [lo, hi]."""
-    kind = f"{'an integer' if integer else 'a number'} from {_plain(lo)} to {_plain(hi)}"
-
-    def parse(raw: object) -> float | int:
-        ok_types = (int,) if integer else (int, float)
-        if isinstance(raw, bool) or not isinstance(raw, ok_types) or not math.isfinite(raw):
-            raise _Invalid(f"got {_show(raw)}; accepted: {kind}")
-        if not lo <= raw <= hi:
-            raise _Invalid(f"{_plain(raw)} is outside the accepted range; accepted: {kind}")
-        return raw if integer else float(raw)
-
-    return parse
-
-
-def choice(options: Sequence[str]) -> Callable[[object], str]:
-    """Parser for one of `options` (exact spelling)."""
-
-    def parse(raw: object) -> str:
-        if isinstance(raw, str) and raw in options:
-            return raw
-        hint = _did_you_mean(raw, options) if isinstance(raw, str) else ""
-        raise _Invalid(f"got {_show(raw)}{hint}; accepted: {', '.join(options)}")
-
-    return parse
-
-
-def boolean(raw: object) -> bool:
-    """Parser for true/false."""
-    if isinstance(raw, bool):
-        return raw
-    raise _Invalid(f"got {_show(raw)}; accepted: true or false")
-
-
-def text(raw: object) -> str:
-    """Parser for a one-line title."""
-    if isinstance(raw, str) and raw.strip() and len(raw) <= 200 and "\n" not in raw.strip():
-        return raw.strip()
-    raise _Invalid(f"got {_show(raw)}; accepted: one line of text, 1 to 200 characters")
-
-
 _MISSING = object()
 
 
@@ -369,11 +260,13 @@ class _Reader:
 
     def __init__(self, source: str, root: yaml.Node | None, changed: frozenset[str]):
         self.source, self.root, self.changed = source, root, changed
-        self.problems: list[Problem] = []
+        self.problems = Problems()
         self.values: list[BriefValue] = []
 
     def problem(self, path: Sequence[str | int], message: str, *, at_key: bool = False) -> None:
-        key = _dotted(path)
+        if self.problems.full():
+            return
+        key = dotted(path)
         if any(key == c or key.startswith(c + ".") for c in self.changed):
             self.problems.append(Problem(self.source, None, None, key, f"{message} (value set by a change)"))
             return
@@ -385,17 +278,20 @@ class _Reader:
         if raw is None and not required:
             return {}
         if not isinstance(raw, dict):
-            self.problem(path, f"got {_show(raw)}; accepted: a mapping with keys {', '.join(keys)}")
+            self.problem(path, f"got {show(raw)}; accepted: a mapping with keys {', '.join(keys)}")
             return None
-        for key in raw:
-            if key not in keys:
-                hint = _did_you_mean(key, keys) if isinstance(key, str) else ""
-                self.problem(path + (key,), f"unknown key {_show(key)}{hint}; accepted keys: {', '.join(keys)}",
-                             at_key=True)
+        unknown, more = first_unknown(raw, keys)
+        for key in unknown:
+            close = closest(key, keys)
+            hint = f" (did you mean '{close}'?)" if close else ""
+            self.problem(path + (key,), f"unknown key {show(key)}{hint}; accepted keys: {', '.join(keys)}",
+                         at_key=True)
+        if more:
+            self.problem(path, f"and {more} more unknown keys; accepted keys: {', '.join(keys)}", at_key=True)
         for key in required:
             if key not in raw:
                 self.problem(path + (key,), f"missing required key '{key}'; add it under "
-                             f"{_dotted(path) or 'the top level'}")
+                             f"{dotted(path) or 'the top level'}")
         return raw
 
     def get(self, path: tuple, section: dict | None, key: str, parse: Callable[[object], Any], unit: str = "",
@@ -410,14 +306,14 @@ class _Reader:
             return default
         try:
             value = parse(section[key])
-        except (UnitParseError, _Invalid) as exc:
+        except (UnitParseError, Invalid) as exc:
             self.problem(path + (key,), str(exc))
             return None
         self.record(path + (key,), value, unit, "given")
         return value
 
     def record(self, path: tuple, value: object, unit: str, origin: str, note: str = "") -> None:
-        self.values.append(BriefValue(_dotted(path), value, unit, origin, note))
+        self.values.append(BriefValue(dotted(path), value, unit, origin, note))
 
     def check(self, condition: bool, path: tuple, message: str) -> None:
         """Report `message` at `path` when `condition` (a contradiction) holds."""
@@ -603,22 +499,19 @@ def _read_limits(r: _Reader, raw: object) -> dict | None:
 
 def _read_topologies(r: _Reader, raw: object) -> tuple[str, ...] | None:
     p = ("topologies",)
-    known = known_topologies()
-    accepted = f"all, or a list of: {', '.join(known)}" if known else "all, or a list of topology names"
+    accepted = "all, or a list of topology names (see `tradeoff topologies`)"
     if raw == "all":
         r.record(p, ("all",), "", "given")
         return ("all",)
     if not isinstance(raw, list) or not raw:
-        r.problem(p, f"got {_show(raw)}; accepted: {accepted}")
+        r.problem(p, f"got {show(raw)}; accepted: {accepted}")
         return None
     names: list[str] = []
     for index, name in enumerate(raw):
         if not isinstance(name, str):
-            r.problem(p + (index,), f"got {_show(name)}; accepted: {accepted}")
+            r.problem(p + (index,), f"got {show(name)}; accepted: {accepted}")
         elif name == "all":
             r.problem(p + (index,), "'all' inside a list; accepted: topologies: all, on its own")
-        elif known is not None and name not in known:
-            r.problem(p + (index,), f"unknown topology '{name}'{_did_you_mean(name, known)}; accepted: {accepted}")
         elif name in names:
             r.problem(p + (index,), f"'{name}' is listed twice; accepted: each topology once")
         else:
@@ -690,12 +583,11 @@ def _build(data: object, source: str, path: Path | None, root: yaml.Node | None,
                                        "key given twice; accepted: each key once per section"))
     values = _read(reader, data)
     if reader.problems or values is None:
-        in_file_order = sorted(reader.problems, key=lambda q: (q.line is None, q.line or 0, q.column or 0))
-        raise BriefError(in_file_order or [Problem(source, None, None, "", "brief could not be read")])
+        raise BriefError(reader.problems.listed() or [Problem(source, None, None, "", "brief could not be read")])
     try:
         brief = Brief.model_validate({**values, "path": path})
     except ValidationError as exc:  # a reader bug, still reported at the right place
-        raise BriefError([Problem(source, *yamlpos.locate(root, e["loc"]), _dotted(e["loc"]), e["msg"])
+        raise BriefError([Problem(source, *yamlpos.locate(root, e["loc"]), dotted(e["loc"]), e["msg"])
                           for e in exc.errors(include_url=False)]) from None
     brief._data = copy.deepcopy(data)
     brief._source = source
@@ -722,8 +614,8 @@ def load_brief(path_or_text: str | Path, *, source_name: str | None = None) -> B
     is_path = isinstance(path_or_text, Path) or ("\n" not in path_or_text and not path_or_text.lstrip().startswith("{"))
     path = Path(path_or_text) if is_path else None
     source = source_name or (str(path) if path else "<brief>")
-    content = yamlpos.read_file(path, source, BriefError, "the brief") if path is not None else path_or_text
-    root, data = yamlpos.load_located(content, source, BriefError)
+    content = inputfile.read_text(path, source, BriefError, "the brief") if path is not None else path_or_text
+    root, data = inputfile.parse_yaml(content, source, BriefError)
     if data is None:
         raise BriefError.single(source, "", "the brief is empty; accepted: a mapping with at least "
                                 "title, delay, supply and load", 1, 1)

@@ -14,7 +14,6 @@ collected and raised as one `CatalogError` with `FILE:LINE:COLUMN: key: message`
 from __future__ import annotations
 
 import dataclasses
-import difflib
 import functools
 import re
 from collections.abc import Iterable, Iterator, Mapping
@@ -24,9 +23,10 @@ from typing import Any
 
 import yaml
 
-from tradeoff import yamlpos
+from tradeoff import inputfile
 from tradeoff.errors import CatalogError, Problem, UnitParseError
-from tradeoff.units import parse_fraction, parse_quantity
+from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean
+from tradeoff.units import LEADING_NUMBER_RE, parse_fraction, parse_quantity
 
 __all__ = [
     "CATEGORIES",
@@ -34,7 +34,6 @@ __all__ = [
     "Catalog",
     "Param",
     "Part",
-    "did_you_mean",
     "load_catalog",
     "shipped_catalog_dir",
     "shipped_catalog_names",
@@ -60,17 +59,10 @@ _PARAM_KEYS = ("value", "source", "note")
 _ID_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._+-]*$")
 _NAME_RE = re.compile(r"^[a-z][a-z0-9_]*$")
 _MODULE_RE = re.compile(r"^tradeoff\.topologies\.[a-z_][a-z0-9_]*$")
-_LEADING_NUMBER_RE = re.compile(r"^\s*[+\-\u2212]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(.*?)\s*$")
 _BARE_PREFIXES = set("GMkmunpµμ")
 _DIMENSIONLESS = ("", "1", "dimensionless")
 _VALUE_ACCEPTED = ("accepted: a number, a quantity with its unit ('1.4 V', '3 uA', '50 ppm/K'), "
                    "a percentage ('20 %') or a list of these")
-
-
-def did_you_mean(word: str, choices: Iterable[str]) -> str:
-    """' did you mean 'x'?' for the closest of `choices`, or '' when none is close."""
-    close = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=0.6)
-    return f" did you mean '{close[0]}'?" if close else ""
 
 
 def shipped_catalog_dir() -> Path:
@@ -93,7 +85,7 @@ def _check_text(text: str) -> str | None:
         if "%" in text and not re.search(r"%\s*/", text):
             parse_fraction(text)
             return None
-        match = _LEADING_NUMBER_RE.match(text)
+        match = LEADING_NUMBER_RE.match(text)
         own_unit = match.group(1) if match else ""
         if own_unit in _BARE_PREFIXES:
             return f"'{text.strip()}' has the prefix '{own_unit}' but no unit"
@@ -104,7 +96,7 @@ def _check_text(text: str) -> str | None:
         except ValueError:  # pint does not know the unit: read as a plain number for the reason
             parse_quantity(text, "")
     except UnitParseError as exc:  # its tail names the dimension we guessed: drop it
-        return str(exc).split("; expected ", 1)[0]
+        return str(exc).split("; accepted: ", 1)[0]
     return None
 
 
@@ -273,35 +265,29 @@ class Part:
 class _FileReader:
     """Validates one catalog file into parts, collecting every problem with its line and column.
 
-    Positions are the marks of the composed node tree (tradeoff.yamlpos.compose), read while walking it.
+    Positions are the marks of the composed node tree (tradeoff.inputfile.read_yaml), read while walking it.
     """
 
     def __init__(self, path: Path):
         self.path = path
         self.file = str(path)
-        self.problems: list[Problem] = []
+        self.problems = Problems()
         self.constructor = yaml.constructor.SafeConstructor()
 
     def problem(self, node: yaml.Node | None, key: str, message: str) -> None:
+        if self.problems.full():
+            return
         mark = node.start_mark if node is not None else None
         self.problems.append(Problem(self.file, mark.line + 1 if mark else None,
                                      mark.column + 1 if mark else None, key, message))
 
     def read(self) -> list[Part]:
         try:
-            text = self.path.read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError) as exc:
-            self.problem(None, "", f"cannot read the catalog file ({exc.__class__.__name__}: {exc}); "
-                                   "accepted: a readable UTF-8 YAML file")
+            root, _ = inputfile.read_yaml(self.path, self.file, CatalogError, "the catalog file", construct=False)
+        except CatalogError as exc:
+            self.problems.extend(exc.problems)
             return []
-        try:
-            return self._document(yamlpos.compose(text))
-        except yaml.YAMLError as exc:
-            line, column = yamlpos.syntax_error_position(exc)
-            what = getattr(exc, "problem", None) or getattr(exc, "context", None) or str(exc)
-            self.problems.append(Problem(self.file, line, column, "", f"YAML syntax error: {what}; "
-                                                                      "accepted: valid YAML"))
-        return []
+        return self._document(root)
 
     def mapping(self, node: yaml.Node, key: str, accepted: tuple[str, ...] | None,
                 what: str) -> dict[str, yaml.Node] | None:
@@ -310,6 +296,7 @@ class _FileReader:
             self.problem(node, key, f"expected {what}, got {_kind(node)}")
             return None
         children: dict[str, yaml.Node] = {}
+        unknown = 0
         for key_node, value_node in node.value:
             name = key_node.value if isinstance(key_node, yaml.ScalarNode) else None
             path = f"{key}.{name}" if key else str(name)
@@ -319,10 +306,14 @@ class _FileReader:
                 self.problem(key_node, path, f"duplicate key '{name}' (line {children[name].start_mark.line + 1}); "
                                              "accepted: each key once")
             elif accepted is not None and name not in accepted:
-                self.problem(key_node, path, f"unknown key '{name}';{did_you_mean(name, accepted)} "
-                                             f"accepted: {', '.join(accepted)}")
+                unknown += 1
+                if unknown <= SUGGESTED_KEYS:
+                    self.problem(key_node, path, f"unknown key '{name}';{did_you_mean(name, accepted)} "
+                                                 f"accepted: {', '.join(accepted)}")
             else:
                 children[name] = value_node
+        if unknown > SUGGESTED_KEYS:
+            self.problem(node, key, f"and {unknown - SUGGESTED_KEYS} more unknown keys; accepted: {', '.join(accepted)}")
         return children
 
     def _document(self, root: yaml.Node | None) -> list[Part]:
@@ -385,7 +376,7 @@ class _FileReader:
                                 "a part entry (a mapping with id, category, description)")
         if children is None:
             return None, None
-        before = len(self.problems)
+        before = self.problems.count
         part_id = self.text(children, node, key, "id")
         if part_id is not None and not _ID_RE.match(part_id):
             self.problem(children["id"], f"{key}.id", f"id '{part_id}' has characters other than letters, digits "
@@ -401,7 +392,7 @@ class _FileReader:
                   for name in _FIELD_KEYS if name in children}
         self._check_fields(children, node, key, category, fields)
         params = self._params(children.get("params"), node, key, category)
-        if len(self.problems) > before:
+        if self.problems.count > before:
             return part_id, None
         positions = {name: (children[name].start_mark.line + 1, children[name].start_mark.column + 1)
                      for name in fields}
@@ -501,7 +492,7 @@ def _read_cached(path: str, mtime_ns: int, size: int) -> tuple[tuple[Part, ...],
     """Parts and problems of one file, cached by path and modification stamp."""
     reader = _FileReader(Path(path))
     parts = reader.read()
-    return tuple(parts), tuple(reader.problems)
+    return tuple(parts), tuple(reader.problems.listed())
 
 
 def _read(path: Path) -> tuple[tuple[Part, ...], tuple[Problem, ...]]:

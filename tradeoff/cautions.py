@@ -5,16 +5,9 @@ README check, so every output says the same thing.
 """
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
-if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.brief import Brief
+from tradeoff.brief import HAZARDOUS_VOLTAGE_V, Brief
 
 __all__ = ["HAZARDOUS_VOLTAGE_V", "needs_cautions", "cautions"]
-
-HAZARDOUS_VOLTAGE_V = 50.0
-"""Switched voltage above which the cautions apply even when the brief does not say 'mains' [V]
-(the usual extra-low-voltage boundary, common practice)."""
 
 CAUTIONS = (
     "Mains wiring is a shock and fire hazard: work on it only de-energised, and have it done or checked by a "
@@ -31,12 +24,12 @@ CAUTIONS = (
 )
 
 
-def needs_cautions(brief: "Brief") -> bool:
+def needs_cautions(brief: Brief) -> bool:
     """True when the switched load is mains or above the extra-low-voltage boundary."""
     switched = brief.load.switched
     return bool(switched.mains) or switched.voltage_v > HAZARDOUS_VOLTAGE_V
 
 
-def cautions(brief: "Brief") -> list[str]:
+def cautions(brief: Brief) -> list[str]:
     """The cautions that apply to `brief` (empty for a low-voltage-only brief)."""
     return list(CAUTIONS) if needs_cautions(brief) else []

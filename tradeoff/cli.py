@@ -72,7 +72,10 @@ def check(brief):
     from tradeoff.cautions import cautions
     from tradeoff.report.terminal import TABLE_BOX
 
+    from tradeoff.topologies.registry import topology_ids
+
     loaded = load_brief(brief)
+    loaded.check_topologies(topology_ids())
     console = Console()
     heading = f"{loaded.title} ({brief})"
     if console.is_terminal:

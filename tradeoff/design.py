@@ -42,13 +42,14 @@ from typing import TYPE_CHECKING, Any
 
 import yaml
 
-from tradeoff import yamlpos
+from tradeoff import inputfile, yamlpos
 from tradeoff.brief import brief_from_node, load_brief
-from tradeoff.catalog import did_you_mean, load_catalog
+from tradeoff.catalog import load_catalog
 from tradeoff.errors import BriefError, DesignError, InputError, Problem, UnitParseError
+from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean, show
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.registry import build_topology, topology_class, topology_ids
-from tradeoff.units import parse_fraction, parse_quantity
+from tradeoff.units import LEADING_NUMBER_RE, parse_fraction, parse_quantity
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -62,14 +63,7 @@ DESIGN_KEYS = ("brief", "topology", "values", "options", "overrides")
 
 _REQUIRED = ("brief", "topology")
 _ROLE_UNITS = {"resistor": "ohm", "capacitor": "F"}
-_LEADING_NUMBER = re.compile(r"^\s*[+\-\u2212]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(.*?)\s*$")
 _PLAIN_ACCEPTED = "a part class id, a named choice or a whole number"
-
-
-def _show(value: object) -> str:
-    """Short text of a user value for messages."""
-    text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
 
 
 class _Reader:
@@ -77,9 +71,12 @@ class _Reader:
 
     def __init__(self, source: str, root: yaml.Node | None):
         self.source, self.root = source, root
-        self.problems: list[Problem] = []
+        self.problems = Problems()
+        self.unknown_seen: dict[tuple, tuple[int, str]] = {}
 
     def problem(self, path: tuple, message: str, *, at_key: bool = False) -> None:
+        if self.problems.full():
+            return
         line, column = yamlpos.locate(self.root, path, at_key=at_key)
         self.problems.append(Problem(self.source, line, column, ".".join(map(str, path)), message))
 
@@ -88,30 +85,36 @@ class _Reader:
         if raw is None:
             return {}
         if not isinstance(raw, dict):
-            self.problem(path, f"got {_show(raw)}; accepted: a mapping of {what}")
+            self.problem(path, f"got {show(raw)}; accepted: a mapping of {what}")
             return {}
         bad = [key for key in raw if not isinstance(key, str)]
         for key in bad:
-            self.problem(path, f"key {_show(key)} is not a name; accepted: a mapping of {what}")
+            self.problem(path, f"key {show(key)} is not a name; accepted: a mapping of {what}")
         return {key: value for key, value in raw.items() if isinstance(key, str)}
 
     def unknown(self, path: tuple, name: str, what: str, accepted: list[str], owner: str = "") -> None:
         """Report an unknown name (of `owner`, e.g. 'of rc-darlington') with the closest accepted one."""
         listed = ", ".join(accepted) if accepted else "none"
-        self.problem(path + (name,), f"unknown {what} '{name}'{owner};{did_you_mean(name, accepted)} "
-                     f"accepted: {listed}", at_key=True)
+        seen, _ = self.unknown_seen.get(path, (0, ""))
+        self.unknown_seen[path] = seen + 1, f"unknown {what} names{owner}; accepted: {listed}"
+        if seen < SUGGESTED_KEYS:  # the rest get one line, with their count, when the file is done
+            self.problem(path + (name,), f"unknown {what} '{name}'{owner};{did_you_mean(name, accepted)} "
+                         f"accepted: {listed}", at_key=True)
 
     def raise_if_any(self) -> None:
+        for path, (count, what) in self.unknown_seen.items():
+            if count > SUGGESTED_KEYS:
+                self.problem(path, f"and {count - SUGGESTED_KEYS} more {what}")
+        self.unknown_seen.clear()
         if self.problems:
-            ordered = sorted(self.problems, key=lambda p: (p.line is None, p.line or 0, p.column or 0))
-            raise DesignError(ordered)
+            raise DesignError(self.problems.listed())
 
 
 def _quantity(r: _Reader, path: tuple, raw: object, unit: str) -> float | None:
     """A positive quantity in `unit` (or a bare positive number, taken as SI), or None after reporting."""
     accepted = f"accepted: a positive quantity with its unit (in {unit}), or a bare number in SI"
     if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
-        r.problem(path, f"got {_show(raw)}; {accepted}")
+        r.problem(path, f"got {show(raw)}; {accepted}")
         return None
     try:
         value = float(raw) if isinstance(raw, (int, float)) else parse_quantity(raw, unit)
@@ -119,7 +122,7 @@ def _quantity(r: _Reader, path: tuple, raw: object, unit: str) -> float | None:
         r.problem(path, f"{exc}; {accepted}")
         return None
     if not (math.isfinite(value) and value > 0):
-        r.problem(path, f"got {_show(raw)}; {accepted}")
+        r.problem(path, f"got {show(raw)}; {accepted}")
         return None
     return value
 
@@ -142,7 +145,7 @@ def _read_brief(r: _Reader, raw: object, design_path: Path | None, root: yaml.No
             r.problems.extend(Problem(p.file, p.line, p.column, f"brief.{p.key}" if p.key else "brief", p.message)
                               for p in exc.problems)
             return None
-    r.problem(("brief",), f"got {_show(raw)}; accepted: a brief file path relative to the design file, "
+    r.problem(("brief",), f"got {show(raw)}; accepted: a brief file path relative to the design file, "
               "or an inline mapping of brief fields")
     return None
 
@@ -151,7 +154,7 @@ def _read_topology(r: _Reader, raw: object, catalog: "Catalog") -> "type[Topolog
     known = topology_ids(catalog)
     if not isinstance(raw, str) or raw not in known:
         hint = did_you_mean(raw, known) if isinstance(raw, str) else ""
-        r.problem(("topology",), f"unknown topology {_show(raw)};{hint} accepted: {', '.join(known)} "
+        r.problem(("topology",), f"unknown topology {show(raw)};{hint} accepted: {', '.join(known)} "
                   "(see `tradeoff topologies`)")
         return None
     return topology_class(raw, catalog)
@@ -194,7 +197,7 @@ def _read_options(r: _Reader, raw: object, cls: "type[Topology]", catalog: "Cata
             if value is not None:
                 options[name] = value
         elif isinstance(item, bool) or not isinstance(item, (str, int)):
-            r.problem(path, f"got {_show(item)}; accepted: {_PLAIN_ACCEPTED}")
+            r.problem(path, f"got {show(item)}; accepted: {_PLAIN_ACCEPTED}")
         else:
             options[name] = item
     for name in cls.required_options:
@@ -212,7 +215,7 @@ def _part_option(r: _Reader, path: tuple, raw: object, category: str, catalog: "
         return True
     hint = did_you_mean(raw, ids) if isinstance(raw, str) else ""
     where = f" ('{raw}' is a {catalog.part(raw).category})" if isinstance(raw, str) and raw in catalog else ""
-    r.problem(path, f"{_show(raw)} is not a {category} part class{where};{hint} accepted: {', '.join(ids) or 'none'}"
+    r.problem(path, f"{show(raw)} is not a {category} part class{where};{hint} accepted: {', '.join(ids) or 'none'}"
               " (see `tradeoff catalog`)")
     return False
 
@@ -224,7 +227,7 @@ def _written_unit(value: object) -> str:
         return ""
     if "%" in item and not re.search(r"%\s*/", item):
         return "%"
-    match = _LEADING_NUMBER.match(item)
+    match = LEADING_NUMBER_RE.match(item)
     return match.group(1) if match else ""
 
 
@@ -241,13 +244,13 @@ def _override_value(r: _Reader, path: tuple, raw: object, written: object) -> ob
         shown = f"a quantity in {unit} (as the catalog's {example!r}) or a bare number in SI"
     items = raw if isinstance(raw, list) else [raw]
     if isinstance(raw, list) != isinstance(written, tuple) or not items:
-        r.problem(path, f"got {_show(raw)}; accepted: {'a list of ' if isinstance(written, tuple) else ''}{shown}")
+        r.problem(path, f"got {show(raw)}; accepted: {'a list of ' if isinstance(written, tuple) else ''}{shown}")
         return None
     converted = []
     for item in items:
         try:
             if isinstance(item, bool) or not isinstance(item, (str, int, float)):
-                raise UnitParseError(f"got {_show(item)}")
+                raise UnitParseError(f"got {show(item)}")
             if unit == "%":
                 converted.append(parse_fraction(item))
             elif isinstance(item, (int, float)):
@@ -318,11 +321,10 @@ def _probe(topology: "Topology", design: Design, r: _Reader) -> None:
 
 def _read_text(path: Path, source: str) -> tuple[yaml.Node, dict]:
     """Node tree and data of the design file; DesignError when unreadable, not YAML or not a mapping."""
-    root, data = yamlpos.load_located(yamlpos.read_file(path, source, DesignError, "the design file"), source,
-                                      DesignError)
+    root, data = inputfile.read_yaml(path, source, DesignError, "the design file")
     if not isinstance(data, dict):
         line, column = yamlpos.locate(root, ())
-        raise DesignError.single(source, "", f"got {'an empty file' if data is None else _show(data)}; accepted: "
+        raise DesignError.single(source, "", f"got {'an empty file' if data is None else show(data)}; accepted: "
                                  f"a mapping with keys {', '.join(DESIGN_KEYS)} (brief and topology required)",
                                  line or 1, column or 1)
     return root, data
@@ -354,6 +356,11 @@ def load_design(path: str | Path, catalog_files=(), *,
     brief = _read_brief(r, data["brief"], path.resolve(), root) if "brief" in data else None
     if brief is not None and brief_changes:
         brief = brief.replace(brief_changes)
+    if brief is not None:
+        try:
+            brief.check_topologies(topology_ids(catalog))
+        except BriefError as exc:
+            r.problems.extend(exc.problems)
     cls = _read_topology(r, data["topology"], catalog) if "topology" in data else None
     options = _read_options(r, data.get("options"), cls, catalog) if cls is not None else {}
     overrides = _read_overrides(r, data.get("overrides"), catalog)

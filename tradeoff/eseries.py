@@ -13,7 +13,8 @@ from dataclasses import dataclass
 import numpy as np
 import yaml
 
-from tradeoff.catalog import did_you_mean, shipped_catalog_dir
+from tradeoff.catalog import shipped_catalog_dir
+from tradeoff.fields import did_you_mean
 from tradeoff.errors import CatalogError
 
 __all__ = ["mantissas", "values", "nearest", "tolerance", "series_names", "significant_digits"]

@@ -190,7 +190,7 @@ def parse_vary(option: str, base: Brief) -> tuple[str, list[object], bool]:
     if not sep or not key:
         raise _option_error(option, key, "no '=' between the key and its values")
     if key not in known:
-        from tradeoff.catalog import did_you_mean
+        from tradeoff.fields import did_you_mean
 
         hint = did_you_mean(key, known).strip()
         why = "cannot be varied in a sweep" if key in FIXED_KEYS else "is not a brief key" + (f" ({hint})" if hint else "")

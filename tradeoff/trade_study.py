@@ -17,7 +17,8 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Sequence
 
 from tradeoff.brief import Brief, load_brief
-from tradeoff.catalog import Catalog, load_catalog, did_you_mean
+from tradeoff.catalog import Catalog, load_catalog
+from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
 from tradeoff.errors import InfeasibleError, InputError, Problem
@@ -182,6 +183,7 @@ def describe_values(topology: "Topology | None", design) -> str:
 def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | None = None) -> list[str]:
     """Topology ids to study: the brief's list ('all' = every registered one), narrowed by `only`."""
     known = topology_ids(catalog)
+    brief.check_topologies(known)
     chosen = known if "all" in brief.topologies else [t for t in known if t in brief.topologies]
     if only:
         problems = [Problem("--only", None, None, name,

@@ -31,13 +31,17 @@ import re
 
 from tradeoff.errors import UnitParseError
 
-__all__ = ["UnitParseError", "parse_quantity", "parse_fraction", "format_quantity"]
+__all__ = ["UnitParseError", "LEADING_NUMBER_RE", "parse_quantity", "parse_fraction", "format_quantity"]
 
-_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_UNSIGNED = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
+_NUMBER = rf"[+-]?{_UNSIGNED}"
+"""A number as a person writes it, in ASCII digits only (a full-width '１２' is refused, not read as 12)."""
+LEADING_NUMBER_RE = re.compile(rf"^\s*[+\-\u2212]?{_UNSIGNED}\s*(.*?)\s*$")
+"""A leading number (any sign, ASCII digits) and the unit text after it, the one pattern every reader uses."""
 _QUANTITY_RE = re.compile(rf"^\s*({_NUMBER})\s*(.*?)\s*$")
 _PREFIX_LETTERS = "GMkmunpµ"
 _SPACED_PREFIX_RE = re.compile(rf"^([{_PREFIX_LETTERS}])\s+(\S.*)$")
-_RKM_RE = re.compile(r"^\s*(\d+)([RrkKMG])(\d+)\s*$")
+_RKM_RE = re.compile(r"^\s*([0-9]+)([RrkKMG])([0-9]+)\s*$")
 _RKM_PREFIX = {"R": "", "r": "", "k": "k", "K": "k", "M": "M", "G": "G"}
 _CELSIUS = ("degC", "°C", "celsius", "degree_Celsius")
 
@@ -125,7 +129,7 @@ def _describe(unit: str) -> tuple[str, str]:
 def _reject(text: object, unit: str, what: str) -> UnitParseError:
     """Error saying what is wrong with `text` and what the field accepts."""
     name, examples = _describe(unit)
-    return UnitParseError(f"{what}; expected {name} such as {examples}")
+    return UnitParseError(f"{what}; accepted: {name}, e.g. {examples}")
 
 
 def _spelling_problem(text: str, number: str, unit_text: str, unit: str) -> str | None:
@@ -171,6 +175,9 @@ def parse_quantity(text: str | int | float, unit: str) -> float:
     text = text.replace("\u2212", "-")
     match = _QUANTITY_RE.match(text)
     if not match:
+        if any(ch.isdigit() and not ch.isascii() for ch in raw):
+            raise _reject(raw, unit, f"'{raw.strip()}' has digits other than ASCII 0-9 (full-width or another "
+                          "script); write them as 0-9")
         raise _reject(raw, unit, f"'{raw.strip()}' does not start with a number")
     number, unit_text = match.groups()
     problem = _spelling_problem(text, number, unit_text, unit)

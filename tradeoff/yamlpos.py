@@ -6,32 +6,35 @@ tuple (`("delay", "nominal")`, `("topologies", 1)`).
 """
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
-from pathlib import Path
-from typing import TYPE_CHECKING
 
 import yaml
 
-if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.errors import InputError
-
-__all__ = ["compose", "load", "read_file", "load_located", "node_at", "locate", "syntax_error_position", "duplicate_keys", "Position"]
+__all__ = ["Loader", "compose", "load", "node_at", "locate", "syntax_error_position", "duplicate_keys", "Position"]
 
 Position = tuple[int | None, int | None]
 
-_SAFE_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
-"""The safe loader, in its libyaml (C) build where PyYAML has it: the same safe constructors and
-node marks, about ten times faster on the catalogs."""
+
+class Loader(getattr(yaml, "CSafeLoader", yaml.SafeLoader)):  # type: ignore[misc]
+    """The safe loader (its libyaml build where PyYAML has one: the same safe constructors and node
+    marks, about ten times faster), reading `1e3` and `2.5e-6` as the numbers a person means (plain
+    YAML 1.1 reads a float only with a dot and a signed exponent, so those would be text)."""
+
+
+Loader.add_implicit_resolver("tag:yaml.org,2002:float",
+                             re.compile(r"^[-+]?(?:[0-9][0-9_]*(?:\.[0-9_]*)?|\.[0-9_]+)[eE][-+]?[0-9]+$"),
+                             list("-+0123456789."))
 
 
 def compose(text: str) -> yaml.Node | None:
     """The node tree of `text` (None for an empty document); raises yaml.YAMLError on bad syntax."""
-    return yaml.compose(text, Loader=_SAFE_LOADER)
+    return yaml.compose(text, Loader=Loader)
 
 
 def load(text: str) -> tuple[yaml.Node | None, object]:
     """(node tree, data) of `text`, parsed once with the SafeLoader (as yaml.safe_load does)."""
-    loader = _SAFE_LOADER(text)
+    loader = Loader(text)
     try:
         root = loader.get_single_node()
         return root, (loader.construct_document(root) if root is not None else None)
@@ -52,26 +55,6 @@ def _child(node: yaml.Node, step: str | int) -> tuple[yaml.Node, yaml.Node] | No
     elif isinstance(node, yaml.SequenceNode) and isinstance(step, int) and 0 <= step < len(node.value):
         return node.value[step], node.value[step]
     return None
-
-
-def read_file(path: Path, source: str, error: "type[InputError]", what: str) -> str:
-    """Text of the UTF-8 file `path`; `error` naming `source` when it cannot be read (`what`: 'the brief' ...)."""
-    try:
-        return path.read_text(encoding="utf-8")
-    except (OSError, ValueError) as exc:  # ValueError: undecodable bytes, or a NUL in the name
-        raise error.single(source, "", f"cannot read {what} ({exc.__class__.__name__}: "
-                           f"{getattr(exc, 'strerror', None) or exc}); accepted: a readable UTF-8 YAML file") from None
-
-
-def load_located(text: str, source: str, error: "type[InputError]") -> tuple[yaml.Node | None, object]:
-    """(node tree, data) of `text` as `load` gives; `error` at the syntax error's position otherwise."""
-    try:
-        return load(text)
-    except yaml.YAMLError as exc:
-        line, column = syntax_error_position(exc)
-        what = getattr(exc, "problem", None) or str(exc).splitlines()[0]
-        raise error.single(source, "", f"YAML syntax error: {what}; accepted: valid YAML "
-                           "(check indentation, colons and quotes)", line, column) from None
 
 
 def node_at(root: yaml.Node | None, path: Sequence[str | int]) -> yaml.Node | None:
