@@ -39,7 +39,6 @@ MAX_LINES = 600
 
 OVERSIZED = {
     "tradeoff.brief": "brief reading and validation; the shared input reader takes its field parsers",
-    "tradeoff.catalog": "catalog reading; the shared input reader takes its field parsers",
     "tradeoff.topologies.hold": "the hold topologies' shared frame; device laws move to their own package",
     "tradeoff.topologies.ripple_counter": "the counter base class; oscillator, divider, decode, load switch split",
 }
