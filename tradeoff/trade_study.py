@@ -54,7 +54,7 @@ class TopologyOutcome:
 
     topology: str
     description: str
-    designs: list[VerifiedDesign] = field(default_factory=list)
+    verified: list[VerifiedDesign] = field(default_factory=list)
     reasons: list[str] = field(default_factory=list)
     seconds: float = 0.0
     model: "Topology | None" = field(default=None, repr=False)
@@ -62,22 +62,22 @@ class TopologyOutcome:
     @property
     def feasible(self) -> bool:
         """True when at least one design meets the brief."""
-        return bool(self.designs)
+        return bool(self.verified)
 
     @property
     def evaluations(self) -> list["Evaluation"]:
         """Full-model evaluations of the verified designs, best first."""
-        return [d.evaluation for d in self.designs]
+        return [d.evaluation for d in self.verified]
 
     def statistics(self) -> dict[str, Any]:
         """Solver statistics for reports: rounds, solve time, candidate table sizes."""
-        problem = self.designs[0].selection.problem if self.designs else None
+        problem = self.verified[0].selection.problem if self.verified else None
         sizes = {} if problem is None else {b.name: len(b.table) for b in problem.model.blocks}
         return {
             "topology": self.topology,
-            "designs": len(self.designs),
-            "rounds": [d.rounds for d in self.designs],
-            "solve_s": [d.selection.solve_s for d in self.designs],
+            "designs": len(self.verified),
+            "rounds": [d.rounds for d in self.verified],
+            "solve_s": [d.selection.solve_s for d in self.verified],
             "candidates": sizes,
             "seconds": self.seconds,
         }
@@ -245,7 +245,7 @@ def _outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int
     model = build_topology(topology_id, brief, catalog)
     outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
     try:
-        outcome.designs = verified_designs(model, brief, k=alternatives, solver=solver)
+        outcome.verified = verified_designs(model, brief, k=alternatives, solver=solver)
     except InfeasibleError as exc:
         outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
     outcome.seconds = time.perf_counter() - start
