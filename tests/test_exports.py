@@ -26,7 +26,9 @@ from tradeoff.errors import OutputError
 from tradeoff.report import files, plots, style
 from tradeoff.report.plots import HISTOGRAM_BINS, study_figures, time_scale
 from tradeoff.report.review import REVIEW_LAYOUT, export, json_text, report_text
+from tradeoff.report.labels import time_unit
 from tradeoff.report.tables import NEVER_ENDS, TABLES, design_stem, monte_carlo_table, study_tables
+from tradeoff.report.workbook import DECISION_SHEET, display_tables
 from tradeoff.trade_study import study
 from tradeoff.topologies.registry import topology_ids
 
@@ -87,11 +89,11 @@ def _same(stored: float, value: float) -> bool:
 
 
 # ---- workbook ------------------------------------------------------------------------------------
-def test_workbook_has_every_sheet_frozen_sized_and_numbers_as_numbers(mains_files):
+def test_workbook_has_every_sheet_frozen_sized_and_numbers_as_numbers(mains, mains_files):
     folder, _ = mains_files
     path = folder / REVIEW_LAYOUT["workbook"]
     sheets = _read_workbook(path)
-    assert list(sheets) == list(TABLES)
+    assert list(sheets) == [DECISION_SHEET, *TABLES]
     book = openpyxl.load_workbook(path)
     for name in TABLES:
         ws = book[name]
@@ -107,17 +109,20 @@ def test_workbook_has_every_sheet_frozen_sized_and_numbers_as_numbers(mains_file
                     # no number hiding as text (the brief's `text` column is the display text by design)
                     assert not re.fullmatch(r"[-+]?\d+(\.\d*)?([eE][-+]?\d+)?", cell.value), (name, cell.coordinate)
     ranking = sheets["ranking"]
-    for column in ("delay nominal [s]", "standby after [A]", "cost [EUR]", "yield [%]", "score [0 to 1]"):
+    unit = time_unit(mains.brief.delay.nominal_s)[0]  # the brief's own time unit
+    for column in (f"delay nominal [{unit}]", "standby after [µA]", "cost [EUR]", "yield [%]", "score [0 to 1]"):
         assert pd.api.types.is_numeric_dtype(ranking[column]), column
-    for name, frame in sheets.items():
+    for name, frame in ((n, f) for n, f in sheets.items() if n != DECISION_SHEET):
         for column in frame.columns:
             if "[" in column and frame[column].notna().any():  # a unit in the header: a number column
                 assert pd.api.types.is_numeric_dtype(frame[column]), (name, column)
 
 
-def test_workbook_numbers_equal_the_json(mains, mains_files):
+def test_si_tables_equal_the_json(mains, mains_files):
+    """The CSV tables (SI units, for scripts) hold the JSON's numbers; the workbook holds the same
+    in display units (test_csv_files_equal_the_workbook_tables)."""
     folder, _ = mains_files
-    sheets = _read_workbook(folder / REVIEW_LAYOUT["workbook"])
+    sheets = {name: pd.read_csv(folder / REVIEW_LAYOUT["csv"] / f"{name}.csv") for name in TABLES}
     data = mains.to_dict()
     ranking = sheets["ranking"].set_index("design")
     assert list(ranking.index) == [d["name"] for d in data["designs"]] and len(ranking) == 2
@@ -160,14 +165,17 @@ def test_workbook_numbers_equal_the_json(mains, mains_files):
     assert brief.loc["load.relay.must_release", "value"] == pytest.approx(10.0)  # "10 %" in the brief
 
 
-def test_csv_files_equal_the_workbook_tables(mains_files):
+def test_csv_files_equal_the_workbook_tables(mains, mains_files):
     folder, _ = mains_files
     sheets = _read_workbook(folder / REVIEW_LAYOUT["workbook"])
     csv_dir = folder / REVIEW_LAYOUT["csv"]
     assert sorted(p.name for p in csv_dir.iterdir()) == sorted(f"{name}.csv" for name in TABLES)
-    for name, frame in sheets.items():
-        from_csv = pd.read_csv(csv_dir / f"{name}.csv")
-        pd.testing.assert_frame_equal(from_csv, frame, check_dtype=False)
+    si = {name: pd.read_csv(csv_dir / f"{name}.csv") for name in TABLES}
+    unit = time_unit(mains.brief.delay.nominal_s)
+    shown = display_tables(si, unit)
+    assert f"delay nominal [{unit[0]}]" in shown["ranking"] and "standby after [µA]" in shown["ranking"]
+    for name in TABLES:
+        pd.testing.assert_frame_equal(shown[name], sheets[name], check_dtype=False, rtol=1e-12)
 
 
 def test_a_unit_that_never_ends_is_an_empty_cell_with_a_note(mains, monkeypatch):
@@ -330,7 +338,7 @@ def test_existing_files_are_not_overwritten_without_force(mains, tmp_path):
     assert target.read_bytes() == b"my own workbook"
     assert not (tmp_path / "tables").exists() or not any((tmp_path / "tables").iterdir())
     export(mains, xlsx=target, force=True)
-    assert list(_read_workbook(target)) == list(TABLES)
+    assert list(_read_workbook(target)) == [DECISION_SHEET, *TABLES]
     assert sorted(p.name for p in tmp_path.iterdir() if p.is_file()) == ["study.xlsx"]  # no temporary file left
 
 
@@ -381,7 +389,7 @@ def test_study_cli_writes_each_export_and_refuses_to_overwrite(tmp_path):
     first = runner.invoke(cli, args)
     assert first.exit_code == 0, first.output
     assert "no SPICE netlist for mcu" in first.output and f"wrote {tmp_path / 's.xlsx'}" in first.output
-    assert list(_read_workbook(tmp_path / "s.xlsx")) == list(TABLES)
+    assert list(_read_workbook(tmp_path / "s.xlsx")) == [DECISION_SHEET, *TABLES]
     assert (tmp_path / "plots" / "histogram-mcu.svg").is_file() and (tmp_path / "csv" / "ranking.csv").is_file()
     before = {p: p.stat().st_mtime_ns for p in tmp_path.rglob("*") if p.is_file()}
     again = runner.invoke(cli, args)
