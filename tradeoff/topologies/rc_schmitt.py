@@ -1,0 +1,496 @@
+"""RC hold read by a discrete emitter-coupled Schmitt trigger (`rc-schmitt`): two NPNs, no ICs.
+
+Circuit: r_hold charges c_hold from the supply, starting from 0 V (power-on with the capacitor
+empty, or a push-button that shorts it through a small resistor). The capacitor drives the base
+of Q1; Q1 and Q2 share the emitter resistor R_E; Q1's collector resistor R_C1 feeds Q2's base
+through the divider R_1 (to Q2's base) and R_2 (to ground); Q2's collector resistor R_C2 pulls
+the gate of a high-side P-channel MOSFET. While the capacitor is low, Q1 is off, Q2 conducts and
+pulls the gate R_C2·IC2 below the supply: the MOSFET holds the relay coil (or the dc load). When
+the capacitor reaches the upper trip point, Q1 takes over the emitter current, Q2's base falls,
+and the loop Q2 -> emitter -> Q1 -> divider -> Q2 regenerates: the gate snaps to the supply within
+microseconds and the relay drops out at once, whatever its own release point. A reset diode from
+the capacitor to the supply empties it when the supply is switched off.
+
+Model (per sample, vectorised), the emitter-coupled Schmitt trigger of Millman and Halkias,
+Integrated Electronics, and Horowitz and Hill, The Art of Electronics (transistor Schmitt
+trigger), solved exactly for the diode law instead of with a fixed cut-in voltage:
+- both NPNs in the forward-active region, IC = IS·exp(VBE/(n·Vt)) with IS from VBE(on) at the
+  class's test current and its tempco (-2 mV/K, Sedra and Smith), IB = IE/(hFE + 1), hFE
+  log-normal between the class limits scaled to microampere currents (catalog entry's
+  `low_current_gain_frac`, from memory) with its tempco; no Early effect;
+- the DC transfer curve as a function of Q2's junction voltage w: Q1's emitter current follows
+  linearly from the two node equations (collector of Q1, base of Q2), the input is
+  V_in(w) = (IE1 + IE2)·R_E + VBE1(IE1); the upper trip point is the fold dV_in/dw = 0 nearest to
+  Q1's cut-off, found by bisection (`rising_trip`); the falling one, for the hysteresis, the next
+  fold (`falling_trip_v`);
+- charge time t = C ∫ dV / i(V) from 0 V to the trip, i(V) = (V_s - V)/r_hold - leakage(V) -
+  V/R_shunt - IB1(V), integrated in u = -ln(V_s - V) by Gauss–Legendre quadrature (exact for the
+  plain RC: t = r·C·ln(V_s/(V_s - V_trip))); IB1 is Q1's base current with the emitter node held at
+  its value at the trip (Q2's current dominates it there); no timeout where i(V_trip) <= 0.
+The trip is a fixed fraction of the supply set by resistor ratios, shifted by the two junction
+drops, whose temperature coefficients largely cancel.
+"""
+from __future__ import annotations
+
+import math
+from typing import Mapping
+
+import numpy as np
+
+from tradeoff.analysis import Uncertain
+from tradeoff.errors import DesignError
+from tradeoff.selection import Block, SelectionModel
+from tradeoff.topologies import hold
+from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.units import format_quantity as fq
+
+__all__ = ["RcSchmitt", "transfer_curve", "rising_trip", "falling_trip_v", "saturation_current_a",
+           "charge_time_s", "NETWORK"]
+
+NETWORK = ("r_e", "r_c1", "r_1", "r_2")
+"""Threshold network resistors (catalog entry params [ohm]): shared emitter, Q1 collector, divider top, bottom."""
+_GRID = np.geomspace(1e-7, 0.6, 64)
+"""Distances below Q1's cut-off in Q2's junction voltage where the fold is looked for [V]."""
+HYSTERESIS_MIN_V = 0.05
+"""Smallest hysteresis for a clean snap against supply ripple and noise [V] (common practice)."""
+_DIRECTION = {"r_hold": 1, "c_hold": 1, hold.LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
+              "r_c1": -1, "r_1": -1, "r_2": 1, "r_e": 0, "ambient_c": 0, "supply_v": 0}
+"""Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
+
+
+def saturation_current_a(vbe_on_v, test_a, n, temp_c) -> np.ndarray:
+    """Transport saturation current IS [A] from VBE(on) [V] at the test current test_a [A] and temp_c [degC]."""
+    return test_a * np.exp(-np.asarray(vbe_on_v, dtype=float) / (n * hold.thermal_voltage_v(temp_c)))
+
+
+def transfer_curve(w, supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt):
+    """The Schmitt trigger's DC curve at Q2 junction voltage w [V]: (IE1, IE2 [A], V_in [V], dV_in/dw).
+
+    Node equations (both NPNs active): V_E = (IE1 + IE2)·R_E, V_B2 = V_E + w, Q2's base current
+    IE2/(hFE2 + 1) from the divider, Q1's collector current α1·IE1 from the rest of R_C1's current:
+    IE1 = (V_s/R_C1 - k·IE2 - g·(IE2·R_E + w)) / (α1 + g·R_E), k = (1 + R_1/R_C1)/(hFE2 + 1),
+    g = (1 + R_1/R_2)/R_C1 + 1/R_2. IE1 <= 0 means Q1 is cut off (V_in is then -inf).
+    """
+    a1 = hfe1 / (hfe1 + 1)
+    ie2 = is2 * (hfe2 + 1) / hfe2 * np.exp(w / nvt)
+    k = (1 + r_1 / r_c1) / (hfe2 + 1)
+    g = (1 + r_1 / r_2) / r_c1 + 1 / r_2
+    d = a1 + g * r_e
+    ie1 = (supply_v / r_c1 - k * ie2 - g * (ie2 * r_e + w)) / d
+    die2 = ie2 / nvt
+    die1 = (-k * die2 - g * (die2 * r_e + 1)) / d
+    safe = np.maximum(ie1, 1e-300)
+    v_in = np.where(ie1 > 0, (ie1 + ie2) * r_e + nvt * np.log(a1 * safe / is1), -np.inf)
+    slope = r_e * (die1 + die2) + nvt * die1 / safe
+    return ie1, ie2, v_in, slope
+
+
+def _cutoff_w(args) -> np.ndarray:
+    """Q2 junction voltage where Q1's emitter current reaches zero [V] (bisection; IE1 falls as w rises)."""
+    shape = np.broadcast_shapes(*(np.shape(a) for a in args))
+    lo, hi = np.zeros(shape), np.full(shape, 1.5)
+    for _ in range(56):
+        mid = 0.5 * (lo + hi)
+        on = transfer_curve(mid, *args)[0] > 0
+        lo, hi = np.where(on, mid, lo), np.where(on, hi, mid)
+    return lo
+
+
+def rising_trip(supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt, steps: int = 40) -> dict[str, np.ndarray]:
+    """Upper trip point of the Schmitt trigger: the fold of the transfer curve nearest to Q1's cut-off.
+
+    Returns v_trip [V] (input where the snap starts), ie1_a [A] (Q1's emitter current there), ve_v
+    [V] (emitter node there), regenerative (bool: a fold exists; without one the steepest point of a
+    soft transfer curve is returned). All arguments broadcast; supply [V], resistors [ohm], gains,
+    saturation currents [A], nvt = n·kT/q [V].
+    """
+    args = tuple(np.asarray(a, dtype=float) for a in (supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt))
+    w0 = _cutoff_w(args)
+    trail = tuple(a[..., None] for a in args)
+    slope = transfer_curve(w0[..., None] - _GRID, *trail)[3]
+    rising = slope > 0
+    regenerative = rising.any(axis=-1)
+    first = np.where(regenerative, np.argmax(rising, axis=-1), np.argmax(slope, axis=-1))
+    hi = _GRID[first]
+    lo = np.where(regenerative, _GRID[np.maximum(first - 1, 0)] * np.where(first > 0, 1.0, 0.1), hi)
+    for _ in range(steps):  # slope < 0 at lo (nearer the cut-off), > 0 at hi
+        mid = np.sqrt(lo * hi)
+        up = transfer_curve(w0 - mid, *args)[3] > 0
+        lo, hi = np.where(up, lo, mid), np.where(up, mid, hi)
+    ie1, ie2, v_in, _ = transfer_curve(w0 - lo, *args)
+    return {"v_trip": v_in, "ie1_a": ie1, "ve_v": (ie1 + ie2) * args[1], "regenerative": regenerative}
+
+
+def falling_trip_v(*args) -> np.ndarray:
+    """Lower trip point [V]: the lowest input on the curve's unstable middle, beyond the upper fold
+    (same arguments as `rising_trip`; active-region model, used for the hysteresis check)."""
+    args = tuple(np.asarray(a, dtype=float) for a in args)
+    w0 = _cutoff_w(args)
+    grid = np.geomspace(1e-7, 1.0, 400)
+    ie1, _, v_in, slope = transfer_curve(w0[..., None] - grid, *(a[..., None] for a in args))
+    past = np.cumsum(slope > 0, axis=-1) > 0
+    return np.min(np.where(past & (ie1 > 0), v_in, np.inf), axis=-1)
+
+
+def charge_time_s(c_f, r_ohm, supply_v, v_end, extra_a) -> np.ndarray:
+    """Time to charge c_f [F] through r_ohm [ohm] from 0 V to v_end [V] against extra_a(V) [A] [s].
+
+    t = C ∫ dV / ((V_s - V)/r - extra(V)) in u = -ln(V_s - V) (dV/du = V_s - V), Gauss–Legendre;
+    extra_a(v) receives voltages with a trailing node axis. inf where the current at v_end is not
+    positive (the capacitor never gets there); 0 where v_end <= 0.
+    """
+    c_f, r, vs, v_end = (np.asarray(a, dtype=float) for a in (c_f, r_ohm, supply_v, v_end))
+    top = np.clip(v_end, 0.0, vs * (1 - 1e-9))
+    ends = ((vs - top) / r - extra_a(top[..., None])[..., 0]) > 0
+
+    def integrand(u):
+        headroom = np.exp(-u)
+        v = vs[..., None] - headroom
+        return headroom / (headroom / r[..., None] - extra_a(v))
+
+    t = hold.discharge_integral_s(c_f, -np.log(vs), -np.log(vs - top), integrand)
+    return np.where(ends, t, np.inf)
+
+
+class RcSchmitt(Topology):
+    """RC charge read by a two-NPN emitter-coupled Schmitt trigger driving a high-side P-MOSFET."""
+
+    id = "rc-schmitt"
+    option_units = {"c_hold_rated_v": "V", "shunt": "ohm"}
+    option_parts = {"r_hold_part": "resistor", "c_hold_part": "capacitor", "npn": "npn", "switch": "mosfet",
+                    "diode": "diode", "fixed_resistor": "resistor"}
+    DEFAULTS = {"r_hold_part": "res-metal-film-1pct", "c_hold_part": "cap-electrolytic-85c", "npn": "npn-small",
+                "switch": "mosfet-p-logic-power", "diode": "diode-small-signal",
+                "fixed_resistor": "res-thick-film-chip-1pct"}
+    """Part class of each option when the design names none."""
+
+    # ---- parts ------------------------------------------------------------------------
+    def part(self, design: Design, option: str):
+        """Catalog class named by design option `option` (default DEFAULTS[option]), with the design's overrides."""
+        part_id = hold.option(design, option, self.DEFAULTS[option])
+        try:
+            part = self.catalog.part(part_id)
+        except LookupError:
+            raise DesignError.single("design", f"options.{option}", f"unknown part class {part_id!r}; accepted: "
+                                     "a class id from `tradeoff catalog`") from None
+        own = design.overrides.get(part.id)
+        return part.with_overrides(own, "design overrides") if own else part
+
+    def _value(self, design: Design, role: str) -> float:
+        if role not in design.values:
+            raise DesignError.single("design", f"values.{role}", "missing; accepted: a value with a unit "
+                                     "('1 Mohm', '470 uF')")
+        return float(design.values[role])
+
+    def _leakage(self, design: Design, c_f=None) -> hold.CapacitorLeakage:
+        """Leakage law of the timing capacitor (of `c_f` [F], an array of candidates, if given)."""
+        from tradeoff.candidates import rated_voltage
+        part, rated = self.part(design, "c_hold_part"), design.options.get("c_hold_rated_v")
+        if rated in (None, ""):
+            rated = rated_voltage(part, self.brief.supply.max_v) or max(part.values("rated_voltages", "V"))
+        return hold.CapacitorLeakage(part, self._value(design, "c_hold") if c_f is None else c_f, float(rated))
+
+    def _network(self) -> dict[str, float]:
+        return {name: self.entry.value(name, "ohm") for name in (*NETWORK, "r_c2")}
+
+    @staticmethod
+    def _arrays(point: Mapping[str, float]) -> dict[str, np.ndarray]:
+        return {k: np.array([float(v)]) for k, v in point.items()}
+
+    def _load_a(self, supply_v: float) -> float:
+        """Load current at supply_v [V] [A]: the coil (its current scales with the voltage) or the dc load."""
+        load = self.brief.load
+        return load.current_a * supply_v / load.coil_voltage_v if load.kind == "relay" else load.current_a
+
+    # ---- physics ----------------------------------------------------------------------
+    def roles(self) -> list[Role]:
+        """r_hold and c_hold: the charge time constant (the threshold network is fixed)."""
+        return [Role("r_hold", "resistor", 10e3, 10e6, "charge resistor from the supply to the timing capacitor"),
+                Role("c_hold", "capacitor", 1e-6, 4.7e-3, "timing capacitor on Q1's base", ("electrolytic", "film"))]
+
+    def uncertain(self, design: Design) -> dict[str, Uncertain]:
+        """Hold R and C, leakage level, both transistors' gain and VBE(on), the threshold network's resistors."""
+        npn, frac = self.part(design, "npn"), self.entry.value("low_current_gain_frac", "")
+        q = {"r_hold": hold.component_band(self._value(design, "r_hold"), self.part(design, "r_hold_part"),
+                                           self.brief, "ohm: charge resistor"),
+             "c_hold": hold.component_band(self._value(design, "c_hold"), self.part(design, "c_hold_part"),
+                                           self.brief, "F: timing capacitor"),
+             hold.LEAK_LEVEL: self._leakage(design).uncertain()}
+        for k in ("q1", "q2"):
+            q[f"hfe_{k}"] = Uncertain(*(frac * npn.value(f"hfe_{s}", "") for s in ("typ", "min", "max")),
+                                      dist="lognormal", note=f"{k.upper()} {npn.id}: hFE at 25 degC scaled by {frac:g} "
+                                      "to microampere currents (from memory), log-normal between the limits")
+            q[f"vbe_{k}"] = Uncertain(*(npn.value(f"vbe_on_{s}", "V") for s in ("typ", "min", "max")), unit="V",
+                                      note=f"{k.upper()} {npn.id}: VBE(on) at its test current, 25 degC (uniform)")
+        fixed = self.part(design, "fixed_resistor")
+        q.update({n: hold.component_band(self._network()[n], fixed, self.brief, f"ohm: threshold network {n}")
+                  for n in NETWORK})
+        return q
+
+    def _trip_args(self, design: Design, x: Mapping[str, np.ndarray]) -> tuple:
+        """Arguments of `rising_trip` / `falling_trip_v` at the samples `x`: hFE, IS and n·kT/q at temperature."""
+        npn = self.part(design, "npn")
+        t = np.asarray(x["ambient_c"], dtype=float)
+        gain = np.exp(npn.value("hfe_tempco", "1/K") * (t - 25.0))
+        n, test, tc = npn.value("ideality", ""), npn.value("vbe_test_current", "A"), npn.value("vbe_tempco", "V/K")
+        is1, is2 = (saturation_current_a(x[f"vbe_{k}"] + tc * (t - 25.0), test, n, t) for k in ("q1", "q2"))
+        return (x["supply_v"], *(x[k] for k in NETWORK), x["hfe_q1"] * gain, x["hfe_q2"] * gain, is1, is2,
+                n * hold.thermal_voltage_v(t))
+
+    def trip(self, design: Design, x: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+        """Upper trip point and Q1's state there (`rising_trip`) plus hfe1, is1, nvt at the samples `x`."""
+        args = self._trip_args(design, x)
+        return {**rising_trip(*args), "hfe1": args[5], "is1": args[7], "nvt": args[9]}
+
+    def _extra(self, x, tr, leak: hold.CapacitorLeakage, shunt: float | None):
+        """extra_a(V) of `charge_time_s` (trailing node axis): leakage, shunt and Q1's base current [A]."""
+        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL])
+        p = {k: np.asarray(v, dtype=float)[..., None] for k, v in
+             {"a_typ": a_typ, "a_lim": a_lim, **{k: tr[k] for k in ("ie1_a", "ve_v", "hfe1", "is1", "nvt")}}.items()}
+
+        def extra(v):
+            rise = np.exp(np.minimum((v - p["ve_v"]) / p["nvt"], 50.0))
+            ie1 = np.minimum(p["is1"] * (p["hfe1"] + 1) / p["hfe1"] * rise, p["ie1_a"])
+            out = leak.current_a(v, p["a_typ"], p["a_lim"]) + ie1 / (p["hfe1"] + 1)
+            return out if shunt is None else out + v / shunt
+        return extra
+
+    def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Charge time from 0 V to the upper trip point [s]; inf where the capacitor never reaches it."""
+        leak, shunt = self._leakage(design), hold.shunt_ohm(design)
+
+        def chunk(xc):
+            tr = self.trip(design, xc)
+            return charge_time_s(xc["c_hold"], xc["r_hold"], xc["supply_v"], tr["v_trip"],
+                                 self._extra(xc, tr, leak, shunt))
+        return hold.evaluate_in_chunks(chunk, x)
+
+    # ---- currents -------------------------------------------------------------------------
+    def after_state(self, design: Design, x: Mapping[str, np.ndarray],
+                    leak: hold.CapacitorLeakage | None = None) -> dict[str, np.ndarray]:
+        """Steady state long after the timeout (Q1 on, Q2 off, typical leakage): capacitor voltage v_in [V],
+        emitter node ve_v [V], Q1's collector vc1_v [V] and the supply current supply_a [A].
+
+        The capacitor settles where r_hold's current equals Q1's base current plus leakage; Q1 saturates
+        (collector at V_E + VCE(sat)) once its collector resistor cannot carry α·IE. Bisection in V_E.
+        """
+        leak, vs = leak or self._leakage(design), np.asarray(x["supply_v"], dtype=float)
+        a_typ, a_lim = leak.coefficients(x["ambient_c"], 0.0)
+        tr, vce_sat = self.trip(design, x), self.part(design, "npn").value("vce_sat", "V")
+        r_e, r_c1, r_div, alpha = x["r_e"], x["r_c1"], x["r_1"] + x["r_2"], tr["hfe1"] / (tr["hfe1"] + 1)
+
+        def state(ve):
+            ie = ve / r_e
+            vc1 = np.maximum((vs - r_c1 * alpha * ie) * r_div / (r_c1 + r_div), ve + vce_sat)
+            ic = (vs - vc1) / r_c1 - vc1 / r_div
+            v_in = ve + tr["nvt"] * np.log(np.maximum(alpha * ie, 1e-300) / tr["is1"])
+            leak_a = leak.current_a(np.maximum(v_in, 0.0), a_typ, a_lim)
+            return (vs - v_in) / x["r_hold"] - (ie - ic) - leak_a, v_in, vc1, leak_a
+        lo, hi = np.zeros(np.shape(vs)), vs - vce_sat
+        for _ in range(50):
+            mid = 0.5 * (lo + hi)
+            up = state(mid)[0] > 0
+            lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+        _, v_in, vc1, leak_a = state(lo)
+        off = self.part(design, "switch").value("idss", "A")
+        return {"v_in": v_in, "ve_v": lo, "vc1_v": vc1, "supply_a": lo / r_e + vc1 / r_div + leak_a + off}
+
+    def standby(self, design: Design) -> Standby:
+        """Typical currents at nominal supply: while timing the load plus the Schmitt trigger (Q2's emitter
+        current, the divider, the charge current at the trip); after the timeout Q1's emitter current, the
+        divider, the capacitor's typical leakage and the MOSFET's off-state current."""
+        x = self._arrays(self.nominal_point(design))
+        tr, vs = self.trip(design, x), self.brief.supply.nominal_v
+        trigger = tr["ve_v"] / x["r_e"] + vs / (x["r_c1"] + x["r_1"] + x["r_2"]) + (vs - tr["v_trip"]) / x["r_hold"]
+        return Standby(self._load_a(vs) + float(trigger[0]), float(self.after_state(design, x)["supply_a"][0]))
+    # ---- parts list -----------------------------------------------------------------------
+    def _fixed_bom(self, design: Design) -> list[BomLine]:
+        """Everything but the charge resistor and timing capacitor."""
+        npn, switch, diode, fixed = (self.part(design, k) for k in ("npn", "switch", "diode", "fixed_resistor"))
+        notes = {"r_e": "shared emitter resistor", "r_c1": "Q1 collector resistor", "r_1": "divider to Q2's base",
+                 "r_2": "Q2 base to ground", "r_c2": "Q2 collector resistor, gate pull-up"}
+        lines = [BomLine("Q1, Q2", npn.id, "NPN", 2, npn.cost, "emitter-coupled Schmitt trigger"),
+                 BomLine("M1", switch.id, "P-channel MOSFET", 1, switch.cost, "high-side load switch"),
+                 BomLine("D2", diode.id, "reset", 1, diode.cost, "empties the timing capacitor at switch-off")]
+        lines += [BomLine(f"R{i}", fixed.id, fq(value, "Ω"), 1, fixed.cost, notes[name])
+                  for i, (name, value) in enumerate(self._network().items(), start=2)]
+        if self.brief.load.kind == "relay":
+            lines.append(BomLine("D1", diode.id, "flyback", 1, diode.cost, "across the relay coil"))
+        if self.brief.start == "button":
+            lines += [BomLine("SW1", "push-button", "momentary, normally open", 1, self.entry.value("button_cost", ""),
+                              "start: shorts the timing capacitor (not a catalog class; indicative cost)"),
+                      BomLine("R7", fixed.id, fq(self.entry.value("r_reset", "ohm"), "Ω"), 1, fixed.cost,
+                              "limits the button's discharge current")]
+        return lines
+
+    def bom(self, design: Design) -> list[BomLine]:
+        """Charge R and C, two NPNs and their network, the P-MOSFET, reset and flyback diodes, the button."""
+        r_part, leak = self.part(design, "r_hold_part"), self._leakage(design)
+        return [BomLine("R1", r_part.id, fq(self._value(design, "r_hold"), "Ω"), 1, r_part.cost, "charge resistor"),
+                BomLine("C1", leak.part.id, f"{fq(self._value(design, 'c_hold'), 'F')} {fq(float(leak.rated_v), 'V')}",
+                        1, leak.part.cost, "timing capacitor")] + self._fixed_bom(design)
+
+    # ---- design rules ---------------------------------------------------------------------
+    def checks(self, design: Design) -> list[Finding]:
+        """Capacitor rating, snap and hysteresis, gate drive, junction ratings, stays off after the timeout,
+        MOSFET ratings and pick-up, start assumption, and which leakage figure is used."""
+        brief, q, leak = self.brief, self.quantities(design), self._leakage(design)
+        npn, switch = self.part(design, "npn"), self.part(design, "switch")
+        out, v_max, v_min, rated = [leak.finding()], brief.supply.max_v, brief.supply.min_v, float(leak.rated_v)
+        if v_max > 0.8 * rated:
+            out.append(Finding("violation" if v_max > rated else "warning", "capacitor-rating", f"timing capacitor "
+                               f"rated {fq(rated, 'V')} charges to {fq(v_max, 'V')} (common practice: derate to 80 %)"))
+        names = ("ambient_c", "supply_v", "hfe_q1", "hfe_q2")  # every combination of these limits
+        grid = np.array(np.meshgrid(*[[q[n].lo, q[n].hi] for n in names], indexing="ij")).reshape(len(names), -1)
+        x = {**{n: np.full(grid.shape[1], u.nominal) for n, u in q.items()}, **dict(zip(names, grid))}
+        tr = self.trip(design, x)
+        if not tr["regenerative"].all():
+            out.append(Finding("violation", "snap", "the Schmitt trigger does not regenerate at some gain and "
+                               "temperature corners: the output would fade instead of snapping"))
+        ends = {}
+        for vs in (v_min, v_max):
+            xs = self._arrays({**self.nominal_point(design), "supply_v": vs})
+            ends[vs] = float(self.trip(design, xs)["v_trip"][0]), float(falling_trip_v(*self._trip_args(design, xs))[0])
+        (v_up, v_down), after = ends[v_min], self.after_state(design, self._arrays({**self.nominal_point(design),
+                                                                                     "supply_v": v_max}))
+        text = (f"trip points {fq(v_up, 'V')} rising, {fq(v_down, 'V')} falling at the lowest supply (nominal parts, "
+                f"active-region model): hysteresis {fq(v_up - v_down, 'V')}")
+        out.append(Finding("violation", "hysteresis", f"{text}, below {fq(HYSTERESIS_MIN_V, 'V')} (common practice)")
+                   if v_up - v_down < HYSTERESIS_MIN_V else Finding("info", "hysteresis", f"{text}: the output snaps"))
+        spread = q["r_e"].hi / q["r_e"].nominal - 1  # the network's class: R_C2 at its low end
+        gate = (tr["ve_v"] / x["r_e"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1) * self._network()["r_c2"] * (1 - spread)
+        drive = float(np.min(np.where(x["supply_v"] == v_min, gate, np.inf)))
+        if drive < switch.value("vgs_on", "V"):
+            out.append(Finding("violation", "gate-drive", f"Q2 pulls the MOSFET's gate only {fq(drive, 'V')} below the "
+                               f"supply at the lowest supply; its on-resistance is rated at "
+                               f"{fq(switch.value('vgs_on', 'V'), 'V')}"))
+        reverse = {"Q1 with the capacitor empty": float(np.max(tr["ve_v"])),
+                   "Q2 after the timeout": float(after["ve_v"][0] - after["vc1_v"][0] * x["r_2"][0]
+                                                 / (x["r_1"][0] + x["r_2"][0]))}
+        for where, value in reverse.items():
+            if value > npn.value("veb_max", "V"):
+                out.append(Finding("violation", "junction-rating", f"{where}: the emitter-base junction is reverse "
+                                   f"biased by {fq(value, 'V')}, above its {fq(npn.value('veb_max', 'V'), 'V')} rating"))
+        if float(after["v_in"][0]) <= ends[v_max][1]:
+            out.append(Finding("violation", "stays-off", f"after the timeout Q1's base current holds the capacitor at "
+                               f"{fq(float(after['v_in'][0]), 'V')}, below the falling trip point: it would restart"))
+        for name, what, value, unit in (("vds_max", "VDS", v_max, "V"), ("vgs_max", "VGS", v_max, "V"),
+                                        ("id_max", "ID", self._load_a(v_max), "A")):
+            if value > switch.value(name, unit):
+                out.append(Finding("violation", "switch-rating", f"{what} up to {fq(value, unit)} exceeds the MOSFET's "
+                                   f"rating {fq(switch.value(name, unit), unit)}"))
+        if brief.load.kind == "relay":
+            need, coil_v = brief.load.must_operate_frac * brief.load.coil_voltage_v, v_min - self._load_a(v_min) \
+                * switch.value("rds_on", "ohm")
+            if coil_v < need:
+                out.append(Finding("violation", "pick-up", f"at the lowest supply {fq(v_min, 'V')} the coil gets "
+                                   f"{fq(coil_v, 'V')}, below its must-operate voltage {fq(need, 'V')}"))
+            out.append(Finding("info", "release", "the gate snaps to the supply at the trip point, so the relay drops "
+                               "out within its own release time wherever its release point lies"))
+        out.append(Finding("info", "start", "power-on start assumes the timing capacitor starts empty (the reset diode "
+                           "empties it into the supply at switch-off; a quick off-on restarts from what is left, a "
+                           "shorter delay)" if brief.start == "power-on" else "the button empties the timing capacitor; "
+                           "timing starts when it is released"))
+        return out
+
+    # ---- optimiser ------------------------------------------------------------------------
+    def selection(self) -> SelectionModel:
+        """One block: every (r_hold, c_hold) pair with its delay at the corners `_DIRECTION` selects
+        (quantities of direction 0 at both ends), by the same model as evaluate(); standby after per row."""
+        band = (self.brief.delay.min_s, self.brief.delay.max_s)
+        rows = hold.hold_pairs(*self.roles(), self.brief, self.catalog)
+        delay, after = np.full((3, len(rows)), np.nan), np.zeros(len(rows))
+        for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
+            sub = rows.iloc[index]
+            design = Design(self.id, {"r_hold": float(sub["r_hold"].iloc[0]), "c_hold": float(sub["c_hold"].iloc[0])},
+                            {"c_hold_part": c_part, "c_hold_rated_v": float(rated), "r_hold_part": sub["r_part"].iloc[0]})
+            q = self.quantities(design)
+            values = {n: sub[n].to_numpy(float)[:, None] for n in ("r_hold", "c_hold")}
+            spread = {"r_hold": sub["r_spread"].to_numpy(float)[:, None], "c_hold": sub["c_spread"].to_numpy(float)[:, None]}
+            leak = self._leakage(design, values["c_hold"])
+            for k, sign in enumerate((-1, 0, 1)):
+                corners = self._table_corners(q, sign)
+                x = {n: np.array([[c[n] for c in corners]]) for n in q}
+                x.update({n: v * (1 + sign * spread[n]) + 0 * x[n] for n, v in values.items()})
+                tr = self.trip(design, x)
+                t = charge_time_s(x["c_hold"], x["r_hold"], x["supply_v"], tr["v_trip"], self._extra(x, tr, leak, None))
+                delay[k, index] = (t.min(axis=1), t[:, 0], t.max(axis=1))[k]
+            nominal = {**{n: np.full(len(sub), u.nominal) for n, u in q.items()}, **{n: v[:, 0] for n, v in values.items()}}
+            after[index] = self.after_state(design, nominal, self._leakage(design, values["c_hold"][:, 0]))["supply_a"]
+        dropped = hold.Dropped()
+        nom, hi = rows["c_hold"].to_numpy(float) * 0 + delay[1], delay[2]
+        keep = dropped.drop((nom < band[0]) | (nom > band[1]), lambda m: f"nominal delay outside the band "
+                            f"{fq(band[0], 's')} to {fq(band[1], 's')} (time constant too short or too long)")
+        keep &= dropped.drop(keep & ~np.isfinite(hi), lambda m: "at the longest-delay corner the capacitor's leakage "
+                             "and Q1's base current reach the charge current below the trip point: never times out")
+        table = rows.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=hi, after_a=after, lines=2, during_a=0.0)
+        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part", "c_rated_v": "c_hold_rated_v"})
+        design0 = Design(self.id, {"r_hold": 10e6, "c_hold": 1e-6})
+        fixed = self._fixed_bom(design0)
+        return SelectionModel(self.id, "sum", [Block("hold", table, roles=("r_hold", "c_hold"), dropped=dict(dropped),
+                                                     options=("r_hold_part", "c_hold_part", "c_hold_rated_v"))],
+                              fixed_cost=float(sum(b.cost for b in fixed)), fixed_placements=sum(b.quantity for b in fixed),
+                              fixed_lines=len(fixed), fixed_during_a=self.standby(design0).during_a, rails=1,
+                              effort=self.effort(design0), notes=["threshold network fixed; table delays at the corners "
+                                                                  "of the model's monotone directions"])
+
+    def _table_corners(self, q: Mapping[str, Uncertain], sign: int) -> list[dict[str, float]]:
+        """Corners (name -> value) of the shortest (sign -1) or longest (+1) delay; sign 0: the nominal point."""
+        base = {n: (u.hi if _DIRECTION.get(n, 0) * sign > 0 else u.lo) if u.spreads and sign else u.nominal
+                for n, u in q.items()}
+        either = [n for n in q if sign and _DIRECTION.get(n, 0) == 0 and q[n].spreads]
+        return [{**base, **{n: (q[n].lo, q[n].hi)[b] for n, b in zip(either, combo)}}
+                for combo in np.ndindex(*([2] * len(either)))]
+
+    # ---- plots and SPICE ------------------------------------------------------------------
+    def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform:
+        """Timing capacitor voltage against time up to the upper trip point at the point `x`."""
+        xa = self._arrays(x)
+        tr = self.trip(design, xa)
+        volts = np.linspace(0.0, float(tr["v_trip"][0]), 200)
+        t = charge_time_s(xa["c_hold"], xa["r_hold"], xa["supply_v"], volts,
+                          self._extra(xa, tr, self._leakage(design), hold.shunt_ohm(design)))
+        keep = np.isfinite(t)
+        return Waveform(t[keep], volts[keep], "timing capacitor voltage", "V", float(tr["v_trip"][0]),
+                        "Schmitt trigger's upper trip point")
+
+    def spice(self, design: Design, point: Mapping[str, float] | None = None) -> str:
+        """ngspice netlist of `design` at `point` (default nominal) with `.measure tran delay` at the gate's snap.
+
+        Both NPNs as Gummel–Poon models with the model's IS, BF and NF at the point's temperature (TNOM
+        equal to it, no Early effect), the capacitor's leakage as a behavioural current source, 10 pF on
+        the switching nodes so the snap is a finite edge, the P-MOSFET as a level-1 model through its
+        rated on-resistance, the coil as R + L with a flyback diode (a dc load as its resistance).
+        """
+        x = {**self.nominal_point(design), **(point or {})}
+        xa = self._arrays(x)
+        args = [float(np.ravel(a)[0]) for a in self._trip_args(design, xa)]
+        switch, diode, leak = self.part(design, "switch"), self.part(design, "diode"), self._leakage(design)
+        a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL]))
+        t_model, vs, n = float(self.delay(design, xa)[0]), x["supply_v"], self.part(design, "npn").value("ideality", "")
+        vth = switch.value("vth_typ", "V")
+        lines = [f"* {self.id}: {self.brief.title}",
+                 f".options temp={x['ambient_c']:.6g} tnom={x['ambient_c']:.6g} reltol=1e-6 abstol=1e-15 vntol=1e-8",
+                 f"Vcc vcc 0 dc {vs:.9g}", f"Rhold vcc in {x['r_hold']:.9g}", f"Chold in 0 {x['c_hold']:.9g} ic=0",
+                 "Q1 c1 in e QN1", "Q2 c2 b2 e QN2", f"RE e 0 {x['r_e']:.9g}", f"RC1 vcc c1 {x['r_c1']:.9g}",
+                 f"R1 c1 b2 {x['r_1']:.9g}", f"R2 b2 0 {x['r_2']:.9g}", f"RC2 vcc c2 {self._network()['r_c2']:.9g}",
+                 "CC1 c1 0 10p", "CB2 b2 0 10p", "CC2 c2 0 10p",
+                 f".model QN1 NPN(IS={args[7]:.9g} BF={args[5]:.9g} NF={n:.6g} BR=1)",
+                 f".model QN2 NPN(IS={args[8]:.9g} BF={args[6]:.9g} NF={n:.6g} BR=1)",
+                 "M1 out c2 vcc vcc PSW L=100u W=100u",
+                 f".model PSW PMOS(LEVEL=1 VTO={-vth:.6g} "
+                 f"KP={1 / (switch.value('rds_on', 'ohm') * (switch.value('vgs_on', 'V') - vth)):.6g})"]
+        terms = [f"{a:.9g}*pwr(max(v(in),0),{m:g})" for a, m in ((a_typ, leak.n_typ), (a_lim, leak.n_lim)) if a > 0]
+        lines += [f"BLEAK in 0 I={'+'.join(terms)}"] if terms else []
+        shunt = hold.shunt_ohm(design)
+        lines += [f"RSH in 0 {shunt:.9g}"] if shunt is not None else []
+        if self.brief.load.kind == "relay":
+            lines += [f"RCOIL out mid {self.brief.load.coil_resistance_ohm:.9g}",
+                      f"LCOIL mid 0 {self.entry.value('coil_inductance', 'H'):.6g}", "D1 0 out DFLY",
+                      f".model DFLY D(IS={diode.value('is_sat', 'A'):.6g} N={diode.value('ideality', ''):.6g})"]
+        else:
+            lines.append(f"RLOAD out 0 {vs / self.brief.load.current_a:.9g}")
+        stop = 1.5 * t_model if math.isfinite(t_model) else 20 * x["r_hold"] * x["c_hold"]
+        lines += [f".tran {stop / 4000:.6g} {stop:.6g} 0 {stop / 4000:.6g} uic",
+                  f".measure tran delay when v(c2)={vs - 1.0:.9g} rise=1", ".end", ""]
+        return "\n".join(lines)
