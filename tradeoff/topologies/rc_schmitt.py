@@ -47,8 +47,10 @@ from tradeoff.units import format_quantity as fq
 __all__ = ["RcSchmitt", "transfer_curve", "rising_trip", "falling_trip_v", "saturation_current_a",
            "charge_time_s", "NETWORK"]
 
-NETWORK = ("r_e", "r_c1", "r_1", "r_2")
-"""Threshold network resistors (catalog entry params [ohm]): shared emitter, Q1 collector, divider top, bottom."""
+NETWORK = {"r_e": "shared emitter resistor", "r_c1": "Q1 collector resistor", "r_1": "divider to Q2's base",
+           "r_2": "Q2's base to ground"}
+"""Threshold network resistors (catalog entry params [ohm]) and what each does; r_c2, Q2's collector resistor
+(the gate pull-up), is the fifth fixed resistor."""
 _GRID = np.geomspace(1e-7, 0.6, 64)
 """Distances below Q1's cut-off in Q2's junction voltage where the fold is looked for [V]."""
 HYSTERESIS_MIN_V = 0.05
@@ -223,8 +225,8 @@ class RcSchmitt(Topology):
             q[f"vbe_{k}"] = Uncertain(*(npn.value(f"vbe_on_{s}", "V") for s in ("typ", "min", "max")), unit="V",
                                       note=f"{k.upper()} {npn.id}: VBE(on) at its test current, 25 degC (uniform)")
         fixed = self.part(design, "fixed_resistor")
-        q.update({n: hold.component_band(self._network()[n], fixed, self.brief, f"ohm: threshold network {n}")
-                  for n in NETWORK})
+        q.update({n: hold.component_band(self._network()[n], fixed, self.brief, f"ohm: {what}")
+                  for n, what in NETWORK.items()})
         return q
 
     def _trip_args(self, design: Design, x: Mapping[str, np.ndarray]) -> tuple:
@@ -307,8 +309,7 @@ class RcSchmitt(Topology):
     def _fixed_bom(self, design: Design) -> list[BomLine]:
         """Everything but the charge resistor and timing capacitor."""
         npn, switch, diode, fixed = (self.part(design, k) for k in ("npn", "switch", "diode", "fixed_resistor"))
-        notes = {"r_e": "shared emitter resistor", "r_c1": "Q1 collector resistor", "r_1": "divider to Q2's base",
-                 "r_2": "Q2 base to ground", "r_c2": "Q2 collector resistor, gate pull-up"}
+        notes = {**NETWORK, "r_c2": "Q2 collector resistor, gate pull-up"}
         lines = [BomLine("Q1, Q2", npn.id, "NPN", 2, npn.cost, "emitter-coupled Schmitt trigger"),
                  BomLine("M1", switch.id, "P-channel MOSFET", 1, switch.cost, "high-side load switch"),
                  BomLine("D2", diode.id, "reset", 1, diode.cost, "empties the timing capacitor at switch-off")]
@@ -379,6 +380,14 @@ class RcSchmitt(Topology):
             if value > switch.value(name, unit):
                 out.append(Finding("violation", "switch-rating", f"{what} up to {fq(value, unit)} exceeds the MOSFET's "
                                    f"rating {fq(switch.value(name, unit), unit)}"))
+        hot, tj = brief.ambient.max_c, switch.value("tj_max", "degC")
+        heat = self._load_a(v_max) ** 2 * switch.value("rds_on", "ohm") * (1 + switch.value("rds_on_tempco", "1/K")
+                                                                              * max(hot - 25.0, 0.0))
+        rating = switch.value("p_tot", "W") * max(tj - max(hot, 25.0), 0.0) / (tj - 25.0)
+        if heat > 0.5 * rating:
+            out.append(Finding("violation" if heat > rating else "warning", "switch-dissipation", f"the MOSFET "
+                               f"dissipates up to {fq(heat, 'W')} at its on-resistance (hottest ambient), against {fq(rating, 'W')} "
+                               f"derated to {hot:g} °C (common practice: stay below half)"))
         if brief.load.kind == "relay":
             need, coil_v = brief.load.must_operate_frac * brief.load.coil_voltage_v, v_min - self._load_a(v_min) \
                 * switch.value("rds_on", "ohm")
