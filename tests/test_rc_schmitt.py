@@ -229,3 +229,13 @@ def test_shipped_briefs_report_it_with_a_reason(name):
     # constant is out of reach: either way the report says why in the designer's terms
     assert outcome.topology == "rc-schmitt" and not outcome.feasible and outcome.reasons
     assert any("band" in r or "never times out" in r for r in outcome.reasons)
+
+
+def test_q2_saturation_is_flagged_where_the_active_region_model_stops(fan):
+    # the trip point is solved for both NPNs forward-active (Ebers-Moll forward mode); Q2's collector sits
+    # R_C2·IC2 below the supply, about 0.655·Vs - 0.9 V against 0.636·Vs of headroom above its base (Ohm's
+    # law on the fixed network): it saturates only above about 47 V
+    assert "q2-saturation" not in {f.code for f in fan.checks(_design())}
+    high = build_topology("rc-schmitt", fan.brief.replace({"supply.nominal": "50 V", "supply.min": "48 V",
+                                                           "supply.max": "52 V"}), fan.catalog)
+    assert "q2-saturation" in {f.code for f in high.checks(_design(cap="cap-film-pet-5pct"))}

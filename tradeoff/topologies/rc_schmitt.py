@@ -358,9 +358,16 @@ class RcSchmitt(Topology):
                 f"active-region model): hysteresis {fq(v_up - v_down, 'V')}")
         out.append(Finding("violation", "hysteresis", f"{text}, below {fq(HYSTERESIS_MIN_V, 'V')} (common practice)")
                    if v_up - v_down < HYSTERESIS_MIN_V else Finding("info", "hysteresis", f"{text}: the output snaps"))
-        spread = q["r_e"].hi / q["r_e"].nominal - 1  # the network's class: R_C2 at its low end
-        gate = (tr["ve_v"] / x["r_e"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1) * self._network()["r_c2"] * (1 - spread)
-        drive = float(np.min(np.where(x["supply_v"] == v_min, gate, np.inf)))
+        spread = q["r_e"].hi / q["r_e"].nominal - 1  # the network's class: R_C2 at its low and high ends
+        ic2 = (tr["ve_v"] / x["r_e"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1)
+        drive = float(np.min(np.where(x["supply_v"] == v_min, ic2 * self._network()["r_c2"] * (1 - spread), np.inf)))
+        args = self._trip_args(design, x)
+        vb2 = tr["ve_v"] + args[9] * np.log(ic2 / args[8])  # V_E + n·Vt·ln(IC2/IS2)
+        vcb = float(np.min(x["supply_v"] - ic2 * self._network()["r_c2"] * (1 + spread) - vb2))
+        if vcb < 0:
+            out.append(Finding("warning", "q2-saturation", f"Q2's collector falls {fq(-vcb, 'V')} below its base at "
+                               "the trip point at some corners: Q2 saturates and the active-region trip point is "
+                               "approximate"))
         if drive < switch.value("vgs_on", "V"):
             out.append(Finding("violation", "gate-drive", f"Q2 pulls the MOSFET's gate only {fq(drive, 'V')} below the "
                                f"supply at the lowest supply; its on-resistance is rated at "
