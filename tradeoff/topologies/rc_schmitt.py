@@ -11,24 +11,20 @@ and the loop Q2 -> emitter -> Q1 -> divider -> Q2 regenerates: the gate snaps to
 microseconds and the relay drops out at once, whatever its own release point. A reset diode from
 the capacitor to the supply empties it when the supply is switched off.
 
-Model (per sample, vectorised), the emitter-coupled Schmitt trigger of Millman and Halkias,
-Integrated Electronics, and Horowitz and Hill, The Art of Electronics (transistor Schmitt
-trigger), solved exactly for the diode law instead of with a fixed cut-in voltage:
-- both NPNs in the forward-active region, IC = IS·exp(VBE/(n·Vt)) with IS from VBE(on) at the
-  class's test current and its tempco (-2 mV/K, Sedra and Smith), IB = IE/(hFE + 1), hFE
-  log-normal between the class limits scaled to microampere currents (catalog entry's
-  `low_current_gain_frac`, from memory) with its tempco; no Early effect;
-- the DC transfer curve as a function of Q2's junction voltage w: Q1's emitter current follows
-  linearly from the two node equations (collector of Q1, base of Q2), the input is
-  V_in(w) = (IE1 + IE2)·R_E + VBE1(IE1); the upper trip point is the fold dV_in/dw = 0 nearest to
-  Q1's cut-off, found by bisection (`rising_trip`); the falling one, for the hysteresis, the next
-  fold (`falling_trip_v`);
-- charge time t = C ∫ dV / i(V) from 0 V to the trip, i(V) = (V_s - V)/r_hold - leakage(V) -
-  V/R_shunt - IB1(V), integrated in u = -ln(V_s - V) by Gauss–Legendre quadrature (exact for the
-  plain RC: t = r·C·ln(V_s/(V_s - V_trip))); IB1 is Q1's base current with the emitter node held at
-  its value at the trip (Q2's current dominates it there); no timeout where i(V_trip) <= 0.
-The trip is a fixed fraction of the supply set by resistor ratios, shifted by the two junction
-drops, whose temperature coefficients largely cancel.
+Model (per sample, vectorised): the emitter-coupled Schmitt trigger of Millman and Halkias, Integrated
+Electronics, and Horowitz and Hill, The Art of Electronics, solved for the diode law instead of a fixed
+cut-in voltage:
+- both NPNs forward-active, IC = IS·exp(VBE/(n·Vt)), IS from VBE(on) at the class's test current with
+  its tempco (-2 mV/K, Sedra and Smith), IB = IE/(hFE + 1), hFE log-normal between the class limits
+  scaled to microampere currents (`low_current_gain_frac`, from memory), with its tempco; no Early effect;
+- the DC transfer curve against Q2's junction voltage w (`transfer_curve`, linear node equations for
+  Q1's current); the upper trip point is the fold dV_in/dw = 0 nearest to Q1's cut-off (`rising_trip`),
+  the falling one the next fold (`falling_trip_v`): resistor ratios set about 0.35 of the supply, shifted
+  by the difference of two junction drops whose temperature coefficients largely cancel;
+- charge time t = C ∫ dV / i(V) from 0 V to the trip, i(V) = (V_s - V)/r_hold - leakage(V) - V/R_shunt -
+  IB1(V), by Gauss–Legendre quadrature in u = -ln(V_s - V) (`charge_time_s`; the plain RC gives
+  r·C·ln(V_s/(V_s - V_trip))); IB1 with the emitter node held at its value at the trip; no timeout where
+  i(V_trip) <= 0, so a leaky capacitor holds the load on longer, or for ever.
 """
 from __future__ import annotations
 
@@ -87,15 +83,19 @@ def transfer_curve(w, supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt):
     return ie1, ie2, v_in, slope
 
 
+def _bisect(rises, lo, hi, steps: int, geometric: bool = False):
+    """Bisection where the boolean array rises(mid) says the root lies below mid (arrays, vectorised)."""
+    for _ in range(steps):
+        mid = np.sqrt(lo * hi) if geometric else 0.5 * (lo + hi)
+        below = rises(mid)
+        lo, hi = np.where(below, lo, mid), np.where(below, mid, hi)
+    return lo, hi
+
+
 def _cutoff_w(args) -> np.ndarray:
-    """Q2 junction voltage where Q1's emitter current reaches zero [V] (bisection; IE1 falls as w rises)."""
+    """Q2 junction voltage where Q1's emitter current reaches zero [V] (IE1 falls as w rises)."""
     shape = np.broadcast_shapes(*(np.shape(a) for a in args))
-    lo, hi = np.zeros(shape), np.full(shape, 1.5)
-    for _ in range(56):
-        mid = 0.5 * (lo + hi)
-        on = transfer_curve(mid, *args)[0] > 0
-        lo, hi = np.where(on, mid, lo), np.where(on, hi, mid)
-    return lo
+    return _bisect(lambda w: transfer_curve(w, *args)[0] <= 0, np.zeros(shape), np.full(shape, 1.5), 56)[0]
 
 
 def rising_trip(supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt, steps: int = 40) -> dict[str, np.ndarray]:
@@ -115,10 +115,8 @@ def rising_trip(supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt, steps:
     first = np.where(regenerative, np.argmax(rising, axis=-1), np.argmax(slope, axis=-1))
     hi = _GRID[first]
     lo = np.where(regenerative, _GRID[np.maximum(first - 1, 0)] * np.where(first > 0, 1.0, 0.1), hi)
-    for _ in range(steps):  # slope < 0 at lo (nearer the cut-off), > 0 at hi
-        mid = np.sqrt(lo * hi)
-        up = transfer_curve(w0 - mid, *args)[3] > 0
-        lo, hi = np.where(up, lo, mid), np.where(up, mid, hi)
+    # slope < 0 at lo (nearer the cut-off), > 0 at hi
+    lo, hi = _bisect(lambda d: transfer_curve(w0 - d, *args)[3] > 0, lo, hi, steps, geometric=True)
     ie1, ie2, v_in, _ = transfer_curve(w0 - lo, *args)
     return {"v_trip": v_in, "ie1_a": ie1, "ve_v": (ie1 + ie2) * args[1], "regenerative": regenerative}
 
@@ -288,11 +286,7 @@ class RcSchmitt(Topology):
             v_in = ve + tr["nvt"] * np.log(np.maximum(alpha * ie, 1e-300) / tr["is1"])
             leak_a = leak.current_a(np.maximum(v_in, 0.0), a_typ, a_lim)
             return (vs - v_in) / x["r_hold"] - (ie - ic) - leak_a, v_in, vc1, leak_a
-        lo, hi = np.zeros(np.shape(vs)), vs - vce_sat
-        for _ in range(50):
-            mid = 0.5 * (lo + hi)
-            up = state(mid)[0] > 0
-            lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+        lo = _bisect(lambda ve: state(ve)[0] <= 0, np.zeros(np.shape(vs)), vs - vce_sat, 50)[0]
         _, v_in, vc1, leak_a = state(lo)
         off = self.part(design, "switch").value("idss", "A")
         return {"v_in": v_in, "ve_v": lo, "vc1_v": vc1, "supply_a": lo / r_e + vc1 / r_div + leak_a + off}
@@ -333,81 +327,71 @@ class RcSchmitt(Topology):
 
     # ---- design rules ---------------------------------------------------------------------
     def checks(self, design: Design) -> list[Finding]:
-        """Capacitor rating, snap and hysteresis, gate drive, junction ratings, stays off after the timeout,
-        MOSFET ratings and pick-up, start assumption, and which leakage figure is used."""
+        """Capacitor rating, snap and hysteresis, gate drive, Q2 saturation, junction ratings, stays off after
+        the timeout, MOSFET ratings, dissipation and pick-up, start and release, which leakage figure is used."""
         brief, q, leak = self.brief, self.quantities(design), self._leakage(design)
         npn, switch = self.part(design, "npn"), self.part(design, "switch")
-        out, v_max, v_min, rated = [leak.finding()], brief.supply.max_v, brief.supply.min_v, float(leak.rated_v)
-        if v_max > 0.8 * rated:
-            out.append(Finding("violation" if v_max > rated else "warning", "capacitor-rating", f"timing capacitor "
-                               f"rated {fq(rated, 'V')} charges to {fq(v_max, 'V')} (common practice: derate to 80 %)"))
+        v_max, v_min, rated, veb = brief.supply.max_v, brief.supply.min_v, float(leak.rated_v), npn.value("veb_max", "V")
         names = ("ambient_c", "supply_v", "hfe_q1", "hfe_q2")  # every combination of these limits
         grid = np.array(np.meshgrid(*[[q[n].lo, q[n].hi] for n in names], indexing="ij")).reshape(len(names), -1)
         x = {**{n: np.full(grid.shape[1], u.nominal) for n, u in q.items()}, **dict(zip(names, grid))}
-        tr = self.trip(design, x)
-        if not tr["regenerative"].all():
-            out.append(Finding("violation", "snap", "the Schmitt trigger does not regenerate at some gain and "
-                               "temperature corners: the output would fade instead of snapping"))
+        tr, args = self.trip(design, x), self._trip_args(design, x)
         ends = {}
         for vs in (v_min, v_max):
             xs = self._arrays({**self.nominal_point(design), "supply_v": vs})
             ends[vs] = float(self.trip(design, xs)["v_trip"][0]), float(falling_trip_v(*self._trip_args(design, xs))[0])
         (v_up, v_down), after = ends[v_min], self.after_state(design, self._arrays({**self.nominal_point(design),
                                                                                      "supply_v": v_max}))
-        text = (f"trip points {fq(v_up, 'V')} rising, {fq(v_down, 'V')} falling at the lowest supply (nominal parts, "
-                f"active-region model): hysteresis {fq(v_up - v_down, 'V')}")
-        out.append(Finding("violation", "hysteresis", f"{text}, below {fq(HYSTERESIS_MIN_V, 'V')} (common practice)")
-                   if v_up - v_down < HYSTERESIS_MIN_V else Finding("info", "hysteresis", f"{text}: the output snaps"))
         spread = q["r_e"].hi / q["r_e"].nominal - 1  # the network's class: R_C2 at its low and high ends
         ic2 = (tr["ve_v"] / x["r_e"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1)
         drive = float(np.min(np.where(x["supply_v"] == v_min, ic2 * self._network()["r_c2"] * (1 - spread), np.inf)))
-        args = self._trip_args(design, x)
-        vb2 = tr["ve_v"] + args[9] * np.log(ic2 / args[8])  # V_E + n·Vt·ln(IC2/IS2)
-        vcb = float(np.min(x["supply_v"] - ic2 * self._network()["r_c2"] * (1 + spread) - vb2))
-        if vcb < 0:
-            out.append(Finding("warning", "q2-saturation", f"Q2's collector falls {fq(-vcb, 'V')} below its base at "
-                               "the trip point at some corners: Q2 saturates and the active-region trip point is "
-                               "approximate"))
-        if drive < switch.value("vgs_on", "V"):
-            out.append(Finding("violation", "gate-drive", f"Q2 pulls the MOSFET's gate only {fq(drive, 'V')} below the "
-                               f"supply at the lowest supply; its on-resistance is rated at "
-                               f"{fq(switch.value('vgs_on', 'V'), 'V')}"))
-        reverse = {"Q1 with the capacitor empty": float(np.max(tr["ve_v"])),
-                   "Q2 after the timeout": float(after["ve_v"][0] - after["vc1_v"][0] * x["r_2"][0]
-                                                 / (x["r_1"][0] + x["r_2"][0]))}
-        for where, value in reverse.items():
-            if value > npn.value("veb_max", "V"):
-                out.append(Finding("violation", "junction-rating", f"{where}: the emitter-base junction is reverse "
-                                   f"biased by {fq(value, 'V')}, above its {fq(npn.value('veb_max', 'V'), 'V')} rating"))
-        if float(after["v_in"][0]) <= ends[v_max][1]:
-            out.append(Finding("violation", "stays-off", f"after the timeout Q1's base current holds the capacitor at "
-                               f"{fq(float(after['v_in'][0]), 'V')}, below the falling trip point: it would restart"))
-        for name, what, value, unit in (("vds_max", "VDS", v_max, "V"), ("vgs_max", "VGS", v_max, "V"),
-                                        ("id_max", "ID", self._load_a(v_max), "A")):
-            if value > switch.value(name, unit):
-                out.append(Finding("violation", "switch-rating", f"{what} up to {fq(value, unit)} exceeds the MOSFET's "
-                                   f"rating {fq(switch.value(name, unit), unit)}"))
-        hot, tj = brief.ambient.max_c, switch.value("tj_max", "degC")
-        heat = self._load_a(v_max) ** 2 * switch.value("rds_on", "ohm") * (1 + switch.value("rds_on_tempco", "1/K")
-                                                                              * max(hot - 25.0, 0.0))
-        rating = switch.value("p_tot", "W") * max(tj - max(hot, 25.0), 0.0) / (tj - 25.0)
-        if heat > 0.5 * rating:
-            out.append(Finding("violation" if heat > rating else "warning", "switch-dissipation", f"the MOSFET "
-                               f"dissipates up to {fq(heat, 'W')} at its on-resistance (hottest ambient), against {fq(rating, 'W')} "
-                               f"derated to {hot:g} °C (common practice: stay below half)"))
+        vcb = float(np.min(x["supply_v"] - ic2 * self._network()["r_c2"] * (1 + spread)
+                           - tr["ve_v"] - args[9] * np.log(ic2 / args[8])))  # base: V_E + n·Vt·ln(IC2/IS2)
+        q2_reverse = float(after["ve_v"][0] - after["vc1_v"][0] * x["r_2"][0] / (x["r_1"][0] + x["r_2"][0]))
+        hot, tj, rds = brief.ambient.max_c, switch.value("tj_max", "degC"), switch.value("rds_on", "ohm")
+        heat = self._load_a(v_max) ** 2 * rds * (1 + switch.value("rds_on_tempco", "1/K") * max(hot - 25.0, 0.0))
+        derated = switch.value("p_tot", "W") * max(tj - max(hot, 25.0), 0.0) / (tj - 25.0)
+        hysteresis = (f"trip points {fq(v_up, 'V')} rising, {fq(v_down, 'V')} falling at the lowest supply (nominal "
+                      f"parts, active-region model): hysteresis {fq(v_up - v_down, 'V')}")
+        rules = [
+            (v_max > 0.8 * rated, "violation" if v_max > rated else "warning", "capacitor-rating", f"timing capacitor "
+             f"rated {fq(rated, 'V')} charges to {fq(v_max, 'V')} (common practice: derate to 80 %)"),
+            (not tr["regenerative"].all(), "violation", "snap", "the Schmitt trigger does not regenerate at some gain "
+             "and temperature corners: the output would fade instead of snapping"),
+            (True, *(("violation", "hysteresis", f"{hysteresis}, below {fq(HYSTERESIS_MIN_V, 'V')} (common practice)")
+                     if v_up - v_down < HYSTERESIS_MIN_V else ("info", "hysteresis", f"{hysteresis}: the output snaps"))),
+            (drive < switch.value("vgs_on", "V"), "violation", "gate-drive", f"Q2 pulls the MOSFET's gate only "
+             f"{fq(drive, 'V')} below the supply at the lowest supply; its on-resistance is rated at "
+             f"{fq(switch.value('vgs_on', 'V'), 'V')}"),
+            (vcb < 0, "warning", "q2-saturation", f"Q2's collector falls {fq(-vcb, 'V')} below its base at the trip "
+             "point at some corners: Q2 saturates and the active-region trip point is approximate"),
+            (float(np.max(tr["ve_v"])) > veb, "violation", "junction-rating", f"with the capacitor empty Q1's "
+             f"emitter-base junction is reverse biased by {fq(float(np.max(tr['ve_v'])), 'V')}, above its "
+             f"{fq(veb, 'V')} rating"),
+            (q2_reverse > veb, "violation", "junction-rating", f"after the timeout Q2's emitter-base junction is "
+             f"reverse biased by {fq(q2_reverse, 'V')}, above its {fq(veb, 'V')} rating"),
+            (float(after["v_in"][0]) <= ends[v_max][1], "violation", "stays-off", f"after the timeout Q1's base "
+             f"current holds the capacitor at {fq(float(after['v_in'][0]), 'V')}, below the falling trip point: it "
+             "would restart"),
+            (heat > 0.5 * derated, "violation" if heat > derated else "warning", "switch-dissipation", f"the MOSFET "
+             f"dissipates up to {fq(heat, 'W')} at its on-resistance (hottest ambient) against {fq(derated, 'W')} "
+             f"derated to {hot:g} °C (common practice: stay below half)"),
+            (True, "info", "start", "power-on start assumes the timing capacitor starts empty (the reset diode empties "
+             "it into the supply at switch-off; a quick off-on restarts from what is left, a shorter delay)"
+             if brief.start == "power-on" else "the button empties the timing capacitor; timing starts when it is "
+             "released"),
+        ]
+        rules += [(value > switch.value(name, unit), "violation", "switch-rating", f"{what} up to {fq(value, unit)} "
+                   f"exceeds the MOSFET's rating {fq(switch.value(name, unit), unit)}")
+                  for name, what, value, unit in (("vds_max", "VDS", v_max, "V"), ("vgs_max", "VGS", v_max, "V"),
+                                                  ("id_max", "ID", self._load_a(v_max), "A"))]
         if brief.load.kind == "relay":
-            need, coil_v = brief.load.must_operate_frac * brief.load.coil_voltage_v, v_min - self._load_a(v_min) \
-                * switch.value("rds_on", "ohm")
-            if coil_v < need:
-                out.append(Finding("violation", "pick-up", f"at the lowest supply {fq(v_min, 'V')} the coil gets "
-                                   f"{fq(coil_v, 'V')}, below its must-operate voltage {fq(need, 'V')}"))
-            out.append(Finding("info", "release", "the gate snaps to the supply at the trip point, so the relay drops "
-                               "out within its own release time wherever its release point lies"))
-        out.append(Finding("info", "start", "power-on start assumes the timing capacitor starts empty (the reset diode "
-                           "empties it into the supply at switch-off; a quick off-on restarts from what is left, a "
-                           "shorter delay)" if brief.start == "power-on" else "the button empties the timing capacitor; "
-                           "timing starts when it is released"))
-        return out
+            need, coil_v = brief.load.must_operate_frac * brief.load.coil_voltage_v, v_min - self._load_a(v_min) * rds
+            rules += [(coil_v < need, "violation", "pick-up", f"at the lowest supply {fq(v_min, 'V')} the coil gets "
+                       f"{fq(coil_v, 'V')}, below its must-operate voltage {fq(need, 'V')}"),
+                      (True, "info", "release", "the gate snaps to the supply at the trip point, so the relay drops "
+                       "out within its own release time wherever its release point lies")]
+        return [leak.finding()] + [Finding(severity, code, text) for bad, severity, code, text in rules if bad]
 
     # ---- optimiser ------------------------------------------------------------------------
     def selection(self) -> SelectionModel:
@@ -471,13 +455,9 @@ class RcSchmitt(Topology):
                         "Schmitt trigger's upper trip point")
 
     def spice(self, design: Design, point: Mapping[str, float] | None = None) -> str:
-        """ngspice netlist of `design` at `point` (default nominal) with `.measure tran delay` at the gate's snap.
-
-        Both NPNs as Gummel–Poon models with the model's IS, BF and NF at the point's temperature (TNOM
-        equal to it, no Early effect), the capacitor's leakage as a behavioural current source, 10 pF on
-        the switching nodes so the snap is a finite edge, the P-MOSFET as a level-1 model through its
-        rated on-resistance, the coil as R + L with a flyback diode (a dc load as its resistance).
-        """
+        """ngspice netlist at `point` (default nominal), `.measure tran delay` at the gate's snap: Gummel–Poon NPNs
+        with the model's IS, BF, NF at the point's temperature (TNOM equal), leakage as a behavioural source,
+        10 pF on the switching nodes, a level-1 P-MOSFET through its rated on-resistance, the coil as R + L."""
         x = {**self.nominal_point(design), **(point or {})}
         xa = self._arrays(x)
         args = [float(np.ravel(a)[0]) for a in self._trip_args(design, xa)]
