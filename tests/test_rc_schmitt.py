@@ -60,8 +60,9 @@ def _schmitt_netlist(topology, design, point) -> str:
         f".options temp={temp} tnom={temp} reltol=1e-6 abstol=1e-15 vntol=1e-8",
         f"V1 vcc 0 dc {vs}", f"R0 vcc in {point['r_hold']}", f"C0 in 0 {point['c_hold']} ic=0",
         f"B0 in 0 I={a_typ}*pwr(max(v(in),0),{leak.n_typ}) + {a_lim}*pwr(max(v(in),0),{leak.n_lim})",
-        "Q1 c1 in e NA", "Q2 c2 b2 e NB", f"RE e 0 {point['r_e']}", f"RC1 vcc c1 {point['r_c1']}",
-        f"R1 c1 b2 {point['r_1']}", f"R2 b2 0 {point['r_2']}", f"RC2 vcc c2 {topology.entry.value('r_c2', 'ohm')}",
+        "Q1 c1 in e NA", "Q2 c2 b2 e NB", f"RE e 0 {point['r_emitter']}", f"RC1 vcc c1 {point['r_q1_collector']}",
+        f"R1 c1 b2 {point['r_divider_top']}", f"R2 b2 0 {point['r_divider_bottom']}",
+        f"RC2 vcc c2 {topology.entry.value('r_q2_collector', 'ohm')}",
         "CX1 c1 0 10p", "CX2 c2 0 10p", "CX3 b2 0 10p",
         f".model NA NPN(IS={tr['is1']} BF={tr['hfe1']} NF=1 BR=1)",
         f".model NB NPN(IS={is2} BF={point['hfe_q2'] * gain} NF=1 BR=1)",
@@ -77,7 +78,7 @@ CASES = [
     ("hot, high supply, leakage limit", dict(r_ohm=220e3, c_f=470e-6, cap="cap-electrolytic-low-leakage"),
      dict(ambient_c=40.0, supply_v=15.0, hfe_q1=300.0, hfe_q2=300.0, vbe_q1=0.6, vbe_q2=0.8, leak_level=1.0)),
     ("typical electrolytic, resistor corners", dict(r_ohm=100e3, c_f=2.2e-3, cap="cap-electrolytic-85c"),
-     dict(r_e=1.012e6, r_c1=385e3, r_1=2.23e6, r_2=1.48e6, leak_level=0.0)),
+     dict(r_emitter=1.012e6, r_q1_collector=385e3, r_divider_top=2.23e6, r_divider_bottom=1.48e6, leak_level=0.0)),
 ]
 
 
@@ -121,14 +122,17 @@ def test_trip_is_ratiometric_with_hysteresis_and_cancelling_junction_tempcos(fan
         assert 0.33 < v / vs < 0.37
     # both VBE move by about -2 mV/K (Sedra and Smith): over 35 K the trip moves far less than 70 mV
     assert abs(trips[10.8, 40.0] - trips[10.8, 5.0]) < 0.02
-    npn, net = fan.part(d, "npn"), {k: fan.entry.value(k, "ohm") for k in ("r_e", "r_c1", "r_1", "r_2")}
+    npn = fan.part(d, "npn")
+    net = {k: fan.entry.value(k, "ohm") for k in ("r_emitter", "r_q1_collector", "r_divider_top", "r_divider_bottom")}
     is_ = float(saturation_current_a(0.68, npn.value("vbe_test_current", "A"), 1.0, 25.0))
     args = (12.0, *net.values(), 125.0, 125.0, is_, is_, float(hold.thermal_voltage_v(25.0)))
     up, down = float(rising_trip(*args)["v_trip"]), float(falling_trip_v(*args))
     # hand estimate (Millman and Halkias' emitter-coupled binary): after the snap Q1's collector current
     # IE1·RC1 moves Q2's base down by the divider fraction R2/(R1 + R2); with IE1 about V_E/R_E that bounds
     # the hysteresis from above (Q1 already carries part of the current before the snap)
-    bound = 3.85 / net["r_e"] * net["r_c1"] * net["r_2"] / (net["r_1"] + net["r_2"])
+    divider = net["r_divider_bottom"] / (net["r_divider_top"] + net["r_divider_bottom"])
+    bound = 3.85 / net["r_emitter"] * net["r_q1_collector"] * divider
+
     assert 0.1 < up - down < bound
 
 

@@ -43,16 +43,17 @@ from tradeoff.units import format_quantity as fq
 __all__ = ["RcSchmitt", "transfer_curve", "rising_trip", "falling_trip_v", "saturation_current_a",
            "charge_time_s", "NETWORK"]
 
-NETWORK = {"r_e": "shared emitter resistor", "r_c1": "Q1 collector resistor", "r_1": "divider to Q2's base",
-           "r_2": "Q2's base to ground"}
-"""Threshold network resistors (catalog entry params [ohm]) and what each does; r_c2, Q2's collector resistor
-(the gate pull-up), is the fifth fixed resistor."""
+NETWORK = {"r_emitter": "shared emitter resistor", "r_q1_collector": "Q1 collector resistor",
+           "r_divider_top": "divider to Q2's base", "r_divider_bottom": "Q2's base to ground"}
+"""Threshold network resistors (catalog entry params [ohm]) and what each does; r_q2_collector (the gate
+pull-up) is the fifth fixed resistor."""
 _GRID = np.geomspace(1e-7, 0.6, 64)
 """Distances below Q1's cut-off in Q2's junction voltage where the fold is looked for [V]."""
 HYSTERESIS_MIN_V = 0.05
 """Smallest hysteresis for a clean snap against supply ripple and noise [V] (common practice)."""
 _DIRECTION = {"r_hold": 1, "c_hold": 1, hold.LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
-              "r_c1": -1, "r_1": -1, "r_2": 1, "r_e": 0, "ambient_c": 0, "supply_v": 0}
+              "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
+              "supply_v": 0}
 """Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
 
 
@@ -191,7 +192,7 @@ class RcSchmitt(Topology):
         return hold.CapacitorLeakage(part, self._value(design, "c_hold") if c_f is None else c_f, float(rated))
 
     def _network(self) -> dict[str, float]:
-        return {name: self.entry.value(name, "ohm") for name in (*NETWORK, "r_c2")}
+        return {name: self.entry.value(name, "ohm") for name in (*NETWORK, "r_q2_collector")}
 
     @staticmethod
     def _arrays(point: Mapping[str, float]) -> dict[str, np.ndarray]:
@@ -277,7 +278,8 @@ class RcSchmitt(Topology):
         leak, vs = leak or self._leakage(design), np.asarray(x["supply_v"], dtype=float)
         a_typ, a_lim = leak.coefficients(x["ambient_c"], 0.0)
         tr, vce_sat = self.trip(design, x), self.part(design, "npn").value("vce_sat", "V")
-        r_e, r_c1, r_div, alpha = x["r_e"], x["r_c1"], x["r_1"] + x["r_2"], tr["hfe1"] / (tr["hfe1"] + 1)
+        r_e, r_c1, alpha = x["r_emitter"], x["r_q1_collector"], tr["hfe1"] / (tr["hfe1"] + 1)
+        r_div = x["r_divider_top"] + x["r_divider_bottom"]
 
         def state(ve):
             ie = ve / r_e
@@ -297,13 +299,14 @@ class RcSchmitt(Topology):
         divider, the capacitor's typical leakage and the MOSFET's off-state current."""
         x = self._arrays(self.nominal_point(design))
         tr, vs = self.trip(design, x), self.brief.supply.nominal_v
-        trigger = tr["ve_v"] / x["r_e"] + vs / (x["r_c1"] + x["r_1"] + x["r_2"]) + (vs - tr["v_trip"]) / x["r_hold"]
+        divider = x["r_q1_collector"] + x["r_divider_top"] + x["r_divider_bottom"]
+        trigger = tr["ve_v"] / x["r_emitter"] + vs / divider + (vs - tr["v_trip"]) / x["r_hold"]
         return Standby(self._load_a(vs) + float(trigger[0]), float(self.after_state(design, x)["supply_a"][0]))
     # ---- parts list -----------------------------------------------------------------------
     def _fixed_bom(self, design: Design) -> list[BomLine]:
         """Everything but the charge resistor and timing capacitor."""
         npn, switch, diode, fixed = (self.part(design, k) for k in ("npn", "switch", "diode", "fixed_resistor"))
-        notes = {**NETWORK, "r_c2": "Q2 collector resistor, gate pull-up"}
+        notes = {**NETWORK, "r_q2_collector": "Q2 collector resistor, gate pull-up"}
         lines = [BomLine("Q1, Q2", npn.id, "NPN", 2, npn.cost, "emitter-coupled Schmitt trigger"),
                  BomLine("M1", switch.id, "P-channel MOSFET", 1, switch.cost, "high-side load switch"),
                  BomLine("D2", diode.id, "reset", 1, diode.cost, "empties the timing capacitor at switch-off")]
@@ -331,7 +334,8 @@ class RcSchmitt(Topology):
         the timeout, MOSFET ratings, dissipation and pick-up, start and release, which leakage figure is used."""
         brief, q, leak = self.brief, self.quantities(design), self._leakage(design)
         npn, switch = self.part(design, "npn"), self.part(design, "switch")
-        v_max, v_min, rated, veb = brief.supply.max_v, brief.supply.min_v, float(leak.rated_v), npn.value("veb_max", "V")
+        v_max, v_min, rated = brief.supply.max_v, brief.supply.min_v, float(leak.rated_v)
+        veb, r_c2 = npn.value("veb_max", "V"), self._network()["r_q2_collector"]
         names = ("ambient_c", "supply_v", "hfe_q1", "hfe_q2")  # every combination of these limits
         grid = np.array(np.meshgrid(*[[q[n].lo, q[n].hi] for n in names], indexing="ij")).reshape(len(names), -1)
         x = {**{n: np.full(grid.shape[1], u.nominal) for n, u in q.items()}, **dict(zip(names, grid))}
@@ -342,12 +346,13 @@ class RcSchmitt(Topology):
             ends[vs] = float(self.trip(design, xs)["v_trip"][0]), float(falling_trip_v(*self._trip_args(design, xs))[0])
         (v_up, v_down), after = ends[v_min], self.after_state(design, self._arrays({**self.nominal_point(design),
                                                                                      "supply_v": v_max}))
-        spread = q["r_e"].hi / q["r_e"].nominal - 1  # the network's class: R_C2 at its low and high ends
-        ic2 = (tr["ve_v"] / x["r_e"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1)
-        drive = float(np.min(np.where(x["supply_v"] == v_min, ic2 * self._network()["r_c2"] * (1 - spread), np.inf)))
-        vcb = float(np.min(x["supply_v"] - ic2 * self._network()["r_c2"] * (1 + spread)
+        spread = q["r_emitter"].hi / q["r_emitter"].nominal - 1  # the network's class: R_C2 at its low and high ends
+        ic2 = (tr["ve_v"] / x["r_emitter"] - tr["ie1_a"]) * x["hfe_q2"] / (x["hfe_q2"] + 1)
+        drive = float(np.min(np.where(x["supply_v"] == v_min, ic2 * r_c2 * (1 - spread), np.inf)))
+        vcb = float(np.min(x["supply_v"] - ic2 * r_c2 * (1 + spread)
                            - tr["ve_v"] - args[9] * np.log(ic2 / args[8])))  # base: V_E + n·Vt·ln(IC2/IS2)
-        q2_reverse = float(after["ve_v"][0] - after["vc1_v"][0] * x["r_2"][0] / (x["r_1"][0] + x["r_2"][0]))
+        bottom = x["r_divider_bottom"][0] / (x["r_divider_top"][0] + x["r_divider_bottom"][0])
+        q2_reverse = float(after["ve_v"][0] - after["vc1_v"][0] * bottom)
         hot, tj, rds = brief.ambient.max_c, switch.value("tj_max", "degC"), switch.value("rds_on", "ohm")
         heat = self._load_a(v_max) ** 2 * rds * (1 + switch.value("rds_on_tempco", "1/K") * max(hot - 25.0, 0.0))
         derated = switch.value("p_tot", "W") * max(tj - max(hot, 25.0), 0.0) / (tj - 25.0)
@@ -358,8 +363,9 @@ class RcSchmitt(Topology):
              f"rated {fq(rated, 'V')} charges to {fq(v_max, 'V')} (common practice: derate to 80 %)"),
             (not tr["regenerative"].all(), "violation", "snap", "the Schmitt trigger does not regenerate at some gain "
              "and temperature corners: the output would fade instead of snapping"),
-            (True, *(("violation", "hysteresis", f"{hysteresis}, below {fq(HYSTERESIS_MIN_V, 'V')} (common practice)")
-                     if v_up - v_down < HYSTERESIS_MIN_V else ("info", "hysteresis", f"{hysteresis}: the output snaps"))),
+            (True, *(("violation", "hysteresis", f"{hysteresis}, below {fq(HYSTERESIS_MIN_V, 'V')} (common "
+                      "practice)") if v_up - v_down < HYSTERESIS_MIN_V else
+                     ("info", "hysteresis", f"{hysteresis}: the output snaps"))),
             (drive < switch.value("vgs_on", "V"), "violation", "gate-drive", f"Q2 pulls the MOSFET's gate only "
              f"{fq(drive, 'V')} below the supply at the lowest supply; its on-resistance is rated at "
              f"{fq(switch.value('vgs_on', 'V'), 'V')}"),
@@ -403,10 +409,11 @@ class RcSchmitt(Topology):
         for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
             sub = rows.iloc[index]
             design = Design(self.id, {"r_hold": float(sub["r_hold"].iloc[0]), "c_hold": float(sub["c_hold"].iloc[0])},
-                            {"c_hold_part": c_part, "c_hold_rated_v": float(rated), "r_hold_part": sub["r_part"].iloc[0]})
+                            {"c_hold_part": c_part, "c_hold_rated_v": float(rated),
+                             "r_hold_part": sub["r_part"].iloc[0]})
             q = self.quantities(design)
             values = {n: sub[n].to_numpy(float)[:, None] for n in ("r_hold", "c_hold")}
-            spread = {"r_hold": sub["r_spread"].to_numpy(float)[:, None], "c_hold": sub["c_spread"].to_numpy(float)[:, None]}
+            spread = {n: sub[f"{n[0]}_spread"].to_numpy(float)[:, None] for n in values}
             leak = self._leakage(design, values["c_hold"])
             for k, sign in enumerate((-1, 0, 1)):
                 corners = self._table_corners(q, sign)
@@ -415,7 +422,8 @@ class RcSchmitt(Topology):
                 tr = self.trip(design, x)
                 t = charge_time_s(x["c_hold"], x["r_hold"], x["supply_v"], tr["v_trip"], self._extra(x, tr, leak, None))
                 delay[k, index] = (t.min(axis=1), t[:, 0], t.max(axis=1))[k]
-            nominal = {**{n: np.full(len(sub), u.nominal) for n, u in q.items()}, **{n: v[:, 0] for n, v in values.items()}}
+            nominal = {**{n: np.full(len(sub), u.nominal) for n, u in q.items()},
+                       **{n: v[:, 0] for n, v in values.items()}}
             after[index] = self.after_state(design, nominal, self._leakage(design, values["c_hold"][:, 0]))["supply_a"]
         dropped = hold.Dropped()
         nom, hi = rows["c_hold"].to_numpy(float) * 0 + delay[1], delay[2]
@@ -424,15 +432,17 @@ class RcSchmitt(Topology):
         keep &= dropped.drop(keep & ~np.isfinite(hi), lambda m: "at the longest-delay corner the capacitor's leakage "
                              "and Q1's base current reach the charge current below the trip point: never times out")
         table = rows.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=hi, after_a=after, lines=2, during_a=0.0)
-        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part", "c_rated_v": "c_hold_rated_v"})
+        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part",
+                                            "c_rated_v": "c_hold_rated_v"})
         design0 = Design(self.id, {"r_hold": 10e6, "c_hold": 1e-6})
         fixed = self._fixed_bom(design0)
         return SelectionModel(self.id, "sum", [Block("hold", table, roles=("r_hold", "c_hold"), dropped=dict(dropped),
                                                      options=("r_hold_part", "c_hold_part", "c_hold_rated_v"))],
-                              fixed_cost=float(sum(b.cost for b in fixed)), fixed_placements=sum(b.quantity for b in fixed),
+                              fixed_cost=float(sum(b.cost for b in fixed)),
+                              fixed_placements=sum(b.quantity for b in fixed),
                               fixed_lines=len(fixed), fixed_during_a=self.standby(design0).during_a, rails=1,
-                              effort=self.effort(design0), notes=["threshold network fixed; table delays at the corners "
-                                                                  "of the model's monotone directions"])
+                              effort=self.effort(design0),
+                              notes=["threshold network fixed; table delays at the corners of the model's directions"])
 
     def _table_corners(self, q: Mapping[str, Uncertain], sign: int) -> list[dict[str, float]]:
         """Corners (name -> value) of the shortest (sign -1) or longest (+1) delay; sign 0: the nominal point."""
@@ -468,8 +478,10 @@ class RcSchmitt(Topology):
         lines = [f"* {self.id}: {self.brief.title}",
                  f".options temp={x['ambient_c']:.6g} tnom={x['ambient_c']:.6g} reltol=1e-6 abstol=1e-15 vntol=1e-8",
                  f"Vcc vcc 0 dc {vs:.9g}", f"Rhold vcc in {x['r_hold']:.9g}", f"Chold in 0 {x['c_hold']:.9g} ic=0",
-                 "Q1 c1 in e QN1", "Q2 c2 b2 e QN2", f"RE e 0 {x['r_e']:.9g}", f"RC1 vcc c1 {x['r_c1']:.9g}",
-                 f"R1 c1 b2 {x['r_1']:.9g}", f"R2 b2 0 {x['r_2']:.9g}", f"RC2 vcc c2 {self._network()['r_c2']:.9g}",
+                 "Q1 c1 in e QN1", "Q2 c2 b2 e QN2", f"RE e 0 {x['r_emitter']:.9g}",
+                 f"RC1 vcc c1 {x['r_q1_collector']:.9g}", f"R1 c1 b2 {x['r_divider_top']:.9g}",
+                 f"R2 b2 0 {x['r_divider_bottom']:.9g}", f"RC2 vcc c2 {self._network()['r_q2_collector']:.9g}",
+
                  "CC1 c1 0 10p", "CB2 b2 0 10p", "CC2 c2 0 10p",
                  f".model QN1 NPN(IS={args[7]:.9g} BF={args[5]:.9g} NF={n:.6g} BR=1)",
                  f".model QN2 NPN(IS={args[8]:.9g} BF={args[6]:.9g} NF={n:.6g} BR=1)",
