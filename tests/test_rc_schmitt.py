@@ -10,7 +10,8 @@ import pytest
 import tradeoff
 from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
-from tradeoff.topologies import hold
+from tradeoff.devices.capacitor import LEAK_LEVEL
+from tradeoff.devices.junction import thermal_voltage_v
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.rc_schmitt import falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies.registry import build_topology
@@ -53,7 +54,7 @@ def _schmitt_netlist(topology, design, point) -> str:
     is2 = float(saturation_current_a(point["vbe_q2"] + npn.value("vbe_tempco", "V/K") * (temp - 25.0),
                                      npn.value("vbe_test_current", "A"), 1.0, temp))
     leak = topology._leakage(design)
-    a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(temp, point[hold.LEAK_LEVEL]))
+    a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(temp, point[LEAK_LEVEL]))
     stop = 3 * point["r_hold"] * point["c_hold"]
     return "\n".join([
         "* emitter-coupled Schmitt trigger on an RC charge (test netlist)",
@@ -125,7 +126,7 @@ def test_trip_is_ratiometric_with_hysteresis_and_cancelling_junction_tempcos(fan
     npn = fan.part(d, "npn")
     net = {k: fan.entry.value(k, "ohm") for k in ("r_emitter", "r_q1_collector", "r_divider_top", "r_divider_bottom")}
     is_ = float(saturation_current_a(0.68, npn.value("vbe_test_current", "A"), 1.0, 25.0))
-    args = (12.0, *net.values(), 125.0, 125.0, is_, is_, float(hold.thermal_voltage_v(25.0)))
+    args = (12.0, *net.values(), 125.0, 125.0, is_, is_, float(thermal_voltage_v(25.0)))
     up, down = float(rising_trip(*args)["v_trip"]), float(falling_trip_v(*args))
     # hand estimate (Millman and Halkias' emitter-coupled binary): after the snap Q1's collector current
     # IE1·RC1 moves Q2's base down by the divider fraction R2/(R1 + R2); with IE1 about V_E/R_E that bounds

@@ -25,6 +25,8 @@ cut-in voltage:
   IB1(V), by Gauss–Legendre quadrature in u = -ln(V_s - V) (`charge_time_s`; the plain RC gives
   r·C·ln(V_s/(V_s - V_trip))); IB1 with the emitter node held at its value at the trip; no timeout where
   i(V_trip) <= 0, so a leaky capacitor holds the load on longer, or for ever.
+Capacitor leakage, junction temperature laws and quadrature come from `tradeoff.devices`; the trigger's
+own laws are the pure functions below.
 """
 from __future__ import annotations
 
@@ -36,6 +38,9 @@ import numpy as np
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import DesignError
 from tradeoff.selection import Block, SelectionModel
+from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
+from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
+from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
 from tradeoff.topologies import hold
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
@@ -51,7 +56,7 @@ _GRID = np.geomspace(1e-7, 0.6, 64)
 """Distances below Q1's cut-off in Q2's junction voltage where the fold is looked for [V]."""
 HYSTERESIS_MIN_V = 0.05
 """Smallest hysteresis for a clean snap against supply ripple and noise [V] (common practice)."""
-_DIRECTION = {"r_hold": 1, "c_hold": 1, hold.LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
+_DIRECTION = {"r_hold": 1, "c_hold": 1, LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
               "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
               "supply_v": 0}
 """Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
@@ -59,7 +64,7 @@ _DIRECTION = {"r_hold": 1, "c_hold": 1, hold.LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q
 
 def saturation_current_a(vbe_on_v, test_a, n, temp_c) -> np.ndarray:
     """Transport saturation current IS [A] from VBE(on) [V] at the test current test_a [A] and temp_c [degC]."""
-    return test_a * np.exp(-np.asarray(vbe_on_v, dtype=float) / (n * hold.thermal_voltage_v(temp_c)))
+    return test_a * np.exp(-np.asarray(vbe_on_v, dtype=float) / (n * thermal_voltage_v(temp_c)))
 
 
 def transfer_curve(w, supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt):
@@ -149,7 +154,7 @@ def charge_time_s(c_f, r_ohm, supply_v, v_end, extra_a) -> np.ndarray:
         v = vs[..., None] - headroom
         return headroom / (headroom / r[..., None] - extra_a(v))
 
-    t = hold.discharge_integral_s(c_f, -np.log(vs), -np.log(vs - top), integrand)
+    t = discharge_integral_s(c_f, -np.log(vs), -np.log(vs - top), integrand)
     return np.where(ends, t, np.inf)
 
 
@@ -183,13 +188,13 @@ class RcSchmitt(Topology):
                                      "('1 Mohm', '470 uF')")
         return float(design.values[role])
 
-    def _leakage(self, design: Design, c_f=None) -> hold.CapacitorLeakage:
+    def _leakage(self, design: Design, c_f=None) -> CapacitorLeakage:
         """Leakage law of the timing capacitor (of `c_f` [F], an array of candidates, if given)."""
         from tradeoff.candidates import rated_voltage
         part, rated = self.part(design, "c_hold_part"), design.options.get("c_hold_rated_v")
         if rated in (None, ""):
             rated = rated_voltage(part, self.brief.supply.max_v) or max(part.values("rated_voltages", "V"))
-        return hold.CapacitorLeakage(part, self._value(design, "c_hold") if c_f is None else c_f, float(rated))
+        return CapacitorLeakage(part, self._value(design, "c_hold") if c_f is None else c_f, float(rated))
 
     def _network(self) -> dict[str, float]:
         return {name: self.entry.value(name, "ohm") for name in (*NETWORK, "r_q2_collector")}
@@ -216,7 +221,7 @@ class RcSchmitt(Topology):
                                            self.brief, "ohm: charge resistor"),
              "c_hold": hold.component_band(self._value(design, "c_hold"), self.part(design, "c_hold_part"),
                                            self.brief, "F: timing capacitor"),
-             hold.LEAK_LEVEL: self._leakage(design).uncertain()}
+             LEAK_LEVEL: self._leakage(design).uncertain()}
         for k in ("q1", "q2"):
             q[f"hfe_{k}"] = Uncertain(*(frac * npn.value(f"hfe_{s}", "") for s in ("typ", "min", "max")),
                                       dist="lognormal", note=f"{k.upper()} {npn.id}: hFE at 25 degC scaled by {frac:g} "
@@ -231,21 +236,21 @@ class RcSchmitt(Topology):
     def _trip_args(self, design: Design, x: Mapping[str, np.ndarray]) -> tuple:
         """Arguments of `rising_trip` / `falling_trip_v` at the samples `x`: hFE, IS and n·kT/q at temperature."""
         npn = self.part(design, "npn")
-        t = np.asarray(x["ambient_c"], dtype=float)
-        gain = np.exp(npn.value("hfe_tempco", "1/K") * (t - 25.0))
-        n, test, tc = npn.value("ideality", ""), npn.value("vbe_test_current", "A"), npn.value("vbe_tempco", "V/K")
-        is1, is2 = (saturation_current_a(x[f"vbe_{k}"] + tc * (t - 25.0), test, n, t) for k in ("q1", "q2"))
-        return (x["supply_v"], *(x[k] for k in NETWORK), x["hfe_q1"] * gain, x["hfe_q2"] * gain, is1, is2,
-                n * hold.thermal_voltage_v(t))
+        t, n = np.asarray(x["ambient_c"], dtype=float), npn.value("ideality", "")
+        test = npn.value("vbe_test_current", "A")
+        is1, is2 = (saturation_current_a(vbe_at_v(x[f"vbe_{k}"], npn.value("vbe_tempco", "V/K"), t), test, n, t)
+                    for k in ("q1", "q2"))
+        hfe1, hfe2 = (hfe_at(x[f"hfe_{k}"], npn.value("hfe_tempco", "1/K"), t) for k in ("q1", "q2"))
+        return (x["supply_v"], *(x[k] for k in NETWORK), hfe1, hfe2, is1, is2, n * thermal_voltage_v(t))
 
     def trip(self, design: Design, x: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
         """Upper trip point and Q1's state there (`rising_trip`) plus hfe1, is1, nvt at the samples `x`."""
         args = self._trip_args(design, x)
         return {**rising_trip(*args), "hfe1": args[5], "is1": args[7], "nvt": args[9]}
 
-    def _extra(self, x, tr, leak: hold.CapacitorLeakage, shunt: float | None):
+    def _extra(self, x, tr, leak: CapacitorLeakage, shunt: float | None):
         """extra_a(V) of `charge_time_s` (trailing node axis): leakage, shunt and Q1's base current [A]."""
-        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL])
+        a_typ, a_lim = leak.coefficients(x["ambient_c"], x[LEAK_LEVEL])
         p = {k: np.asarray(v, dtype=float)[..., None] for k, v in
              {"a_typ": a_typ, "a_lim": a_lim, **{k: tr[k] for k in ("ie1_a", "ve_v", "hfe1", "is1", "nvt")}}.items()}
 
@@ -264,11 +269,11 @@ class RcSchmitt(Topology):
             tr = self.trip(design, xc)
             return charge_time_s(xc["c_hold"], xc["r_hold"], xc["supply_v"], tr["v_trip"],
                                  self._extra(xc, tr, leak, shunt))
-        return hold.evaluate_in_chunks(chunk, x)
+        return evaluate_in_chunks(chunk, x)
 
     # ---- currents -------------------------------------------------------------------------
     def after_state(self, design: Design, x: Mapping[str, np.ndarray],
-                    leak: hold.CapacitorLeakage | None = None) -> dict[str, np.ndarray]:
+                    leak: CapacitorLeakage | None = None) -> dict[str, np.ndarray]:
         """Steady state long after the timeout (Q1 on, Q2 off, typical leakage): capacitor voltage v_in [V],
         emitter node ve_v [V], Q1's collector vc1_v [V] and the supply current supply_a [A].
 
@@ -397,7 +402,8 @@ class RcSchmitt(Topology):
                        f"{fq(coil_v, 'V')}, below its must-operate voltage {fq(need, 'V')}"),
                       (True, "info", "release", "the gate snaps to the supply at the trip point, so the relay drops "
                        "out within its own release time wherever its release point lies")]
-        return [leak.finding()] + [Finding(severity, code, text) for bad, severity, code, text in rules if bad]
+        return [Finding("info", "leakage-model", leak.basis_text())] + [Finding(severity, code, text)
+                                                                   for bad, severity, code, text in rules if bad]
 
     # ---- optimiser ------------------------------------------------------------------------
     def selection(self) -> SelectionModel:
@@ -472,7 +478,7 @@ class RcSchmitt(Topology):
         xa = self._arrays(x)
         args = [float(np.ravel(a)[0]) for a in self._trip_args(design, xa)]
         switch, diode, leak = self.part(design, "switch"), self.part(design, "diode"), self._leakage(design)
-        a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(x["ambient_c"], x[hold.LEAK_LEVEL]))
+        a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(x["ambient_c"], x[LEAK_LEVEL]))
         t_model, vs, n = float(self.delay(design, xa)[0]), x["supply_v"], self.part(design, "npn").value("ideality", "")
         vth = switch.value("vth_typ", "V")
         lines = [f"* {self.id}: {self.brief.title}",
