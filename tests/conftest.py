@@ -41,3 +41,22 @@ def dotted_keys(data, path: str = "") -> list[str]:
         for i, value in enumerate(data):
             found += dotted_keys(value, f"{path}/{i}")
     return found
+
+
+UNIT_SUFFIXES = ("s", "v", "a", "w", "ohm", "f", "c", "k", "eur", "frac", "ppm")
+"""Unit suffixes of result keys (CONTRIBUTING.md, Units and names)."""
+
+
+def misplaced_units(data, path: str = "") -> list[str]:
+    """Paths of mapping keys with a unit suffix before the end (`after_w_with_adapter`): the unit goes last."""
+    found = []
+    if isinstance(data, dict):
+        for key, value in data.items():
+            here = f"{path}/{key}"
+            words = str(key).split("_")
+            found += [here] if any(w in UNIT_SUFFIXES for w in words[1:-1]) else []
+            found += misplaced_units(value, here)
+    elif isinstance(data, list):
+        for i, value in enumerate(data):
+            found += misplaced_units(value, f"{path}/{i}")
+    return found

@@ -17,7 +17,7 @@ from tradeoff.design import load_design
 from tradeoff.topologies.registry import topology_ids
 from tradeoff.units import format_quantity as fq
 
-from conftest import dotted_keys
+from conftest import dotted_keys, misplaced_units
 
 ROOT = Path(__file__).resolve().parents[1]
 DESIGNS = ROOT / "examples" / "designs"
@@ -78,7 +78,7 @@ def test_analyze_json_has_the_required_keys_and_equals_the_library(results, topo
     brief, ev, _, js = results(topology_id)
     assert js.exit_code == 0, js.output
     data = _strict_json(js.output)
-    assert dotted_keys(data) == []
+    assert dotted_keys(data) == [] and misplaced_units(data) == []
     for key in ("topology", "values", "delay", "standby", "rails", "parts", "cost_eur", "warnings", "brief", "cautions"):
         assert key in data, key
     for key in ("nominal_s", "worst_min_s", "worst_max_s", "percentiles", "yield_frac"):

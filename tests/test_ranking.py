@@ -411,7 +411,7 @@ def test_headline_figures_are_one_row_the_criteria_are_drawn_from():
 
 def test_the_brief_the_optimiser_and_the_ranking_name_the_same_weights():
     from tradeoff.brief import Weights
-    from tradeoff.optimise.tables import LINEAR_TERMS
+    from tradeoff.optimise.formulation import LINEAR_TERMS
 
     assert tuple(Weights.model_fields) == WEIGHT_NAMES
     assert set(LINEAR_TERMS) | {"accuracy"} == set(WEIGHT_NAMES) == {c.weight for c in CRITERIA}

@@ -19,7 +19,7 @@ from tradeoff.errors import InfeasibleError
 from tradeoff.selection import SelectionModel
 from tradeoff.trade_study import study, verified_designs
 
-from conftest import dotted_keys
+from conftest import dotted_keys, misplaced_units
 from test_optimise import EQUAL_WEIGHTS, NO_LIMITS, rc_block
 
 HOLD_TOPOLOGIES = ("rc-darlington", "rc-mosfet")
@@ -127,7 +127,7 @@ def test_json_has_the_documented_fields_and_no_nan(tmp_path):
 
     data = json.loads(res.stdout, parse_constant=reject)
     assert data["designs"], data["infeasible"]
-    assert dotted_keys(data) == []
+    assert dotted_keys(data) == [] and misplaced_units(data) == []
     percentiles = data["designs"][0]["delay"]["percentiles"]
     assert set(percentiles) == {"p0_5_s", "p50_s", "p99_5_s"}  # the brief's 99 % coverage, dots spelled "_"
     for d in data["designs"]:

@@ -19,7 +19,7 @@ from tradeoff.errors import InputError
 from tradeoff.report.sweep_report import plot_decision_map, write_workbook
 from tradeoff.grid_sweep import _axes_and_briefs, sweep
 
-from conftest import EXAMPLES, ROOT, dotted_keys
+from conftest import EXAMPLES, ROOT, dotted_keys, misplaced_units
 
 FAST = ["mcu", "rc-counter", "crystal-counter"]  # the quickest topologies to optimise (measured here)
 GRID = ["delay.nominal=10min,1h", "weights.effort=0,3"]
@@ -56,7 +56,7 @@ def test_grid_order_and_the_winner_changes(local):
     assert (frame["winner_score"] >= frame["runner_up_score"]).all()
     assert (frame["winner_delay_worst_min_s"] >= 0.9 * frame["delay_nominal_s"] - 1e-9).all()
     data = json.loads(json.dumps(local.to_dict(), allow_nan=False))
-    assert dotted_keys(data) == [] and set(data["points"][0]["values"]) == {"delay_nominal_s", "weights_effort"}
+    assert dotted_keys(data) == [] and misplaced_units(data) == [] and set(data["points"][0]["values"]) == {"delay_nominal_s", "weights_effort"}
 
 
 def test_jobs_2_gives_the_same_table_as_jobs_1(brief_file, tmp_path):

@@ -47,15 +47,15 @@ row whose bound exceeds the incumbent's objective is removed too (exact: no bett
 uses it): first a quick bound (the other blocks at their extremes), then a tighter one (each row
 against the best row of another block, accuracy included).
 
-Modules, one seam each: `tables` (the problem built as arrays: requirements, objective, the
-shared arithmetic), `bounds` (row pruning and objective bounds), `program` (the PuLP model and
-its solve loop), `explain` (infeasibility in the designer's terms), `problem` (the selection
-problem, its result, exhaustive search).
+Modules, one seam each: `formulation` (the problem over the candidate tables as arrays:
+requirements, objective, the shared arithmetic), `bounds` (row pruning and objective bounds),
+`program` (the PuLP model and its solve loop), `explain` (infeasibility in the designer's terms),
+`problem` (the selection problem, its result, exhaustive search).
 """
 from __future__ import annotations
 
 from tradeoff.optimise.problem import SelectionProblem, SelectionResult, exhaustive
 from tradeoff.optimise.program import SOLVERS
-from tradeoff.optimise.tables import Scales
+from tradeoff.optimise.formulation import Scales
 
 __all__ = ["SOLVERS", "Scales", "SelectionProblem", "SelectionResult", "exhaustive"]

@@ -8,7 +8,7 @@ from typing import Sequence
 
 import numpy as np
 
-from tradeoff.optimise.tables import Requirement, Tables
+from tradeoff.optimise.formulation import Requirement, Tables
 
 __all__ = ["prune", "lower_bounds", "partner_bounds", "Envelope"]
 

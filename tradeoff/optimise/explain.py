@@ -11,7 +11,7 @@ import numpy as np
 import pulp
 
 from tradeoff.optimise.program import Program
-from tradeoff.optimise.tables import TOLERANCE, Requirement, Tables, seconds
+from tradeoff.optimise.formulation import TOLERANCE, Requirement, Tables, seconds
 
 __all__ = ["Explainer"]
 

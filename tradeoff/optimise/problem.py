@@ -13,7 +13,7 @@ import numpy as np
 from tradeoff.optimise.bounds import lower_bounds, partner_bounds, prune
 from tradeoff.optimise.explain import Explainer
 from tradeoff.optimise.program import Program
-from tradeoff.optimise.tables import TOLERANCE, Scales, Tables
+from tradeoff.optimise.formulation import TOLERANCE, Scales, Tables
 from tradeoff.selection import SelectionModel
 from tradeoff.topologies.base import Design
 

@@ -15,7 +15,7 @@ import pulp
 
 from tradeoff.errors import SolverError
 from tradeoff.optimise.bounds import prune
-from tradeoff.optimise.tables import Requirement, Tables, extreme
+from tradeoff.optimise.formulation import Requirement, Tables, extreme
 
 __all__ = ["SOLVERS", "Program"]
 
