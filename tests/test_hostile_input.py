@@ -197,3 +197,120 @@ def test_odd_numbers_are_refused_as_written(tmp_path, written, fragment):
     result = _check(path)
     assert result.exit_code == EXIT_INPUT
     assert fragment in result.output and "TV" not in result.output
+
+
+# ---- catalog and override parameters checked like brief fields (issue 13 items 2, 7) ------------
+
+DESIGNS = EXAMPLES / "designs"
+
+
+def _design(tmp_path: Path, example: str, extra: str = "", old: str = "", new: str = "") -> Path:
+    """A copy of a shipped example design with `old` replaced by `new` and `extra` appended."""
+    text = (DESIGNS / example).read_text(encoding="utf-8").replace("brief: ../", f"brief: {EXAMPLES}/")
+    assert old in text
+    path = tmp_path / "design.yaml"
+    path.write_text(text.replace(old, new) + extra, encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize("example, extra, fragment", [
+    ("rc-counter.yaml", "overrides: {counter-cmos-14stage: {vt_max: -50 %}}\n",
+     "vt_max: -50 % is outside the range of vt_max; accepted: above 0 % to below 100 %"),
+    ("rc-counter.yaml", "overrides: {counter-cmos-14stage: {vt_max: 500 %}}\n", "vt_max: 500 % is outside"),
+    ("rc-counter.yaml", "overrides: {counter-cmos-14stage: {output_supply: [5 V, 10 V]}}\n",
+     "output_sink has 3 items but output_supply has 2"),  # was a traceback in the supply interpolation
+    ("rc-darlington.yaml", "overrides: {darlington-npn-small: {vbe_test_current: 0}}\n",
+     "vbe_test_current: 0 A is outside the range of vbe_test_current; accepted: above 0 A"),
+    ("rc-darlington.yaml", "overrides: {cap-electrolytic-low-leakage: {cost: -5}}\n",
+     "cost: -5 is outside the range of cost; accepted: from 0"),
+    ("rc-darlington.yaml", "overrides: {cap-electrolytic-low-leakage: {tolerance: 99 %}}\n",
+     "make a band of ±104 %, so the value could reach zero"),  # was a negative c_hold and delay, exit 0
+    ("mcu.yaml", "overrides: {mcu-8bit-small: {internal_rc_dividers: [0]}}\n", "a whole number above 0"),
+])
+def test_override_outside_its_range_is_a_located_error(tmp_path, example, extra, fragment):
+    path = _design(tmp_path, example, extra)
+    result = _run("analyze", path)
+    assert result.exit_code == EXIT_INPUT, result.output
+    assert "Traceback" not in result.output
+    line = path.read_text().count("\n")  # the override is the file's last line
+    assert f"{path}:{line}:" in result.output and fragment in result.output, result.output
+
+
+@pytest.mark.parametrize("example, old, new, fragment", [
+    ("rc-counter.yaml", "cascade: 0", "cascade: 99", "options.cascade: 99 is outside what any counter chain has"),
+    ("rc-counter.yaml", "stage: 14", "stage: 9223372036854775808", "options.stage: 9223372036854775808 is outside"),
+    ("rc-counter.yaml", "c_timing: 5.6 uF", "c_timing: 1e308 F",
+     "values.c_timing: '1e308 F' is outside what a capacitor can be; accepted: 1 pF to 100 F"),
+    ("rc-darlington.yaml", "r_hold: 470 kohm", "r_hold: 1 pohm", "values.r_hold: '1 pohm' is outside"),
+    ("rc-darlington.yaml", "c_hold: 470 uF", "c_hold: 1e6 F", "values.c_hold: '1e6 F' is outside"),
+])
+def test_absurd_design_values_are_refused(tmp_path, example, old, new, fragment):
+    path = _design(tmp_path, example, old=old, new=new)
+    result = _run("analyze", path)
+    assert result.exit_code == EXIT_INPUT and fragment in result.output, result.output
+
+
+@pytest.mark.parametrize("tolerance", ["-5", "-1e300", "1e308"])
+def test_user_catalog_tolerance_out_of_range_is_located(tmp_path, tolerance):
+    import yaml
+
+    shipped = yaml.safe_load((ROOT / "catalogs" / "passives.yaml").read_text(encoding="utf-8"))
+    entry = next(p for p in shipped["parts"] if p["id"] == "res-metal-film-1pct")
+    entry["params"]["tolerance"] = {"value": float(tolerance), "source": "test"}
+    catalog = tmp_path / "mine.yaml"
+    catalog.write_text(yaml.safe_dump({"parts": [entry]}), encoding="utf-8")
+    for command in ("analyze", "study"):
+        target = DESIGNS / "rc-darlington.yaml" if command == "analyze" else EXAMPLES / "fan_run_on.yaml"
+        result = _run(command, target, "--catalog", catalog)
+        assert result.exit_code == EXIT_INPUT, result.output
+        assert f"{catalog}:" in result.output and "res-metal-film-1pct.params.tolerance:" in result.output
+        assert "accepted: from 0 % to below 100 %" in result.output and "Traceback" not in result.output
+
+
+def test_shipped_catalogs_keep_every_rule():
+    # the declared ranges hold for every shipped part (IEC 60062 tolerances are all below 100 %)
+    from tradeoff.catalog import load_catalog, range_problems
+
+    for part in load_catalog():
+        assert range_problems(part.params) == [], part.id
+
+
+def test_param_ranges_follow_names_and_dimensions():
+    from tradeoff.param_rules import cross_problems, range_of, value_problem
+
+    assert range_of("tolerance", "", True).accepts(0.2) and not range_of("tolerance", "", True).accepts(1.0)
+    assert range_of("vbe_tempco", "other", False).accepts(-2e-3)  # a tempco may be negative
+    assert range_of("iceo", "A", False).accepts(0.0) and not range_of("vbe_test_current", "A", False).accepts(0.0)
+    assert range_of("temp_max", "degC", False).accepts(-40.0)
+    assert value_problem("stages", [14.5], "", False) is not None
+    assert cross_problems({"hfe_min": (300.0,), "hfe_typ": (250.0,)})[0][0] == "hfe_min"
+    assert cross_problems({"r_max_supply": (15.0, 5.0), "r_max": (1e6, 1e7)})[0][1].endswith("rising order")
+
+
+def _study_json(brief: Path, *extra):
+    import json
+
+    result = _run("study", brief, "--samples", 300, "--format", "json", *extra)
+    assert result.exit_code in (0, 1), result.output
+    return json.loads(result.stdout)
+
+
+def test_a_topology_that_cannot_be_built_is_infeasible_and_the_study_goes_on(tmp_path):
+    # a 30 V supply with a 24 V relay: before, one topology's "no diode class fits" ended the whole study
+    text = GOOD_BRIEF.replace("nominal: 12 V ", "nominal: 30 V ").replace("coil_voltage: 12 V", "coil_voltage: 24 V")
+    text = text.replace("  min: 11 V ", "  min: 27 V ").replace("  max: 16 V ", "  max: 33 V ")
+    path = tmp_path / "thirty.yaml"
+    path.write_text(text, encoding="utf-8")
+    data = _study_json(path)
+    reported = {d["topology"] for d in data["infeasible"]} | {d["topology"] for d in data["designs"]}
+    from tradeoff.topologies.registry import topology_ids
+
+    assert reported == set(topology_ids())
+    assert all(d["reasons"] for d in data["infeasible"])
+
+
+def test_a_one_volt_supply_is_a_study_not_a_crash(tmp_path):
+    path = tmp_path / "one_volt.yaml"
+    path.write_text("title: one volt\ndelay: {nominal: 1 h}\nsupply: {nominal: 1 V}\nload: {dc: {current: 10 mA}}\n")
+    data = _study_json(path)
+    assert data["infeasible"] and all(d["reasons"] for d in data["infeasible"])

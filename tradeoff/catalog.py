@@ -13,10 +13,9 @@ collected and raised as one `CatalogError` with `FILE:LINE:COLUMN: key: message`
 """
 from __future__ import annotations
 
-import dataclasses
 import functools
 import re
-from collections.abc import Iterable, Iterator, Mapping
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
@@ -24,11 +23,12 @@ from typing import Any
 import yaml
 
 from tradeoff import inputfile
-from tradeoff.errors import CatalogError, Problem, UnitParseError
+from tradeoff.errors import CatalogError, Problem
 from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean
-from tradeoff.units import LEADING_NUMBER_RE, parse_fraction, parse_quantity
+from tradeoff.parts import COST_CURRENCY, VALUE_ACCEPTED, Param, Part, range_problems, value_problem
 
 __all__ = [
+    "COST_CURRENCY",
     "CATEGORIES",
     "DIELECTRICS",
     "Catalog",
@@ -46,9 +46,6 @@ CATEGORIES = ("resistor", "capacitor", "npn", "pnp", "darlington", "mosfet", "di
 DIELECTRICS = ("electrolytic", "film", "ceramic")
 """Capacitor dielectrics; each selects the brief's series of the same name (brief.series.film ...)."""
 
-COST_CURRENCY = "EUR"
-"""Currency of the indicative costs (users replace them with their own prices)."""
-
 NON_PART_FILES = ("eseries",)
 """Shipped YAML files that are not part catalogs (the E-series tables)."""
 
@@ -59,10 +56,6 @@ _PARAM_KEYS = ("value", "source", "note")
 _ID_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._+-]*$")
 _NAME_RE = re.compile(r"^[a-z][a-z0-9_]*$")
 _MODULE_RE = re.compile(r"^tradeoff\.topologies\.[a-z_][a-z0-9_]*$")
-_BARE_PREFIXES = set("GMkmunpµμ")
-_DIMENSIONLESS = ("", "1", "dimensionless")
-_VALUE_ACCEPTED = ("accepted: a number, a quantity with its unit ('1.4 V', '3 uA', '50 ppm/K'), "
-                   "a percentage ('20 %') or a list of these")
 
 
 def shipped_catalog_dir() -> Path:
@@ -75,189 +68,6 @@ def shipped_catalog_dir() -> Path:
 def shipped_catalog_names() -> tuple[str, ...]:
     """Names of the shipped part catalogs (file stems, e.g. 'passives'), sorted."""
     return tuple(sorted(p.stem for p in shipped_catalog_dir().glob("*.yaml") if p.stem not in NON_PART_FILES))
-
-
-# ---- values ---------------------------------------------------------------------------------
-
-def _check_text(text: str) -> str | None:
-    """What is wrong with a quantity or percent string whose dimension is not yet known, or None."""
-    try:
-        if "%" in text and not re.search(r"%\s*/", text):
-            parse_fraction(text)
-            return None
-        match = LEADING_NUMBER_RE.match(text)
-        own_unit = match.group(1) if match else ""
-        if own_unit in _BARE_PREFIXES:
-            return f"'{text.strip()}' has the prefix '{own_unit}' but no unit"
-        try:
-            parse_quantity(text, own_unit)
-        except UnitParseError:
-            raise
-        except ValueError:  # pint does not know the unit: read as a plain number for the reason
-            parse_quantity(text, "")
-    except UnitParseError as exc:  # its tail names the dimension we guessed: drop it
-        return str(exc).split("; accepted: ", 1)[0]
-    return None
-
-
-def _value_problem(value: Any) -> str | None:
-    """What is wrong with a parameter value as written, or None when it is acceptable."""
-    if isinstance(value, bool) or value is None:
-        return f"{value!r} is not a value"
-    if isinstance(value, (int, float)):
-        return None if value == value and abs(value) != float("inf") else f"{value!r} is not a finite number"
-    if isinstance(value, str):
-        return _check_text(value)
-    if isinstance(value, (list, tuple)):
-        if not value:
-            return "the list is empty"
-        for item in value:
-            if isinstance(item, (list, tuple)):
-                return "a list of lists is not accepted"
-            problem = _value_problem(item)
-            if problem:
-                return f"list item {item!r}: {problem}"
-        return None
-    return f"a {type(value).__name__} is not a value"
-
-
-@functools.lru_cache(maxsize=4096)
-def _convert(value: int | float | str, unit: str, si: bool) -> float:
-    """`value` as an SI float of the dimension of `unit`; `si` marks a bare number already in SI.
-
-    Rounded to 15 significant digits so unit conversion leaves no artefacts ("10 uF" gives 1e-05,
-    not 9.999999999999999e-06) and a catalog bound compares equal to the standard value it names.
-    """
-    if si and isinstance(value, (int, float)):
-        return float(value)
-    if isinstance(value, str) and "%" in value and unit in _DIMENSIONLESS:
-        return parse_fraction(value)
-    return float(f"{parse_quantity(value, unit):.15g}")
-
-
-@dataclasses.dataclass(frozen=True)
-class Param:
-    """One part parameter as written in its file, with its source and location.
-
-    value: number, quantity string, percent string, or tuple of these; si: True when a bare
-    number is already an SI value (design-file overrides), False when it is dimensionless.
-    """
-
-    name: str
-    value: Any
-    source: str
-    file: str
-    line: int | None = None
-    column: int | None = None
-    note: str = ""
-    si: bool = False
-
-    @property
-    def text(self) -> str:
-        """The value as written, with its unit: list items joined by ', ', bare numbers marked."""
-        items = self.value if isinstance(self.value, tuple) else (self.value,)
-        text = ", ".join(str(item) for item in items)
-        if self.name == "cost":
-            return f"{text} {COST_CURRENCY}"
-        if all(isinstance(item, (int, float)) for item in items):
-            return f"{text} (SI)" if self.si else f"{text} (dimensionless)"
-        return text
-
-
-# ---- parts ----------------------------------------------------------------------------------
-
-@dataclasses.dataclass(frozen=True)
-class Part:
-    """A generic part class: id, category, description, parameters and extra fields.
-
-    fields: non-parameter keys (`dielectric` for capacitors, `module` for topologies, `notes`).
-    """
-
-    id: str
-    category: str
-    description: str
-    params: Mapping[str, Param]
-    fields: Mapping[str, str]
-    file: str
-    line: int | None = None
-    column: int | None = None
-    field_positions: Mapping[str, tuple[int, int]] = dataclasses.field(default_factory=lambda: MappingProxyType({}))
-    """(line, column) of each field's value in its file, for messages about a field."""
-
-    def _error(self, name: str, message: str, param: Param | None = None) -> CatalogError:
-        where = param or self
-        return CatalogError.single(where.file, f"{self.id}.params.{name}", message, where.line, where.column)
-
-    def param(self, name: str) -> Param:
-        """The parameter `name`; CatalogError naming the part's file and line when missing."""
-        try:
-            return self.params[name]
-        except KeyError:
-            known = ", ".join(self.params) or "none"
-            raise self._error(name, f"part class '{self.id}' has no parameter '{name}';"
-                              f"{did_you_mean(name, self.params)} it has: {known}") from None
-
-    def has(self, name: str) -> bool:
-        """True when the part class defines parameter `name`."""
-        return name in self.params
-
-    def _convert(self, param: Param, item: Any, unit: str) -> float:
-        try:
-            return _convert(item, unit, param.si)
-        except UnitParseError as exc:
-            raise self._error(param.name, str(exc), param) from None
-
-    def value(self, name: str, unit: str) -> float:
-        """Parameter `name` as an SI float, checked against the dimension of `unit` ('V', 'F', '1/K', '' ...)."""
-        param = self.param(name)
-        if isinstance(param.value, tuple):
-            raise self._error(name, f"is a list of {len(param.value)} values where one value in "
-                                    f"'{unit or 'dimensionless'}' is needed", param)
-        return self._convert(param, param.value, unit)
-
-    def values(self, name: str, unit: str) -> tuple[float, ...]:
-        """List parameter `name` (e.g. rated voltages) as SI floats; a single value gives a 1-tuple."""
-        param = self.param(name)
-        items = param.value if isinstance(param.value, tuple) else (param.value,)
-        return tuple(self._convert(param, item, unit) for item in items)
-
-    def source(self, name: str) -> str:
-        """Where parameter `name` comes from (a document, 'common practice', 'from memory', 'indicative')."""
-        return self.param(name).source
-
-    @property
-    def summary(self) -> str:
-        """The description up to its first comma, without '(generic class)': the short text a BOM's value column shows."""
-        return self.description.split(", ")[0].replace(" (generic class)", "").strip()
-
-    @property
-    def cost(self) -> float:
-        """Indicative unit cost [EUR]: a default to be replaced by the user's own prices."""
-        return self.value("cost", "")
-
-    def with_overrides(self, overrides: Mapping[str, Any], origin: str = "override") -> "Part":
-        """A copy with parameters replaced: SI floats (taken as SI) or quantity/percent strings.
-
-        origin: where the overrides come from (e.g. a design file's name), shown in errors and sources.
-        """
-        params = dict(self.params)
-        problems = []
-        for name, value in overrides.items():
-            if name not in self.params:
-                problems.append(Problem(origin, None, None, f"{self.id}.{name}",
-                                        f"part class '{self.id}' has no parameter '{name}';"
-                                        f"{did_you_mean(name, self.params)} it has: {', '.join(self.params)}"))
-                continue
-            value = tuple(value) if isinstance(value, list) else value
-            problem = _value_problem(value)
-            if problem:
-                problems.append(Problem(origin, None, None, f"{self.id}.{name}", f"{problem}; {_VALUE_ACCEPTED}"))
-                continue
-            params[name] = Param(name, value, f"{origin} (replaces: {self.params[name].source})", origin,
-                                 si=isinstance(value, (int, float)))
-        if problems:
-            raise CatalogError(problems)
-        return dataclasses.replace(self, params=MappingProxyType(params))
 
 
 # ---- reading one file -----------------------------------------------------------------------
@@ -392,6 +202,9 @@ class _FileReader:
                   for name in _FIELD_KEYS if name in children}
         self._check_fields(children, node, key, category, fields)
         params = self._params(children.get("params"), node, key, category)
+        for param, message in range_problems(params):
+            if not self.problems.full():
+                self.problems.append(Problem(self.file, param.line, param.column, f"{key}.params.{param.name}", message))
         if self.problems.count > before:
             return part_id, None
         positions = {name: (children[name].start_mark.line + 1, children[name].start_mark.column + 1)
@@ -452,9 +265,9 @@ class _FileReader:
         if not ok:
             return None
         value = self.scalar(children["value"])
-        problem = _value_problem(value)
+        problem = value_problem(value)
         if problem:
-            self.problem(children["value"], f"{key}.value", f"{problem}; {_VALUE_ACCEPTED}")
+            self.problem(children["value"], f"{key}.value", f"{problem}; {VALUE_ACCEPTED}")
         source = self.scalar(children["source"])
         if not isinstance(source, str) or not source.strip():
             self.problem(children["source"], f"{key}.source", f"expected a non-empty source text, got {source!r}; "

@@ -42,14 +42,14 @@ from typing import TYPE_CHECKING, Any
 
 import yaml
 
-from tradeoff import inputfile, yamlpos
+from tradeoff import inputfile, param_rules, yamlpos
 from tradeoff.brief import brief_from_node, load_brief
 from tradeoff.catalog import load_catalog
 from tradeoff.errors import BriefError, DesignError, InputError, Problem, UnitParseError
 from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean, show
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.registry import build_topology, topology_class, topology_ids
-from tradeoff.units import LEADING_NUMBER_RE, parse_fraction, parse_quantity
+from tradeoff.units import LEADING_NUMBER_RE, dimension, format_quantity, parse_fraction, parse_quantity
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -63,6 +63,8 @@ DESIGN_KEYS = ("brief", "topology", "values", "options", "overrides")
 
 _REQUIRED = ("brief", "topology")
 _ROLE_UNITS = {"resistor": "ohm", "capacitor": "F"}
+_ROLE_RANGES = {"resistor": (0.01, 1e12), "capacitor": (1e-12, 100.0)}
+"""Component values a design may give [ohm], [F]: 10 mΩ to 1 TΩ, 1 pF to 100 F (beyond any real part)."""
 _PLAIN_ACCEPTED = "a part class id, a named choice or a whole number"
 
 
@@ -169,8 +171,13 @@ def _read_values(r: _Reader, raw: object, topology: "Topology") -> dict[str, flo
         if name not in roles:
             r.unknown(("values",), name, "value role", list(roles), f" of {topology.id}")
             continue
-        value = _quantity(r, ("values", name), item, _ROLE_UNITS[roles[name].kind])
-        if value is not None:
+        kind = roles[name].kind
+        value = _quantity(r, ("values", name), item, _ROLE_UNITS[kind])
+        low, high = _ROLE_RANGES[kind]
+        if value is not None and not low <= value <= high:
+            r.problem(("values", name), f"{show(item)} is outside what a {kind} can be; accepted: "
+                      f"{format_quantity(low, _ROLE_UNITS[kind])} to {format_quantity(high, _ROLE_UNITS[kind])}")
+        elif value is not None:
             values[name] = value
     for name, role in roles.items():
         if name not in given:
@@ -262,6 +269,11 @@ def _override_value(r: _Reader, path: tuple, raw: object, written: object) -> ob
         except UnitParseError as exc:
             r.problem(path, f"{exc}; accepted: {shown}")
             return None
+    outside = param_rules.value_problem(str(path[-1]), converted, "" if unit in ("", "%") else dimension(unit),
+                                        unit == "%")
+    if outside:
+        r.problem(path, outside)
+        return None
     return list(raw) if isinstance(raw, list) else converted[0]
 
 

@@ -21,7 +21,7 @@ from tradeoff.catalog import Catalog, load_catalog
 from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
-from tradeoff.errors import InfeasibleError, InputError, Problem
+from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
 from tradeoff.topologies.registry import build_topology, topology_ids
 
@@ -248,6 +248,13 @@ def _outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int
         outcome.verified = verified_designs(model, brief, k=alternatives, solver=solver)
     except InfeasibleError as exc:
         outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
+    except CatalogError as exc:  # no part class of the catalog fits: this topology cannot be built, the rest go on
+        outcome.reasons = [f"cannot be built from the catalog: {p.message}" for p in exc.problems]
+    except TradeoffError:
+        raise
+    except (ValueError, ArithmeticError) as exc:  # a model outside its validity (e.g. a supply below its drops)
+        outcome.reasons = [f"the model cannot evaluate this brief ({exc.__class__.__name__}: {exc}); this is a "
+                           "limit of the tool's model, please report it"]
     outcome.seconds = time.perf_counter() - start
     return outcome
 

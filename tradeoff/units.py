@@ -31,7 +31,7 @@ import re
 
 from tradeoff.errors import UnitParseError
 
-__all__ = ["UnitParseError", "LEADING_NUMBER_RE", "parse_quantity", "parse_fraction", "format_quantity"]
+__all__ = ["UnitParseError", "LEADING_NUMBER_RE", "dimension", "parse_quantity", "parse_fraction", "format_quantity"]
 
 _UNSIGNED = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _NUMBER = rf"[+-]?{_UNSIGNED}"
@@ -124,6 +124,27 @@ def _describe(unit: str) -> tuple[str, str]:
         if registry.Quantity(1, reference).dimensionality == wanted:
             return name, examples
     return f"a quantity in {unit}", f"'1 {unit}'"
+
+
+def dimension(unit_text: str) -> str:
+    """What `unit_text` measures, by the reference unit of its dimension: 's', 'V', 'A', 'ohm', 'F', 'W',
+    'K' (a temperature difference), 'degC' (a temperature written in degC or °C), 'Hz', '1/K', '' for a
+    plain number or percentage, 'other' for any other dimension (a compound such as A/V**2)."""
+    text = unit_text.strip()
+    if not text or text == "%" or text == "ppm":
+        return ""
+    normalised = _normalise_unit(text)
+    if normalised in _CELSIUS:
+        return "degC"
+    units = _pint_units(normalised)
+    if units is None:
+        return "other"
+    registry = _registry()
+    found = registry.Quantity(1, units).dimensionality
+    for reference, _, _ in _DIMENSIONS:
+        if reference not in ("m", "kg", "M", "J", "C") and registry.Quantity(1, reference).dimensionality == found:
+            return "" if reference == "dimensionless" else reference
+    return "other"
 
 
 def _reject(text: object, unit: str, what: str) -> UnitParseError:

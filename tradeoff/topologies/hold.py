@@ -73,6 +73,10 @@ def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Unc
     range (`devices.capacitor.band_frac`), uniform."""
     spread = band_frac(part.value("tolerance", ""), part.value("tempco", "1/K"), brief.ambient.min_c,
                        brief.ambient.max_c)
+    if not spread < 1:  # the value could reach zero: a part no model can use
+        raise part.param_error("tolerance", f"tolerance plus tempco over the ambient range make a band of "
+                                           f"±{spread * 100:.0f} %, so the value could reach zero; accepted: a band "
+                                           "below 100 %")
     return Uncertain(value, value * (1 - spread), value * (1 + spread), unit=note.split(":")[0],
                      note=f"{note}: {part.id} tolerance ± tempco over the ambient range (uniform)")
 
@@ -100,7 +104,7 @@ def hold_pairs(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog
         "cost": (rr["cost"] + cc["cost"]).to_numpy(float),
         "placements": (rr["placements"] + cc["placements"]).to_numpy(int),
         "r_first": rr["first"].to_numpy(float), "r_second": rr["second"].to_numpy(float),
-    })
+    }).query("r_spread < 1 and c_spread < 1").reset_index(drop=True)  # a band of 100 % could reach zero
 
 
 class Dropped(dict):

@@ -235,6 +235,10 @@ class _Plan:
         return self.rail_problems + self.switch_problems
 
 
+_CHAIN_LIMITS = ((0, 64), (0, 16), (0, 64))
+"""Evaluable (stage, cascade, link_stage) ranges: up to 64 stages per counter, 16 counters in cascade."""
+
+
 class _CounterTimer(Topology):
     """Common base of the counter topologies: counter chain, stage or decoded outputs, latch, reset,
     logic rail and load switch.
@@ -292,8 +296,13 @@ class _CounterTimer(Topology):
         """(output stage N of the last counter, extra counters in cascade, stage L of each earlier
         counter that clocks the next; default its last stage)."""
         last = int(self._counter(design).value("stages", ""))
-        return (int(design.options.get("stage", last)), int(design.options.get("cascade", 0)),
-                int(design.options.get("link_stage", last)))
+        chain = (int(design.options.get("stage", last)), int(design.options.get("cascade", 0)),
+                 int(design.options.get("link_stage", last)))
+        for name, value, (low, high) in zip(("stage", "cascade", "link_stage"), chain, _CHAIN_LIMITS):
+            if not low <= value <= high:  # beyond any counter chain (the class's own limits are findings)
+                raise DesignError.single("design", f"options.{name}", f"{value} is outside what any counter chain "
+                                         f"has; accepted: a whole number from {low} to {high}")
+        return chain
 
     def outputs(self, design: Design) -> tuple[tuple[int, int], ...]:
         """(counter index from 0, stage) of each output ending the timing: the decoded outputs, else
@@ -344,6 +353,10 @@ class _CounterTimer(Topology):
             return LoadSwitch("pnp", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
         need_a = BASE_OVERDRIVE * self._load_max_a() / pnp.value("hfe_min", "")
         target = (s.min_v - pnp.value("vbe_on_max", "V") - self._vf()) / need_a
+        if not target > 0:  # the supply minimum is below the base-emitter and diode drops
+            return LoadSwitch("pnp", (), 1.0, None, 0.0, 0.0, (
+                f"the supply minimum {fq(s.min_v, 'V')} is below the {pnp.id} base-emitter and diode drops, so "
+                "no base resistor can drive the load switch",))
         rb = float(eseries.values(self.brief.series.resistor, target / 10, target)[-1])
         problems = []
         if self._load_max_a() > pnp.value("ic_max", "A"):
