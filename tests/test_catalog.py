@@ -102,8 +102,8 @@ def test_every_shipped_param_has_a_source(shipped):
 
 def test_passive_relay_regulator_crystal_sources_say_their_kind():
     # RULES.md: a value from memory says "from memory". In these catalogs every source names
-    # its kind: a document class, the standard, REFERENCES.md, common practice, or memory.
-    kinds = ("from memory", "common practice", "indicative", "datasheet", "IEC", "EIA", "REFERENCES.md",
+    # its kind: a document class, the standard, docs/references.md, common practice, or memory.
+    kinds = ("from memory", "common practice", "indicative", "datasheet", "IEC", "EIA", "docs/references.md",
              "class definition", "handbook")
     for part in load_catalog(shipped=["passives", "relays", "regulators", "oscillators"]):
         for name, param in part.params.items():
@@ -150,7 +150,7 @@ def test_the_part_number_pattern_catches_typical_shapes():
 @pytest.mark.parametrize("c_uf, v, expected_ua", [(100, 25, 25.0), (1000, 16, 160.0), (10, 16, 3.0),
                                                   (1, 6.3, 3.0), (4700, 35, 1645.0)])
 def test_leakage_limit_is_the_datasheet_rule(shipped, c_uf, v, expected_ua):
-    # Aluminium electrolytic datasheets (sectional specification IEC 60384-4), REFERENCES.md:
+    # Aluminium electrolytic datasheets (sectional specification IEC 60384-4), docs/references.md:
     # I <= 0.01 CV (uA, uF, V) or 3 uA, whichever is greater, after 2 min at rated voltage, 20 degC.
     part = shipped.part("cap-electrolytic-85c")
     datasheet_ua = max(0.01 * c_uf * v, 3.0)
@@ -165,7 +165,7 @@ def test_leakage_is_vectorised_and_scales_as_documented(shipped):
     limit = electrolytic_leakage_a(c, np.array([25, 12.5, 25, 16]), 25, np.array([20, 20, 85, 20]), part)
     assert limit.shape == (4,)
     assert limit[1] == pytest.approx(limit[0] / 2)  # worst case: linear below rated voltage
-    # REFERENCES.md (from memory): leakage rises roughly 5 to 10 times at 85 degC
+    # docs/references.md (from memory): leakage rises roughly 5 to 10 times at 85 degC
     assert 5 <= limit[2] / limit[0] <= 10
     typical = electrolytic_leakage_a(c, 25, 25, 20, part, typical=True)
     assert np.all(typical < electrolytic_leakage_a(c, 25, 25, 20, part))

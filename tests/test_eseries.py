@@ -41,7 +41,7 @@ def test_values_over_decades_match_independent_implementation(name):
 
 
 def test_e24_departs_from_rounded_geometric_values():
-    # IEC 60063:2015 (REFERENCES.md): E24 departs from round(10^(i/24), 1) at exactly these values,
+    # IEC 60063:2015 (docs/references.md): E24 departs from round(10^(i/24), 1) at exactly these values,
     # so the tables must be stored, not generated.
     geometric = [round(10 ** (i / 24), 1) for i in range(24)]
     differ = {m for m, g in zip(eseries.mantissas("E24"), geometric) if not math.isclose(m, g)}
@@ -49,7 +49,7 @@ def test_e24_departs_from_rounded_geometric_values():
 
 
 def test_e192_departs_at_920():
-    # IEC 60063:2015 (REFERENCES.md): E192 uses 9.20 where round(10^(186/192), 2) gives 9.19.
+    # IEC 60063:2015 (docs/references.md): E192 uses 9.20 where round(10^(186/192), 2) gives 9.19.
     geometric = [round(10 ** (i / 192), 2) for i in range(192)]
     differ = [m for m, g in zip(eseries.mantissas("E192"), geometric) if not math.isclose(m, g)]
     assert differ == [9.20]
@@ -58,7 +58,7 @@ def test_e192_departs_at_920():
 @pytest.mark.parametrize("name, expected", [("E6", 0.20), ("E12", 0.10), ("E24", 0.05), ("E48", 0.02),
                                             ("E96", 0.01), ("E192", 0.005)])
 def test_tolerances(name, expected):
-    # IEC 60063 nominal tolerances (REFERENCES.md), also those of the `eseries` package.
+    # IEC 60063 nominal tolerances (docs/references.md), also those of the `eseries` package.
     assert eseries.tolerance(name) == expected == oracle.tolerance(ORACLE_KEYS[name])
 
 
@@ -126,7 +126,7 @@ def test_nearest_is_logarithmic_not_linear():
     # while a linear search (the `eseries` package's find_nearest) keeps 1.0.
     assert eseries.nearest("E6", 1.24) == 1.5
     assert oracle.find_nearest(oracle.E6, 1.24) == 1.0
-    # REFERENCES.md example: find_nearest(E24, 319) returns 330; log distance agrees here.
+    # docs/references.md example: find_nearest(E24, 319) returns 330; log distance agrees here.
     assert eseries.nearest("E24", 319) == 330.0 == oracle.find_nearest(oracle.E24, 319)
 
 

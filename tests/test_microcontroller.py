@@ -48,7 +48,7 @@ def test_catalog_internal_rc_is_the_datasheet(catalog):
 
 
 def test_internal_rc_worst_case_over_0_to_55(towel):
-    # 5 to 35 degC lies in the 0 to 55 degC box: +/-1.5 % (datasheet, REFERENCES.md)
+    # 5 to 35 degC lies in the 0 to 55 degC box: +/-1.5 % (datasheet, docs/references.md)
     d = _design("internal-rc", 262144)
     cycles = towel.ticks(d) * 262144
     wc = towel.worst_case(d)
@@ -57,7 +57,7 @@ def test_internal_rc_worst_case_over_0_to_55(towel):
 
 
 def test_internal_rc_wide_ambient_uses_minus4_plus3(catalog):
-    # -20 to 35 degC leaves 0 to 55 degC: the -4/+3 % box (datasheet, REFERENCES.md); a dense sweep agrees
+    # -20 to 35 degC leaves 0 to 55 degC: the -4/+3 % box (datasheet, docs/references.md); a dense sweep agrees
     t = _topology(catalog, {"ambient.min": "-20 degC"})
     d = _design("internal-rc", 65536)
     cycles = t.ticks(d) * 65536
@@ -71,7 +71,7 @@ def test_internal_rc_wide_ambient_uses_minus4_plus3(catalog):
 
 
 def test_low_power_rc_spans_26_to_56_khz(towel):
-    # watchdog-class RC: 26/38/56 kHz min/typ/max (REFERENCES.md); firmware counts with 38 kHz
+    # watchdog-class RC: 26/38/56 kHz min/typ/max (docs/references.md); firmware counts with 38 kHz
     d = _design("low-power-rc", 8192)
     ticks = towel.ticks(d)
     assert ticks == round(7200 * 38000 / 8192)
@@ -113,7 +113,7 @@ def _dense_crystal_extremes(t, d, temps):
 
 @pytest.mark.parametrize("ambient", [("5 degC", "35 degC"), ("-10 degC", "22 degC"), ("28 degC", "60 degC")])
 def test_crystal_parabola_extreme_found(catalog, ambient):
-    # crystal datasheets (REFERENCES.md): df/f = k (T - T0)^2, k = -0.034 ppm/K^2, turnover 25 degC (+/-5 K, from
+    # crystal datasheets (docs/references.md): df/f = k (T - T0)^2, k = -0.034 ppm/K^2, turnover 25 degC (+/-5 K, from
     # memory): the fastest unit is at its turnover, an interior point of the ambient range. The corner search,
     # with the turnover temperatures declared critical, must find the extremes of a dense temperature sweep.
     t = _topology(catalog, {"ambient.min": ambient[0], "ambient.max": ambient[1]})
@@ -132,7 +132,7 @@ def test_crystal_parabola_extreme_found(catalog, ambient):
 
 def test_rails_and_regulator_quiescent_in_standby(towel, catalog):
     # 12 V unregulated supply above the MCU's 5.5 V rating: a regulated logic rail, 2 rails; the regulator's
-    # quiescent current stays after the timeout (micropower LDO 1.6 uA typ, three-terminal 5 mA typ: REFERENCES.md)
+    # quiescent current stays after the timeout (micropower LDO 1.6 uA typ, three-terminal 5 mA typ: docs/references.md)
     off = catalog.part("mcu-8bit-small").value("sleep_current_off", "A")
     for reg, iq in (("ldo-micropower", 1.6e-6), ("ldo-classic", 5e-3)):
         d = _design("crystal-32k-20ppm", 32768, regulator=reg)

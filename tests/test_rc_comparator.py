@@ -88,7 +88,7 @@ def test_shunt_shortens_the_hold(fan):
 
 
 def test_leakage_limit_sets_the_shortest_delay(fan):
-    # 0.01 C V or 3 uA (electrolytic datasheets, REFERENCES.md), scaled down to the threshold voltage, still
+    # 0.01 C V or 3 uA (electrolytic datasheets, docs/references.md), scaled down to the threshold voltage, still
     # exceeds the 60 nA of 10 Mohm at 0.6 V: the datasheet-limit unit times out far too early
     d = _design(c_f=47e-6, cap="cap-electrolytic-low-leakage")
     wc = fan.worst_case(d)

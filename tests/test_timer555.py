@@ -134,7 +134,7 @@ def test_standby_after_timeout_includes_discharge_current(short):
     d1, d2 = _design(r=1e6, timer="timer555-cmos"), _design(r=2e6, timer="timer555-cmos")
     a1, a2 = short.standby(d1).after_a, short.standby(d2).after_a
     assert a1 - a2 == pytest.approx(12.0 / 1e6 - 12.0 / 2e6, rel=1e-9)
-    assert a2 > 150e-6     # TLC555/LMC555 datasheets: about 150 uA at 12 V (REFERENCES.md)
+    assert a2 > 150e-6     # TLC555/LMC555 datasheets: about 150 uA at 12 V (docs/references.md)
 
 
 def test_monte_carlo_reproducible_by_seed(short):

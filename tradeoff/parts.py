@@ -18,7 +18,7 @@ from tradeoff.errors import CatalogError, Problem, UnitParseError
 from tradeoff.fields import did_you_mean
 from tradeoff.units import LEADING_NUMBER_RE, dimension, parse_fraction, parse_quantity
 
-__all__ = ["COST_CURRENCY", "Param", "Part", "range_problems", "value_problem", "VALUE_ACCEPTED"]
+__all__ = ["COST_CURRENCY", "Param", "Part", "plain_source", "range_problems", "value_problem", "VALUE_ACCEPTED"]
 
 COST_CURRENCY = "EUR"
 """Currency of the indicative costs (users replace them with their own prices)."""
@@ -28,6 +28,22 @@ _DIMENSIONLESS = ("", "1", "dimensionless")
 VALUE_ACCEPTED = ("accepted: a number, a quantity with its unit ('1.4 V', '3 uA', '50 ppm/K'), "
                   "a percentage ('20 %') or a list of these")
 """What a parameter value may be, for messages."""
+
+
+_FAMILY_WORDS = (
+    (r"CD4060B datasheet \(Texas Instruments\)", "14-stage ripple counter datasheet"),
+    (r"\bCD4060B\b|\b4060-type\b", "14-stage ripple counter"),
+    (r"\bTLC555(?:/| and )LMC555\b|\bTLC555\b|\bLMC555\b", "CMOS 555-class timer"),
+    (r"\bNE555\b", "bipolar 555-class timer"),
+)
+"""Datasheet families the shipped sources name by part number or maker, and their generic words."""
+
+
+def plain_source(text: str) -> str:
+    """A source text for messages: 'NE555 datasheets: ...' -> 'bipolar 555-class timer datasheets: ...'."""
+    for pattern, words in _FAMILY_WORDS:
+        text = re.sub(pattern, words, text)
+    return text
 
 
 # ---- values ---------------------------------------------------------------------------------
@@ -225,8 +241,10 @@ class Part:
         return tuple(self._convert(param, item, unit) for item in items)
 
     def source(self, name: str) -> str:
-        """Where parameter `name` comes from (a document, 'common practice', 'from memory', 'indicative')."""
-        return self.param(name).source
+        """Where parameter `name` comes from (a document, 'common practice', 'from memory', 'indicative'),
+        as messages show it: datasheet families in generic words, no part number or maker's name
+        (`plain_source`; the raw text stays in `Param.source`, listed by `tradeoff catalog`)."""
+        return plain_source(self.param(name).source)
 
     @property
     def summary(self) -> str:

@@ -203,7 +203,7 @@ def output_mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part"
 
 
 DIODE_REVERSE_FACTOR = 3.0
-"""Flyback diode reverse rating over the supply maximum (relay makers' application notes, REFERENCES.md)."""
+"""Flyback diode reverse rating over the supply maximum (relay makers' application notes, docs/references.md)."""
 
 
 def _diode(brief: "Brief", catalog: "Catalog") -> "Part":

@@ -71,7 +71,7 @@ __all__ = [
 ]
 
 RT_RANGE_OHM = (10e3, 1e6)
-"""Timing resistor range of the RC oscillator [ohm] (4060-type datasheets, REFERENCES.md)."""
+"""Timing resistor range of the RC oscillator [ohm] (4060-type datasheets, docs/references.md)."""
 
 CT_MIN_F = 100e-12
 """Smallest timing capacitor of the RC oscillator [F] (4060-type datasheets: at least 50 to 100 pF)."""
