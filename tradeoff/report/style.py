@@ -1,9 +1,9 @@
 """One visual style for every plot: the topology palette and markers, band and line colours.
 
-The palette is the project's own: seven colours alternating between blue and orange hues (the
-axis that red-green colour-vision deficiencies keep) with CIE 1976 lightness L* at least
-`MIN_LIGHTNESS_STEP` apart between any two, so they stay distinguishable under any colour-vision
-deficiency and in greyscale print. Plots distinguish topologies by colour AND marker.
+The palette is the project's own: eight colours of different hues (navy, amber, green, vermillion,
+sky blue, wine, lavender, pale yellow) with CIE 1976 lightness L* at least `MIN_LIGHTNESS_STEP`
+apart between any two, so up to eight designs stay distinguishable under any colour-vision
+deficiency and in greyscale print; the two palest come last. Plots distinguish topologies by colour AND marker.
 Pure data: importing this module does not import matplotlib.
 """
 from __future__ import annotations
@@ -16,10 +16,10 @@ __all__ = [
     "BAND_COLOUR", "LINE_COLOUR", "NOMINAL_COLOUR", "RC_PARAMS",
 ]
 
-PALETTE = ("#2b5ea8", "#e3a12f", "#7a2e0e", "#4c9ad6", "#16245a", "#c0581a", "#9fd0f0")
-"""Topology colours in assignment order (mid blue, amber, rust, sky blue, navy, orange, pale blue)."""
+PALETTE = ("#16245a", "#efac24", "#15664a", "#d03a20", "#3a98dc", "#7a1838", "#dccff6", "#fdf6a8")
+"""Topology colours in assignment order (L* 16, 75, 38, 48, 60, 27, 85, 96)."""
 
-MARKERS = ("o", "s", "^", "D", "v", "P", "X")
+MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
 """Topology markers in assignment order (matplotlib marker codes)."""
 
 MIN_LIGHTNESS_STEP = 9.0
@@ -63,7 +63,7 @@ def topology_styles(topology_ids: Sequence[str]) -> dict[str, TopologyStyle]:
     """A style for each topology id, assigned in the given order (pass the registry's order,
     `tradeoff.topologies.registry.topology_ids()`, so a topology looks the same in every plot).
 
-    Beyond seven topologies colours repeat with a shifted marker, so every pair stays distinct.
+    Beyond eight topologies colours repeat with a shifted marker, so every pair stays distinct.
     """
     n, m = len(PALETTE), len(MARKERS)
     return {tid: TopologyStyle(PALETTE[i % n], MARKERS[(i + i // n) % m]) for i, tid in enumerate(topology_ids)}
