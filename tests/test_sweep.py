@@ -2,6 +2,8 @@
 process pool, a Dask LocalCluster), the decision map against the table, and the Python API."""
 from __future__ import annotations
 
+import re
+
 import json
 import os
 import subprocess
@@ -16,7 +18,7 @@ import tradeoff
 from tradeoff.brief import load_brief
 from tradeoff.cli import cli
 from tradeoff.errors import InputError
-from tradeoff.report.sweep_report import plot_decision_map, write_workbook
+from tradeoff.report.sweep_report import NO_WINNER, cell_keys, plot_decision_map, write_workbook
 from tradeoff.grid_sweep import _axes_and_briefs, sweep
 
 from conftest import EXAMPLES, ROOT, dotted_keys, misplaced_units
@@ -101,12 +103,19 @@ def test_decision_map_cells_match_the_table(local, tmp_path):
     pixels = matplotlib.image.imread(drawn.path)[..., :3]
     for (r, c), winner in np.ndenumerate(drawn.winners):
         x, y = (int(round(v)) for v in drawn.centres_px[r, c])
+        x -= 40  # beside the cell's label, which sits at its centre
         expected = np.array([int(drawn.colours[winner][i:i + 2], 16) / 255 for i in (1, 3, 5)])
         np.testing.assert_allclose(pixels[y, x], expected, atol=2 / 255)
     with pytest.raises(Exception, match="exists and was left untouched"):
         plot_decision_map(local, tmp_path / "map.png")
     svg = plot_decision_map(local, tmp_path / "map.svg").path.read_text(encoding="utf-8")
     assert svg.lstrip().startswith("<?xml") and "delay.nominal [s]" in svg  # 2 values 6x apart: linear axis
+    keys = cell_keys(list(drawn.colours))  # every cell labelled, so the map reads without colour
+    labels = re.findall(r">([0-9–]) </text>|>([0-9–])</text>", svg)
+    shown = [a or b for a, b in labels]
+    for winner in drawn.winners.ravel():
+        assert keys[winner or NO_WINNER] in shown
+    assert len(shown) >= drawn.winners.size
 
 
 def test_workbook_reads_back_with_the_same_numbers(local, tmp_path):

@@ -150,6 +150,18 @@ def _colours(result: "SweepResult") -> dict[str, str]:
     return colours
 
 
+def cell_keys(designs: list[str]) -> dict[str, str]:
+    """The label each decision-map cell shows for its winner: 1, 2, ... in legend order; '–' for none."""
+    keys, number = {}, 0
+    for name in designs:
+        if name == NO_WINNER:
+            keys[name] = "–"
+        else:
+            number += 1
+            keys[name] = str(number)
+    return keys
+
+
 def plot_decision_map(result: "SweepResult", path: str | Path, force: bool = False) -> DecisionMap:
     """Draw the winner per grid cell over the two varied fields (a strip for one) as PNG or SVG,
     written atomically (an existing file needs `force`); returns what was drawn."""
@@ -162,7 +174,7 @@ def plot_decision_map(result: "SweepResult", path: str | Path, force: bool = Fal
 
     from tradeoff.report.files import check_writable, write_atomic
     from tradeoff.report.plots import figure_bytes
-    from tradeoff.report.style import RC_PARAMS
+    from tradeoff.report.style import RC_PARAMS, lightness
 
     path = Path(path)
     fmt = path.suffix.lower().lstrip(".")
@@ -210,8 +222,14 @@ def plot_decision_map(result: "SweepResult", path: str | Path, force: bool = Fal
         ax.set_xlim(x_edges[0], x_edges[-1])
         ax.set_ylim(y_edges[0], y_edges[-1])
         ax.set_title(f"Winning design per grid point: {result.title}")
-        fig.legend(handles=[Patch(facecolor=colours[n], edgecolor="#444444", label=n) for n in used],
-                   loc="outside right upper", title="winner")
+        keys = cell_keys(used)
+        for row, y in zip(winners, y_centres):  # each cell labelled, so the map reads without colour
+            for winner, x in zip(row, x_centres):
+                name = winner or NO_WINNER
+                ax.text(x, y, keys[name], ha="center", va="center", fontsize=9, fontweight="bold",
+                        color="#ffffff" if lightness(colours[name]) < 50 else "#000000")
+        fig.legend(handles=[Patch(facecolor=colours[n], edgecolor="#444444", label=f"{keys[n]}  {n}") for n in used],
+                   loc="outside right upper", title="winner (cell label)")
         fig.canvas.draw()
         cx, cy = np.meshgrid(x_centres, y_centres)
         display = ax.transData.transform(np.column_stack([cx.ravel(), cy.ravel()]))
