@@ -137,3 +137,20 @@ def test_waveform_crosses_trip_at_the_delay(fan):
     assert w.unit == "V" and w.signal[0] == pytest.approx(x["rail_v"])
     crossing = np.interp(w.threshold, w.signal[::-1], w.time_s[::-1])
     assert crossing == pytest.approx(fan.nominal_delay(d), rel=1e-3)
+
+
+def test_netlist_leakage_alone_against_the_closed_form(fan, ngspice, tmp_path):
+    # closed form of C dV/dt = -a V^n (separable ODE): t = C (V1^(1-n) - V0^(1-n)) / (a (n - 1)); the netlist with
+    # its hold resistor removed leaves only the capacitor's typical leakage law, which ngspice must integrate to it
+    d = _design(c_f=470e-6, cap="cap-electrolytic-85c", r_ohm=1e6)
+    netlist = fan.spice(d)
+    x = {n: np.array([v]) for n, v in fan.nominal_point(d).items()}
+    leak = fan._leakage(d)
+    a_typ, a_lim = (float(np.ravel(a)[0]) for a in leak.coefficients(x["ambient_c"], x[LEAK_LEVEL]))
+    assert a_lim == 0.0 and leak.n_typ != 1
+    v0, v1, n, c = float(x["rail_v"][0]), float(fan.trip_v(x)[0]), leak.n_typ, 470e-6
+    expected = c * (v1 ** (1 - n) - v0 ** (1 - n)) / (a_typ * (n - 1))
+    lines = [line for line in netlist.splitlines() if not line.startswith(("Rhold ", ".tran"))]
+    lines.insert(-2, f".tran {expected / 4000:.6g} {1.5 * expected:.6g} uic")
+    simulated = _ngspice_delay(ngspice, "\n".join(lines) + "\n", tmp_path)
+    assert simulated == pytest.approx(expected, rel=0.01)

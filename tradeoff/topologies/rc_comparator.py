@@ -348,7 +348,7 @@ class RcComparator(Topology):
         expected = self.nominal_delay(design)
         stop = 1.3 * expected if math.isfinite(expected) else 20 * x["r_hold"] * x["c_hold"]
         coil = self.brief.load.coil_resistance_ohm or self.brief.supply.nominal_v / self.brief.load.current_a
-        rail, vr = x["rail_v"], leak.rated_v
+        rail = x["rail_v"]
         lines = [
             f"* {self.id}: {fq(x['r_hold'], 'ohm')} / {fq(x['c_hold'], 'F')} hold read by a comparator",
             f"Vrail rail 0 {rail:.6g}",
@@ -359,8 +359,8 @@ class RcComparator(Topology):
             f"Rhys drain th {x['r_hyst']:.6g}",
             f"Chold cap 0 {x['c_hold']:.6g} IC={rail:.6g}",
             f"Rhold cap 0 {x['r_hold']:.6g}",
-            f"Bleak cap 0 I = {a_typ:.6g}*pow(max(V(cap),0)/{vr:.6g},{leak.n_typ:.6g})"
-            f" + {a_lim:.6g}*pow(max(V(cap),0)/{vr:.6g},{leak.n_lim:.6g}) + {x['bias_a']:.6g}",
+            f"Bleak cap 0 I = {a_typ:.6g}*pow(max(V(cap),0),{leak.n_typ:.6g})"
+            f" + {a_lim:.6g}*pow(max(V(cap),0),{leak.n_lim:.6g}) + {x['bias_a']:.6g}",
             f"Bcomp out 0 V = {rail:.6g}*(0.5+0.5*tanh((V(cap)-V(th)-({x['offset_v']:.6g}))/1e-3))",
             f"Rcoil sup drain {coil:.6g}",
             f"Sdrv drain 0 out 0 swdrv",
