@@ -40,6 +40,13 @@ def catalog_option(func):
     )(func)
 
 
+def timing_option(func):
+    """`--timing`: wall times in the JSON (left out otherwise, so two runs with one seed are identical)."""
+    return click.option("--timing", is_flag=True,
+                        help="Add a 'timing' block of wall times to the JSON (left out by default, so two runs "
+                             "with one seed give identical JSON).")(func)
+
+
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="tradeoff")
 def cli():
@@ -156,10 +163,11 @@ def catalog_command(query, catalogs):
               help="Characters per line of the report [default: the terminal's width, 100 when not a terminal].")
 @click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
 @click.option("--force", is_flag=True, help="Replace output files that exist (otherwise nothing is written).")
+@timing_option
 @catalog_option
 @_translate_errors
 def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, xlsx_path, csv_dir,
-                  plots_dir, netlist_dir, review_dir, html_path, width, verbose, force, catalogs):
+                  plots_dir, netlist_dir, review_dir, html_path, width, verbose, force, timing, catalogs):
     """Run the trade study on BRIEF: for every allowed topology the best E-series
     design proven at the worst-case corners and by Monte Carlo, then a ranking by
     the brief's weights, the winner's bill of materials, the reasons, and why the
@@ -186,7 +194,7 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
     if output_format == "json":
         from tradeoff.report.review import json_text
 
-        click.echo(json_text(result), nl=False)
+        click.echo(json_text(result, timing=timing), nl=False)
     else:
         from tradeoff.report.study_text import render_study
         from tradeoff.report.terminal import report_console
@@ -339,10 +347,11 @@ def netlist_command(design, output, force, catalogs):
 @click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=None,
               help="Monte Carlo seed at every point (overrides analysis.seed).")
 @click.option("--force", is_flag=True, help="Replace existing output files.")
+@timing_option
 @catalog_option
 @_translate_errors
 def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, output_format, only, method,
-                  samples, seed, force, catalogs):
+                  samples, seed, force, timing, catalogs):
     """Run the study at every point of a grid over brief fields and tabulate, per
     point, the winner and the runner-up with their scores, the winner's worst-case
     delay band, yield, standby current after the timeout, parts and cost, and how
@@ -383,7 +392,7 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     if output_format == "json":
         import json
 
-        click.echo(json.dumps(result.to_dict(), indent=2, allow_nan=False))
+        click.echo(json.dumps(result.to_dict(timing=timing), indent=2, allow_nan=False))
     else:
         from tradeoff.report.terminal import report_console
 

@@ -434,15 +434,16 @@ class SweepResult:
             rows.append(row)
         return pd.DataFrame(rows)
 
-    def to_dict(self) -> dict[str, Any]:
+    def to_dict(self, timing: bool = False) -> dict[str, Any]:
         """The whole sweep, JSON-ready (SI units in key suffixes, no dots in keys: a point's values
-        are keyed by axis column; no NaN or infinity)."""
+        are keyed by axis column; no NaN or infinity). The same for two runs with one seed: the wall
+        time is left out unless `timing` adds it as a separate "timing" block."""
         axes = [{"key": a.key, "unit": a.unit, "column": a.column, "log": a.log, "values": list(a.values),
                  "text": [a.text(i) for i in range(len(a.values))]} for a in self.axes]
         points = [{**p, "values": {a.column: a.values[i] for a, i in zip(self.axes, p["index"])}} for p in self.points]
         return {"title": self.title, "axes": axes, "points": points, "method": self.method,
                 "samples": self.samples, "seed": self.seed, "topologies": list(self.topologies),
-                "notes": list(self.notes), "seconds": self.seconds}
+                "notes": list(self.notes), **({"timing": {"total_s": self.seconds}} if timing else {})}
 
 
 def sweep(brief: Brief | str | Path, vary: Mapping[str, Sequence[str | float] | str] | Sequence[str], *,

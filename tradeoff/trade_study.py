@@ -70,17 +70,21 @@ class TopologyOutcome:
         return [d.evaluation for d in self.verified]
 
     def statistics(self) -> dict[str, Any]:
-        """Solver statistics for reports: rounds, solve time, candidate table sizes."""
+        """Solver statistics for reports: designs, rounds, candidate table sizes (the same in every run
+        with one seed; wall times are in `timing()`)."""
         problem = self.verified[0].selection.problem if self.verified else None
         sizes = {} if problem is None else {b.name: len(b.table) for b in problem.model.blocks}
         return {
             "topology": self.topology,
             "designs": len(self.verified),
             "rounds": [d.rounds for d in self.verified],
-            "solve_s": [d.selection.solve_s for d in self.verified],
             "candidates": sizes,
-            "seconds": self.seconds,
         }
+
+    def timing(self) -> dict[str, Any]:
+        """Wall times of this topology [s]: the whole outcome and each solver call (vary from run to run)."""
+        return {"topology": self.topology, "total_s": self.seconds,
+                "solve_s": [d.selection.solve_s for d in self.verified]}
 
 
 @dataclass
@@ -120,8 +124,11 @@ class StudyResult:
         """Topologies with no design that meets the brief."""
         return [o for o in self.outcomes if not o.feasible]
 
-    def to_dict(self) -> dict[str, Any]:
-        """The whole result, JSON-ready (SI units in key suffixes; never NaN or infinity)."""
+    def to_dict(self, timing: bool = False) -> dict[str, Any]:
+        """The whole result, JSON-ready (SI units in key suffixes; never NaN or infinity).
+
+        Byte-for-byte the same for two runs with one seed: wall times are left out, unless `timing`
+        adds them as one separate "timing" block (total and per topology, in seconds)."""
         ranking = None if self.ranking is None else self.ranking.to_dict()
         ranked = {} if ranking is None else {d["name"]: d for d in ranking.pop("designs")}
         designs = []
@@ -145,7 +152,8 @@ class StudyResult:
             "method": self.method,
             "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
             "cautions": list(self.cautions),
-            "seconds": self.seconds,
+            **({"timing": {"total_s": self.seconds, "topologies": [o.timing() for o in self.outcomes]}}
+               if timing else {}),
         }
 
     def to_frame(self) -> "pd.DataFrame":

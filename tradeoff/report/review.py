@@ -66,9 +66,9 @@ def report_text(result: "StudyResult", verbose: bool = False) -> str:
     return buffer.getvalue()
 
 
-def json_text(result: "StudyResult") -> str:
-    """The whole result as JSON text (never NaN or infinity)."""
-    return json.dumps(result.to_dict(), indent=2, allow_nan=False) + "\n"
+def json_text(result: "StudyResult", timing: bool = False) -> str:
+    """The whole result as JSON text (never NaN or infinity; wall times only when `timing`)."""
+    return json.dumps(result.to_dict(timing=timing), indent=2, allow_nan=False) + "\n"
 
 
 def netlist_files(result: "StudyResult", directory: str | Path) -> tuple[dict[Path, str], list[str]]:
