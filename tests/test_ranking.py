@@ -34,15 +34,17 @@ def random_table(rng: np.random.Generator, n: int, coarse: bool = False) -> pd.D
     if coarse:
         data = {c: rng.integers(1, 4, n).astype(float) for c in COLUMNS}
         data["yield_frac"] = data["yield_frac"] / 4
+        data["delay_margin_frac"] = data["delay_margin_frac"] / 8
         data["effort"] = data["effort"] / 4
     else:
         data = {
-            "delay_spread_frac": rng.uniform(0.01, 0.5, n), "yield_frac": rng.uniform(0.9, 1.0, n),
+            "delay_spread_frac": rng.uniform(0.01, 0.5, n), "delay_margin_frac": rng.uniform(0.05, 0.45, n),
+            "yield_frac": rng.uniform(0.9, 1.0, n),
             "standby_after_a": rng.uniform(1e-7, 1e-4, n), "standby_during_a": rng.uniform(1e-6, 1e-2, n),
             "rails": rng.integers(1, 3, n).astype(float), "parts": rng.integers(4, 30, n).astype(float),
             "cost_eur": rng.uniform(0.3, 5.0, n), "effort": rng.uniform(0.05, 1.0, n),
         }
-    return pd.DataFrame(data, index=[f"d{i:02d}" for i in range(n)])
+    return pd.DataFrame(data, index=[f"d{i:02d}" for i in range(n)], columns=COLUMNS)
 
 
 def random_weights(rng: np.random.Generator) -> dict[str, float]:
@@ -161,11 +163,13 @@ def test_scaling_every_weight_alike_changes_nothing():
         np.testing.assert_allclose(a["score"], b["score"], atol=1e-12)
 
 
-def test_criterion_weights_split_standby_and_accuracy_three_quarters_to_one_quarter():
-    # The split documented in ranking.py: accuracy 3/4 spread + 1/4 yield, standby 3/4 after + 1/4 during.
+def test_criterion_weights_split_accuracy_in_halves_and_quarters_and_standby_in_quarters():
+    # The split documented in ranking.py: accuracy 1/2 spread + 1/4 margin + 1/4 yield, standby 3/4 after +
+    # 1/4 during.
     cw = criterion_weights({"accuracy": 4, "standby": 4, "rails": 0, "parts": 0, "cost": 0, "effort": 0})
-    assert cw == pytest.approx({"delay_spread_frac": 0.375, "yield_frac": 0.125, "standby_after_a": 0.375,
-                                "standby_during_a": 0.125, "rails": 0, "parts": 0, "cost_eur": 0, "effort": 0})
+    assert cw == pytest.approx({"delay_spread_frac": 0.25, "delay_margin_frac": 0.125, "yield_frac": 0.125,
+                                "standby_after_a": 0.375, "standby_during_a": 0.125, "rails": 0, "parts": 0,
+                                "cost_eur": 0, "effort": 0})
     assert sum(criterion_weights({"accuracy": 3, "standby": 1, "rails": 2, "parts": 5, "cost": 1,
                                   "effort": 9}).values()) == pytest.approx(1.0)
 
@@ -274,7 +278,7 @@ def test_hand_built_crossing_for_two_designs():
     # By hand: A best on parts only, B best on cost only, everything else equal. With min-max
     # normalisation the score of A is w_parts / W and of B is w_cost / W: B takes over exactly when the
     # cost weight passes the parts weight (2), whether it is raised from 1 or parts lowered from 2.
-    table = pd.DataFrame([[0.1, 1.0, 0.0, 1e-3, 1, 8, 2.0, 0.1], [0.1, 1.0, 0.0, 1e-3, 1, 12, 1.0, 0.1]],
+    table = pd.DataFrame([[0.1, 0.2, 1.0, 0.0, 1e-3, 1, 8, 2.0, 0.1], [0.1, 0.2, 1.0, 0.0, 1e-3, 1, 12, 1.0, 0.1]],
                          columns=COLUMNS, index=["A", "B"])
     weights = {"accuracy": 1.0, "standby": 1.0, "rails": 1.0, "parts": 2.0, "cost": 1.0, "effort": 1.0}
     result = rank(table, weights)
@@ -347,21 +351,24 @@ def test_reasons_name_what_each_design_wins_loses_and_what_binds():
     assert "lowest standby after timeout (0 A)" in hold_reason
     assert "fewest parts (9 parts)" in hold_reason
     assert "widest worst-case delay spread (43.3 % of nominal)" in hold_reason  # (39 - 26) / 30
-    # rc_hold's longest delay 39 s is 2.5 % under the 40 s band maximum, at the hot corner.
-    assert "binds: longest delay 39 s at 50 °C, 10.8 V against the band maximum 40 s (2.5 % margin)" in hold_reason
+    # rc_hold's longest delay 39 s is 1 s, 5 % of the 20 s wide band, under the 40 s band maximum, at the hot corner.
+    assert ("binds: longest delay 39 s at 50 °C, 10.8 V against the band maximum 40 s (5 % of the band to spare)"
+            in hold_reason)
     assert "tightest worst-case delay spread (6.67 % of nominal)" in result.reasons["counter"]
     assert "highest cost (2.40 EUR)" in result.reasons["counter"]
     # timer555 and rc_hold both draw 1 mA while timing, the least: a shared best.
     assert "wins on lowest current while timing (1 mA, shared)" in result.reasons["timer555"]
-    # timer555: margin to the maximum 1 - 33/40 = 17.5 % is smaller than to the minimum 27/20 - 1 = 35 %.
-    assert "band maximum 40 s (17.5 % margin)" in result.reasons["timer555"]
+    # timer555: 7 s, 35 % of the band, from either edge: the tie names the band minimum.
+    assert "band minimum 20 s (35 % of the band to spare)" in result.reasons["timer555"]
 
 
 def test_reason_names_the_cold_corner_when_the_band_minimum_binds():
     short = evaluation("rc_hold", min_s=20.5, max_s=31.0, cold_c=-20.0)
     other = evaluation("timer555", min_s=28.0, max_s=32.0, parts=12)
     reason = rank([short, other], EVEN).reasons["rc_hold"]
-    assert "binds: shortest delay 20.5 s at -20 °C, 13.2 V against the band minimum 20 s (2.5 % margin)" in reason
+    # 0.5 s above the 20 s minimum is 2.5 % of the 20 s wide band.
+    assert ("binds: shortest delay 20.5 s at -20 °C, 13.2 V against the band minimum 20 s (2.5 % of the band "
+            "to spare)") in reason
 
 
 def test_reasons_skip_unweighted_and_all_equal_criteria():
@@ -375,11 +382,12 @@ def test_reasons_skip_unweighted_and_all_equal_criteria():
 
 def test_design_best_on_nothing_says_where_it_is_strongest_and_what_costs_it_most():
     # C sits between A and B: 3/4 of the way to the best part count, halfway on spread and cost.
-    table = pd.DataFrame([[0.1, 1.0, 0.0, 1e-3, 1, 8, 2.0, 0.1], [0.3, 1.0, 0.0, 1e-3, 1, 12, 1.0, 0.1],
-                          [0.2, 1.0, 0.0, 1e-3, 1, 9, 1.5, 0.1]], columns=COLUMNS, index=["A", "B", "C"])
+    table = pd.DataFrame([[0.1, 0.2, 1.0, 0.0, 1e-3, 1, 8, 2.0, 0.1], [0.3, 0.2, 1.0, 0.0, 1e-3, 1, 12, 1.0, 0.1],
+                          [0.2, 0.2, 1.0, 0.0, 1e-3, 1, 9, 1.5, 0.1]], columns=COLUMNS, index=["A", "B", "C"])
     reason = rank(table, {**EVEN, "accuracy": 3.0}).reasons["C"]
     assert reason.startswith("no outright best; strongest on part count (9 parts)")
-    # Shortfalls weight x (1 - normalised): spread 2.25/8 x 0.5 beats cost 1/8 x 0.5 and parts 1/8 x 0.25.
+    # Shortfalls weight x share x (1 - normalised): spread 3/8 x 1/2 x 0.5 beats cost 1/8 x 0.5 and parts
+    # 1/8 x 0.25 (the margin is equal for all, so it decides nothing).
     assert reason.endswith("gives up most on delay spread (20 % of nominal)")
 
 
@@ -389,6 +397,8 @@ def test_criteria_table_reads_the_evaluation_fields():
                     after_a=1e-6, during_a=3e-3, rails=2, parts=11, cost=1.25, effort=0.4)
     row = criteria_table([ev, evaluation()]).iloc[0]
     assert row["delay_spread_frac"] == pytest.approx(0.3)
+    # margin at the nearer edge: (90 - 80) / 50 = 0.2 above the minimum, (130 - 120) / 50 = 0.2 below the maximum
+    assert row["delay_margin_frac"] == pytest.approx(0.2)
     assert (row["yield_frac"], row["standby_after_a"], row["standby_during_a"]) == (0.97, 1e-6, 3e-3)
     assert (row["rails"], row["parts"], row["cost_eur"], row["effort"]) == (2, 11, 1.25, 0.4)
     assert list(criteria_table([ev, evaluation(), evaluation("mcu"), evaluation()]).index) == [
@@ -461,3 +471,15 @@ def test_bad_designs_raise_a_clear_error():
         rank([evaluation(reasons=["worst-case longest delay 45 s exceeds the band's maximum 40 s"])], EVEN)
     with pytest.raises(RankingError, match="name.s. d00 appear more than once"):
         rank(table.rename(index={"d01": "d00"}), EVEN)
+
+
+def test_equal_scores_are_ordered_by_the_wider_margin_before_the_name():
+    # Two designs equal on every weighted criterion: the one with more room inside the band leads,
+    # whatever their names; margin unweighted (accuracy 0) so it cannot move the scores themselves.
+    weights = {**EVEN, "accuracy": 0.0}
+    narrow = evaluation("a_narrow", min_s=21.0, max_s=39.0)  # 5 % of the 20 s band at each end
+    wide = evaluation("z_wide", min_s=26.0, max_s=34.0)  # 30 % at each end
+    result = rank([narrow, wide], weights)
+    assert result.table.loc["a_narrow", "score"] == pytest.approx(result.table.loc["z_wide", "score"])
+    assert result.top == "z_wide"
+    assert list(order(np.array([0.5, 0.5]), ["a", "z"], [0.05, 0.3])) == [1, 0]

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import functools
 import io
+import math
 import os
 from pathlib import Path
 
@@ -17,7 +18,7 @@ from rich.console import Console
 
 import tradeoff
 from tradeoff.cli import cli
-from tradeoff.report.labels import margin_frac, plain_label, short_reason, span_in, split_reason, time_unit
+from tradeoff.report.labels import margin_frac, margin_text, plain_label, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.study_text import comparison_rows, render_study
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -100,13 +101,15 @@ def test_cli_width_option_and_default_page_width():
     assert refused.exit_code == 2 and "--width" in refused.output
 
 
-def test_margin_is_distance_from_the_nearer_band_edge():
+def test_margin_is_distance_from_each_band_edge():
     """Hand example: band 1.7 h to 2.3 h (0.6 h wide), worst case 1.97 h to 2.03 h: 0.27 h from
     either edge, 45 % of the band; 2.28 h at the top is 0.02 h / 0.6 h = 3.3 %; outside is negative."""
     band = (1.7 * 3600, 2.3 * 3600)
-    assert margin_frac(1.97 * 3600, 2.03 * 3600, band) == pytest.approx(0.45)
-    assert margin_frac(1.84 * 3600, 2.28 * 3600, band) == pytest.approx(0.02 / 0.6)
-    assert margin_frac(1.6 * 3600, 2.0 * 3600, band) == pytest.approx(-0.1 / 0.6)
+    assert margin_frac(1.97 * 3600, 2.03 * 3600, band) == pytest.approx((0.45, 0.45))
+    assert margin_frac(1.84 * 3600, 2.28 * 3600, band) == pytest.approx((0.14 / 0.6, 0.02 / 0.6))
+    assert margin_frac(1.6 * 3600, 2.0 * 3600, band) == pytest.approx((-0.1 / 0.6, 0.3 / 0.6))
+    assert margin_text(1.84 * 3600, 2.28 * 3600, band) == "23 / 3.3"
+    assert margin_text(1.84 * 3600, math.inf, band) == "23 / never"
 
 
 def test_delays_in_the_briefs_unit():

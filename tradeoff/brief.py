@@ -31,14 +31,16 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
     series:     resistor, electrolytic, film,      E24, E6, E12, E12; pairs false
                 ceramic, pairs
     topologies: all | [name, ...]                  all
-    analysis:   samples, seed, coverage            20000, 1, 0.99
+    analysis:   samples, seed, coverage, margin    20000, 1, 0.99, 5 %; margin: the share of the band's
+                                                   width every proven design keeps between its
+                                                   worst case and each band edge (common practice)
 
 Accepted ranges (outside them is almost surely a typo): delays 10 ms .. 7 days; ambient
 -55 degC .. 125 degC; supply 1 V .. 60 V (the timer runs from extra-low voltage: mains belongs
 under load.switched); no-load power 0 .. 10 W; coil 1 V .. 60 V and 1 ohm .. 100 kohm; dc
 load 1 uA .. 10 A; switched 1 V .. 440 V and 1 mA .. 32 A; standby limit 1 nA .. 1 A; rails
 1 .. 10; parts 1 .. 500; cost 0 .. 10000; weights 0 .. 100; samples 100 .. 10,000,000; seed
-0 .. 2**32-1; coverage strictly between 0.5 and 1.
+0 .. 2**32-1; coverage strictly between 0.5 and 1; margin 0 .. below 50 % of the band.
 """
 from __future__ import annotations
 
@@ -70,6 +72,9 @@ HAZARDOUS_VOLTAGE_V = 50.0
 """Switched voltage above which the mains cautions apply even when the brief does not say 'mains' [V]
 (the usual extra-low-voltage boundary, common practice)."""
 MAINS_MIN_V = 100.0  # lowest public mains voltage in use (100 V, Japan), from memory
+DEFAULT_MARGIN = 0.05
+"""Share of the band's width kept between a proven design's worst case and each band edge, unless the brief
+says otherwise: room for what the models leave out (common practice for a guard band, not a standard)."""
 SUPPLY_SPREAD = {"unregulated": (-0.10, 0.20), "regulated": (-0.05, 0.05)}  # common practice
 
 
@@ -153,11 +158,13 @@ class Series(_Frozen):
 
 
 class Analysis(_Frozen):
-    """Monte Carlo settings; coverage 0.99 means the 0.5 % and 99.5 % percentiles must lie in the band."""
+    """Monte Carlo settings; coverage 0.99 means the 0.5 % and 99.5 % percentiles must lie in the band;
+    margin: fraction of the band's width a proven design keeps between its worst case and each edge."""
 
     samples: int
     seed: int
     coverage: float
+    margin: float
 
 
 @dataclass(frozen=True)
@@ -552,7 +559,8 @@ def _read(r: _Reader, data: object) -> dict | None:
         "analysis": _read_section(r, ("analysis",), top.get("analysis"), {
             "samples": (number(100, 10_000_000, integer=True), 20000, ""),
             "seed": (number(0, 2**32 - 1, integer=True), 1, ""),
-            "coverage": (fraction(0.5, 1, open_lo=True, open_hi=True), 0.99, "%")}),
+            "coverage": (fraction(0.5, 1, open_lo=True, open_hi=True), 0.99, "%"),
+            "margin": (fraction(0, 0.5, open_hi=True), DEFAULT_MARGIN, "%")}),
     }
     if "topologies" not in top:
         values["topologies"] = ("all",)

@@ -9,6 +9,8 @@ Headline figures of one evaluated design (`headline(ev)`, SI units in the key su
 | `topology` | topology id |
 | `delay_nominal_s`, `delay_worst_min_s`, `delay_worst_max_s` | delay at nominal and at the worst-case corners [s] |
 | `delay_spread_frac` | worst-case (max − min) / nominal delay |
+| `delay_margin_short_frac`, `delay_margin_long_frac` | room between the worst case and the band's minimum, and its maximum, as fractions of the band's width |
+| `delay_margin_frac` | the smaller of the two |
 | `yield_frac` | Monte Carlo fraction inside the band |
 | `standby_during_a`, `standby_after_a` | supply current while timing and after the timeout [A] |
 | `standby_after_w` | circuit power after the timeout at nominal supply [W] |
@@ -34,7 +36,7 @@ WEIGHT_NAMES = ("accuracy", "standby", "rails", "parts", "cost", "effort")
 """The brief's weights, in the order `brief.weights` lists them; also the optimiser's objective terms."""
 
 HEADLINE = ("topology", "delay_nominal_s", "delay_worst_min_s", "delay_worst_max_s", "delay_spread_frac",
-            "yield_frac", "standby_during_a", "standby_after_a", "standby_after_w", "rails", "parts", "bom_lines",
+            "delay_margin_short_frac", "delay_margin_long_frac", "delay_margin_frac", "yield_frac", "standby_during_a", "standby_after_a", "standby_after_w", "rails", "parts", "bom_lines",
             "cost_eur", "effort")
 """Keys of the headline figures, in display order."""
 
@@ -44,6 +46,8 @@ def headline(ev: Any) -> dict[str, Any]:
     return {
         "topology": ev.topology, "delay_nominal_s": float(ev.nominal_s), "delay_worst_min_s": float(ev.worst.min_s),
         "delay_worst_max_s": float(ev.worst.max_s), "delay_spread_frac": float(ev.spread_frac),
+        "delay_margin_short_frac": float(ev.margin_short_frac), "delay_margin_long_frac": float(ev.margin_long_frac),
+        "delay_margin_frac": float(ev.margin_frac),
         "yield_frac": float(ev.mc.yield_frac), "standby_during_a": float(ev.standby.during_a),
         "standby_after_a": float(ev.standby.after_a), "standby_after_w": float(ev.after_w), "rails": int(ev.rails),
         "parts": int(ev.placements), "bom_lines": int(ev.lines), "cost_eur": float(ev.cost),
@@ -81,8 +85,10 @@ class Criterion:
 
 
 CRITERIA = (
-    Criterion("delay_spread_frac", "accuracy", 0.75, False, "delay spread", "tightest worst-case delay spread",
+    Criterion("delay_spread_frac", "accuracy", 0.5, False, "delay spread", "tightest worst-case delay spread",
               "widest worst-case delay spread", lambda v: f"{_percent(v)} of nominal"),
+    Criterion("delay_margin_frac", "accuracy", 0.25, True, "margin", "widest margin inside the band",
+              "narrowest margin inside the band", lambda v: f"{_percent(v)} of the band"),
     Criterion("yield_frac", "accuracy", 0.25, True, "yield", "highest Monte Carlo yield",
               "lowest Monte Carlo yield", _percent),
     Criterion("standby_after_a", "standby", 0.75, False, "standby after timeout", "lowest standby after timeout",
@@ -96,7 +102,9 @@ CRITERIA = (
     Criterion("effort", "effort", 1.0, False, "effort", "least engineering effort", "most engineering effort",
               lambda v: f"{v:.3g} of 1"),
 )
-"""Every ranking criterion, in table order. The standby weight goes 3/4 to the current after the
+"""Every ranking criterion, in table order. The accuracy weight goes 1/2 to the worst-case spread, 1/4 to
+the margin the worst case keeps inside the band at its nearer edge (room for what no model holds) and 1/4
+to the Monte Carlo yield. The standby weight goes 3/4 to the current after the
 timeout (it flows for as long as the product sits switched off) and 1/4 to the current while timing."""
 
 

@@ -2,16 +2,17 @@
 weight sensitivity and a one-line reason per design.
 
 Criteria (`tradeoff.criteria.CRITERIA`, one column each in the criteria table, one row per
-design): the worst-case delay spread and the Monte Carlo yield share the accuracy weight (3/4,
-1/4); standby after and during the timeout share the standby weight (3/4, 1/4); rails, parts,
-cost and effort take their own weights whole. Every column is a headline figure of the design.
+design): the worst-case delay spread, the margin inside the band at its nearer edge and the
+Monte Carlo yield share the accuracy weight (1/2, 1/4, 1/4); standby after and during the
+timeout share the standby weight (3/4, 1/4); rails, parts, cost and effort take their own
+weights whole. Every column is a headline figure of the design.
 
 Yield is a criterion of its own sharing the accuracy weight: the worst-case spread says how
 tight the delay is by guarantee, the yield how often a built unit lands in the band (for
 designs proven at every corner it is usually 1 for all, a column that then decides nothing). The
 standby weight goes 3/4 to the current after the timeout, which flows for as long as the
 product sits switched off, and 1/4 to the current while timing, which flows for the delay
-only. Criterion weight = brief weight x share / sum of brief weights, so the eight sum to 1.
+only. Criterion weight = brief weight x share / sum of brief weights, so the nine sum to 1.
 
 Methods (scores in [0, 1], higher is better, rank 1 is best):
 - `'wsm'` (default), weighted sum of min-max normalised criteria: each column is mapped so
@@ -22,7 +23,8 @@ Methods (scores in [0, 1], higher is better, rank 1 is best):
   An all-zero column (e.g. no design draws current after the timeout) counts as equal for
   all; when every design coincides on every weighted criterion, each is the ideal: score 1.
 
-Ties: scores equal to 12 decimals are ordered by design name, then by input position.
+Ties: scores equal to 12 decimals are ordered by the margin inside the band (wider first), then
+by design name, then by input position.
 
 Pareto flags use every criterion, whatever its weight (yield sign-flipped so all are
 lower-better): a design is Pareto-optimal when no other design is at least as good on every
@@ -45,7 +47,7 @@ Reasons, the same whichever method ranks, count only weighted criteria on which 
 differ: "wins on" lists where the design is best (sole bests first, by weighted lead over the
 runner-up, at most three; a shared best says so), "loses on" where it is worst (at most two);
 failing those, where it is strongest and where it gives up most (weight x min-max shortfall).
-For an Evaluation, "binds" names the edge of the delay band with the smaller relative margin,
+For an Evaluation, "binds" names the edge of the delay band with the smaller margin (in % of the band),
 the worst-case delay there and the ambient and supply of that corner.
 """
 from __future__ import annotations
@@ -91,6 +93,8 @@ about 1e-12 in score where `TIE_DECIMALS` calls two designs equal."""
 
 
 _COLUMNS = tuple(c.column for c in CRITERIA)
+_MARGIN = _COLUMNS.index("delay_margin_frac")
+"""Column of the margin inside the band, which breaks ties of score."""
 _BENEFIT = np.array([c.higher_is_better for c in CRITERIA])
 _SHARES = np.array([[c.share if c.weight == w else 0.0 for w in WEIGHT_NAMES] for c in CRITERIA])
 """Share of each brief weight (columns) going to each criterion (rows); every column sums to 1."""
@@ -221,17 +225,19 @@ def scores(matrix: np.ndarray, weights: np.ndarray, method: str) -> np.ndarray:
     return np.where(total > 0, d_anti / np.where(total > 0, total, 1.0), 1.0)
 
 
-def order(score: np.ndarray, names: Sequence[str]) -> np.ndarray:
-    """Design indices best first: score (to `TIE_DECIMALS`) descending, then name, then input position."""
+def order(score: np.ndarray, names: Sequence[str], margins: Sequence[float] | None = None) -> np.ndarray:
+    """Design indices best first: score (to `TIE_DECIMALS`) descending, then margin inside the band
+    (fraction of its width, wider first; none given: equal), then name, then input position."""
     rounded = np.round(np.asarray(score, dtype=float), TIE_DECIMALS)
-    return np.array(sorted(range(len(names)), key=lambda i: (-rounded[i], names[i], i)), dtype=int)
+    tie = _tie_rank(names, margins)
+    return np.array(sorted(range(len(names)), key=lambda i: (-rounded[i], tie[i])), dtype=int)
 
 
-def _tops(score_rows: np.ndarray, names: Sequence[str]) -> np.ndarray:
+def _tops(score_rows: np.ndarray, names: Sequence[str], margins: Sequence[float] | None = None) -> np.ndarray:
     """Index of the top design for each row of scores, with the tie-break of `order`."""
     rounded = np.round(np.atleast_2d(score_rows), TIE_DECIMALS)
     best = rounded == rounded.max(axis=1, keepdims=True)
-    return np.argmin(np.where(best, _tie_rank(names), len(names)), axis=1)
+    return np.argmin(np.where(best, _tie_rank(names, margins), len(names)), axis=1)
 
 
 def pareto_flags(table: pd.DataFrame) -> np.ndarray:
@@ -315,7 +321,7 @@ def _linear_crossings(matrix: np.ndarray, raw: np.ndarray, k: int, names: Sequen
     slope = per_weight[:, k]
     offset = per_weight @ raw - slope * raw[k]
     lo, hi = _search_range(raw, k)
-    tie_rank = _tie_rank(names)
+    tie_rank = _tie_rank(names, matrix[:, _MARGIN])
     found: list[Crossing | None] = []
     for sign, bound in ((1.0, hi), (-1.0, lo)):
         gain = sign * (slope - slope[top])
@@ -340,7 +346,7 @@ def _numeric_crossings(matrix: np.ndarray, raw: np.ndarray, k: int, names: Seque
     def tops(values: np.ndarray) -> np.ndarray:
         trial = np.tile(raw, (len(values), 1))
         trial[:, k] = values
-        return _tops(scores(matrix, _normalised_weights(trial), method), names)
+        return _tops(scores(matrix, _normalised_weights(trial), method), names, matrix[:, _MARGIN])
 
     found: list[Crossing | None] = []
     for bound in reversed(_search_range(raw, k)):
@@ -376,10 +382,11 @@ def _sensitivity(matrix: np.ndarray, raw: np.ndarray, names: Sequence[str], top:
     return out
 
 
-def _tie_rank(names: Sequence[str]) -> np.ndarray:
-    """Position of each design in the tie-break order (name, then input position)."""
+def _tie_rank(names: Sequence[str], margins: Sequence[float] | None = None) -> np.ndarray:
+    """Position of each design in the tie-break order (margin descending, name, then input position)."""
+    wide = np.zeros(len(names)) if margins is None else -np.round(np.asarray(margins, dtype=float), TIE_DECIMALS)
     ranks = np.empty(len(names), dtype=int)
-    ranks[sorted(range(len(names)), key=lambda i: (names[i], i))] = np.arange(len(names))
+    ranks[sorted(range(len(names)), key=lambda i: (wide[i], names[i], i))] = np.arange(len(names))
     return ranks
 
 
@@ -395,15 +402,15 @@ def _corner(point: Mapping[str, float]) -> str:
 
 
 def _binding(ev: "Evaluation") -> str:
-    """Which edge of the delay band is nearest (relative margin), and at which corner."""
+    """Which edge of the delay band is nearest (margin in % of the band's width), and at which corner."""
     lo, hi = ev.band
-    short_margin = ev.worst.min_s / lo - 1 if lo > 0 else math.inf
-    long_margin = 1 - ev.worst.max_s / hi
-    if short_margin <= long_margin:
+    if ev.margin_short_frac <= ev.margin_long_frac:
         return (f"binds: shortest delay {format_quantity(ev.worst.min_s, 's')} {_corner(ev.worst.at_min)} "
-                f"against the band minimum {format_quantity(lo, 's')} ({format_quantity(short_margin, '%')} margin)")
+                f"against the band minimum {format_quantity(lo, 's')} "
+                f"({format_quantity(ev.margin_short_frac, '%')} of the band to spare)")
     return (f"binds: longest delay {format_quantity(ev.worst.max_s, 's')} {_corner(ev.worst.at_max)} "
-            f"against the band maximum {format_quantity(hi, 's')} ({format_quantity(long_margin, '%')} margin)")
+            f"against the band maximum {format_quantity(hi, 's')} "
+            f"({format_quantity(ev.margin_long_frac, '%')} of the band to spare)")
 
 
 def _reason(i: int, matrix: np.ndarray, weights: np.ndarray, ev: "Evaluation | None") -> str:
@@ -500,7 +507,7 @@ def rank(designs: Sequence["Evaluation"] | pd.DataFrame, weights: Any, method: s
     matrix = table.to_numpy()
     labels = [str(n) for n in table.index]
     score = scores(matrix, cw, method)
-    best_first = order(score, labels)
+    best_first = order(score, labels, matrix[:, _MARGIN])
     ranks = np.empty(len(labels), dtype=int)
     ranks[best_first] = np.arange(1, len(labels) + 1)
     out = table.copy()

@@ -14,7 +14,7 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Sequence
 
 from tradeoff.brief import Brief, load_brief
 from tradeoff.catalog import Catalog, load_catalog
@@ -23,7 +23,9 @@ from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
 from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
+from tradeoff.topologies.base import margin_shortfalls
 from tradeoff.topologies.registry import build_topology, topology_ids
+from tradeoff.units import format_quantity
 
 if TYPE_CHECKING:  # pragma: no cover
     import pandas as pd
@@ -172,8 +174,6 @@ class StudyResult:
 
 def describe_values(topology: "Topology | None", design) -> str:
     """The design's values and options in one line, each value with its unit."""
-    from tradeoff.units import format_quantity
-
     kinds = {} if topology is None else {r.name: r.kind for r in topology.roles()}
     parts = []
     for name, value in design.values.items():
@@ -210,15 +210,38 @@ def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | Non
 def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str = "highs",
                      max_rounds: int = MAX_ROUNDS) -> list[VerifiedDesign]:
     """The k best distinct designs of `topology` for `brief`, best first, each proven by the full
-    model (see the module docstring); fewer than k when the candidate tables run out.
+    model (see the module docstring) with the brief's margin kept at both band edges; fewer than k
+    when the candidate tables run out.
 
     Raises InfeasibleError (reasons keyed by the topology id) when no design is found: the
-    program's own explanation when it has no solution, or the best rejected design's shortfalls.
+    program's own explanation when it has no solution, or the best rejected design's shortfalls;
+    when a design meets the band but not the margin, the reasons say so and name it.
     """
     if k < 1 or max_rounds < 1:
         raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
+    margin = brief.analysis.margin
+    try:
+        return _search(topology, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible)
+    except InfeasibleError as exc:
+        if margin == 0:
+            raise
+        try:  # the band alone: a design short only of the margin is reported, not dropped
+            near = _search(topology, brief, 1, solver, max_rounds, 0.0,
+                           lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)))[0].evaluation
+        except InfeasibleError:
+            raise exc from None
+        why = (f"no design keeps the brief's margin of {format_quantity(margin, '%')} of the band at both ends; "
+               f"the best design meeting the band without it ({describe_values(topology, near.design)}) keeps "
+               f"{format_quantity(near.margin_short_frac, '%', 2)} at the short end and "
+               f"{format_quantity(near.margin_long_frac, '%', 2)} at the long end")
+        raise InfeasibleError(str(exc), {topology.id: [why, *exc.reasons.get(topology.id, [])]}) from None
+
+
+def _search(topology: "Topology", brief: Brief, k: int, solver: str, max_rounds: int, margin: float,
+            accept: Callable[["Evaluation"], bool]) -> list[VerifiedDesign]:
+    """Solve, verify by the full model (`accept`), cut and solve again; the band less `margin` in the program."""
     problem = SelectionProblem(topology.selection(), (brief.delay.min_s, brief.delay.max_s), brief.limits,
-                               brief.weights, solver=solver)
+                               brief.weights, solver=solver, margin=margin)
     found: list[VerifiedDesign] = []
     failed: list["Evaluation"] = []
     seen: set[tuple] = set()
@@ -235,7 +258,7 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
             continue
         seen.add(result.design.key())
         evaluation = topology.evaluate(result.design)
-        if not evaluation.feasible:
+        if not accept(evaluation):
             failed.append(evaluation)
             continue
         found.append(VerifiedDesign(result, evaluation, rounds))

@@ -48,11 +48,11 @@ class Explainer:
     def _band_reasons(self) -> list[str]:
         """The band alone: tolerance spread against the band's ratio, or the closest standard values come."""
         t = self.tables
-        lo, hi = t.band
+        lo, hi = t.required
         ratio = self._smallest_spread()
         if ratio > (hi / lo) * (1 + TOLERANCE):
             return [f"the tolerances alone spread the delay by ×{ratio:.3g} between the worst-case corners; "
-                    f"the band {seconds(lo)} to {seconds(hi)} allows ×{hi / lo:.3g}"]
+                    f"{t.band_text()} allows ×{hi / lo:.3g}"]
         if Program(t, self._band(), self.solver).run() is not None:
             return []
         return [self._closest(others=[], prefix="no combination of standard values puts both worst-case delays "
@@ -81,13 +81,11 @@ class Explainer:
         if not program.empty:
             program.minimise(pulp.LpAffineExpression(program.worst_violation(self._band())))
         rows = program.run()
-        lo, hi = t.band
         if rows is None:
             return f"{prefix} (the other requirements leave no candidate)"
         idx = t.index(rows)
         return (f"{prefix}: the closest is {seconds(t.combined('delay_lo', idx))} to "
-                f"{seconds(t.combined('delay_hi', idx))} at the worst-case corners against the band "
-                f"{seconds(lo)} to {seconds(hi)}")
+                f"{seconds(t.combined('delay_hi', idx))} at the worst-case corners against {t.band_text()}")
 
     def _conflict(self) -> list[str]:
         """A smallest set of requirement groups that cannot hold together, each with the best it reaches."""

@@ -150,15 +150,19 @@ class Tables:
     the integer program's checks and exhaustive search share."""
 
     def __init__(self, model: SelectionModel, band: tuple[float, float], limits, weights,
-                 scales: Scales | None):
+                 scales: Scales | None, margin: float = 0.0):
         lo, hi = (float(v) for v in band)
         if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
             raise ValueError(f"delay band must satisfy 0 < min < max [s], got {band!r}")
+        if not 0 <= margin < 0.5:
+            raise ValueError(f"margin must be a fraction of the band from 0 to below 0.5, got {margin!r}")
         if model.combine not in ("sum", "product"):
             raise ValueError(f"combine must be 'sum' or 'product', got {model.combine!r}")
         if not model.blocks:
             raise ValueError(f"selection model of {model.topology!r} has no blocks")
-        self.model, self.band = model, (lo, hi)
+        self.model, self.band, self.margin = model, (lo, hi), float(margin)
+        self.required = (lo + margin * (hi - lo), hi - margin * (hi - lo))
+        """The worst-case delays' range: the band less the margin at each end [s]."""
         self._columns: dict[str, list[np.ndarray]] = {}
         self.product = model.combine == "product"
         self.sizes = [len(b.table) for b in model.blocks]
@@ -169,7 +173,7 @@ class Tables:
             raise ValueError(f"weights must be finite and >= 0, got {w}")
         self.weights = w
         self.delay = {c: self._delay_amounts(c) for c in ("delay_lo", "delay_nom", "delay_hi")}
-        self.requirements = self._band(lo, hi) + self._limits(limits) + self._links()
+        self.requirements = self._band(*self.required) + self._limits(limits) + self._links()
         self._objective_arrays()
 
     # -- construction
@@ -194,16 +198,28 @@ class Tables:
         values = self.column(column)
         return tuple(np.log(v) if self.product else v for v in values)
 
+    def band_text(self) -> str:
+        """The range the worst-case delays must keep, in words: the band, less the margin when there is one."""
+        lo, hi = self.band
+        text = f"the band {seconds(lo)} to {seconds(hi)}"
+        if self.margin > 0:
+            text += (f" less the {format_quantity(self.margin, '%')} margin ({seconds(self.required[0])} to "
+                     f"{seconds(self.required[1])})")
+        return text
+
     def _band(self, lo: float, hi: float) -> list[Requirement]:
+        """Worst-case delays inside [lo, hi] (the band less the margin) [s]."""
         f = math.log if self.product else float
         common = dict(group="band", label="the delay band", constant=0.0, fmt=seconds, log=self.product)
+        kept = f" plus the {format_quantity(self.margin, '%')} margin" if self.margin > 0 else ""
         return [
             Requirement("band_min", amounts=self.delay["delay_lo"], sense=">=", rhs=f(lo),
                          template="even the longest-delay candidates time out too early: the worst-case shortest "
-                                  "delay reaches at most {best}; the band's minimum is {limit}", **common),
+                                  f"delay reaches at most {{best}}; the band's minimum{kept} is {{limit}}", **common),
             Requirement("band_max", amounts=self.delay["delay_hi"], sense="<=", rhs=f(hi),
                          template="even the shortest-delay candidates time out too late: the worst-case longest "
-                                  "delay is at least {best}; the band's maximum is {limit}", **common),
+                                  f"delay is at least {{best}}; the band's maximum{kept.replace('plus', 'less')} "
+                                  "is {limit}", **common),
         ]
 
     def _limits(self, limits) -> list[Requirement]:

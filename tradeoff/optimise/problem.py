@@ -70,14 +70,15 @@ class SelectionProblem:
     band: (min, max) delay [s]; limits: object with standby_after_a [A], parts, cost [EUR],
     rails (None where not limited), e.g. `brief.limits`; weights: object with the attributes in
     criteria.WEIGHT_NAMES (>= 0), e.g. `brief.weights`; scales: objective normalisation (default `Scales.of`);
-    solver: 'highs' or 'cbc'.
+    solver: 'highs' or 'cbc'; margin: fraction of the band's width the worst-case delays keep from each
+    edge (`brief.analysis.margin`).
     """
 
     def __init__(self, model: SelectionModel, band: tuple[float, float], limits, weights,
-                 scales: Scales | None = None, solver: str = "highs"):
+                 scales: Scales | None = None, solver: str = "highs", margin: float = 0.0):
         start = time.perf_counter()
         self.model = model
-        self.tables = Tables(model, band, limits, weights, scales)
+        self.tables = Tables(model, band, limits, weights, scales, margin)
         self.solver = solver
         self.excluded: list[tuple[int, ...]] = []
         self._rows_meeting = prune(self.tables, self.tables.requirements)
@@ -211,14 +212,14 @@ class SelectionProblem:
 
 
 def exhaustive(model: SelectionModel, band: tuple[float, float], limits, weights, scales: Scales | None = None,
-               k: int = 1, max_combinations: int = 10**9) -> list[SelectionResult]:
+               k: int = 1, max_combinations: int = 10**9, margin: float = 0.0) -> list[SelectionResult]:
     """The k best feasible combinations by brute force over every combination of block rows.
 
     Same requirements, objective and arithmetic as SelectionProblem; ties are ordered by row
     numbers. Empty when no combination is feasible. For tests and benchmarks.
     """
     start = time.perf_counter()
-    tables = Tables(model, band, limits, weights, scales)
+    tables = Tables(model, band, limits, weights, scales, margin)
     total = math.prod(tables.sizes)
     if total > max_combinations:
         raise ValueError(f"{total} combinations exceed max_combinations={max_combinations}")

@@ -19,7 +19,7 @@ import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from tradeoff.report.labels import (in_unit, margin_frac, part_classes, schematic_values, short_reason, span_in,
+from tradeoff.report.labels import (in_unit, part_classes, schematic_values, short_reason, span_in,
                                     split_reason, time_unit)
 from tradeoff.report.tables import design_stem
 from tradeoff.units import format_quantity as fq
@@ -93,12 +93,12 @@ def _comparison(result: "StudyResult", data: dict[str, Any]) -> tuple[list[str],
     """Header and rows of the comparison: feasible designs (cells from the JSON), then infeasible topologies."""
     unit = time_unit(result.brief.delay.nominal_s)
     headers = ["#", "design", "values, or why not", f"delay [{unit[0]}]", f"worst case [{unit[0]}]",
-               "margin [% of band]", "yield [%]", "standby after [µA]", "rails", "parts", "cost [EUR]", "score"]
+               "margin, short end [% of band]", "margin, long end [% of band]", "yield [%]", "standby after [µA]",
+               "rails", "parts", "cost [EUR]", "score"]
     rows = []
     for i, ((name, ev, outcome), entry) in enumerate(zip(result.designs(), data["designs"])):
         p = f"designs/{i}"
         delay = entry["delay"]
-        margin = margin_frac(delay["worst_min_s"], delay["worst_max_s"], tuple(delay["band_s"]))
         yield_path, yield_frac = f"{p}/delay/yield_frac", delay["yield_frac"]
         cost_path, cost = f"{p}/cost_eur", entry["cost_eur"]
         cells = [
@@ -106,7 +106,8 @@ def _comparison(result: "StudyResult", data: dict[str, Any]) -> tuple[list[str],
             Cell(in_unit(delay["nominal_s"], unit), f"{p}/delay/nominal_s", delay["nominal_s"]),
             Cell(span_in(delay["worst_min_s"], delay["worst_max_s"], unit, with_unit=False),
                  f"{p}/delay/worst_min_s {p}/delay/worst_max_s"),
-            Cell(f"{100 * margin:.0f}"),
+            Cell(_number(100 * delay["margin_short_frac"]), f"{p}/delay/margin_short_frac", delay["margin_short_frac"]),
+            Cell(_number(100 * delay["margin_long_frac"]), f"{p}/delay/margin_long_frac", delay["margin_long_frac"]),
             Cell(_number(100 * yield_frac, 4), yield_path, yield_frac),
             Cell(_number(1e6 * entry["standby"]["after_a"]), f"{p}/standby/after_a", entry["standby"]["after_a"]),
             Cell(str(entry["rails"]), f"{p}/rails", entry["rails"]),
@@ -138,7 +139,9 @@ def _designs(result: "StudyResult", figures: dict[str, str]) -> list[dict[str, A
              f"seed {ev.mc.seed})"),
             ("yield", f"{100 * ev.mc.yield_frac:.2f} % (95 % interval {100 * ev.mc.yield_ci[0]:.2f} % to "
                       f"{100 * ev.mc.yield_ci[1]:.2f} %, Wilson)"),
-            ("margin", f"{100 * margin_frac(ev.worst.min_s, ev.worst.max_s, ev.band):.0f} % of the band"),
+            ("margin", f"{fq(ev.margin_short_frac, '%', 2)} of the band above its minimum, "
+                       f"{fq(ev.margin_long_frac, '%', 2)} below its maximum (the brief asks "
+                       f"{fq(ev.margin_required_frac, '%')} at each end)"),
             ("standby", f"{fq(ev.standby.after_a, 'A')} after the timeout, {fq(ev.standby.during_a, 'A')} while timing"),
             ("rails, parts, cost", f"{ev.rails} rails, {ev.placements} placements, {ev.cost:.2f} EUR (indicative)"),
             ("why here", result.ranking.reasons[name]),

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["plain_label", "time_unit", "in_unit", "delay_in", "span_in", "margin_frac", "schematic_values",
+__all__ = ["plain_label", "time_unit", "in_unit", "delay_in", "span_in", "margin_frac", "margin_text", "schematic_values",
            "part_classes", "RuleCount", "ReasonParts", "split_reason", "short_reason"]
 
 _LABELS = {
@@ -74,11 +74,17 @@ def span_in(lo: float, hi: float, unit: tuple[str, float], with_unit: bool = Tru
     return f"{text} {unit[0]}" if with_unit else text
 
 
-def margin_frac(worst_min_s: float, worst_max_s: float, band: tuple[float, float]) -> float:
-    """Distance of the worst case from the nearer band edge, as a fraction of the band's width
-    (negative when a worst case lies outside the band; -inf when a unit never ends)."""
+def margin_frac(worst_min_s: float, worst_max_s: float, band: tuple[float, float]) -> tuple[float, float]:
+    """Distances of the worst case from the band's minimum and from its maximum, as fractions of the
+    band's width (negative when a worst case lies outside the band; -inf when a unit never ends)."""
     lo, hi = band
-    return min(worst_min_s - lo, hi - worst_max_s) / (hi - lo)
+    return (worst_min_s - lo) / (hi - lo), (hi - worst_max_s) / (hi - lo)
+
+
+def margin_text(worst_min_s: float, worst_max_s: float, band: tuple[float, float]) -> str:
+    """Both margins in % of the band, short end first: '8.3 / 24' (two digits below 10 %)."""
+    return " / ".join("never" if not math.isfinite(m) else f"{100 * m:.2g}" if abs(m) < 0.1 else f"{100 * m:.0f}"
+                      for m in margin_frac(worst_min_s, worst_max_s, band))
 
 
 def _option_text(value: object, unit: str | None) -> str:
@@ -159,6 +165,8 @@ def _clause(text: str, limit: int = 90) -> str:
 
 
 _SHORT = (
+    (re.compile(r"margin of (?P<m>\S+ %) of the band at both ends; .* keeps (?P<a>\S+ %) at the short end and "
+                r"(?P<b>\S+ %) at the long end$"), "meets the band, not the {m} margin: keeps {a} / {b}"),
     (re.compile(r"worst-case shortest delay reaches at most (?P<v>[^;]+);"), "too short: worst case at most {v}"),
     (re.compile(r"worst-case longest delay is at least (?P<v>[^;]+);"), "too long: worst case at least {v}"),
     (re.compile(r"tolerances alone spread the delay by (?P<v>\S+) .* allows (?P<w>\S+)$"),

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 
 from rich.console import Console
 
-from tradeoff.report.labels import (in_unit, margin_frac, part_classes, schematic_values, short_reason, span_in,
+from tradeoff.report.labels import (in_unit, margin_text, part_classes, schematic_values, short_reason, span_in,
                                     split_reason, time_unit)
 from tradeoff.report.terminal import delay_text, render_bom, render_rows
 from tradeoff.units import format_quantity as fq
@@ -60,7 +60,7 @@ def comparison_rows(result: "StudyResult") -> list[ComparisonRow]:
     """Every topology considered: feasible designs best first, then the infeasible topologies.
 
     Delays are numbers in the brief's time unit (`labels.time_unit`); margin is the worst case's
-    distance from the nearer band edge in % of the band; standby is the current after the timeout
+    distance from the band's minimum and from its maximum in % of the band; standby is the current after the timeout
     with its unit; cost is indicative EUR.
     """
     unit = time_unit(result.brief.delay.nominal_s)
@@ -70,7 +70,7 @@ def comparison_rows(result: "StudyResult") -> list[ComparisonRow]:
         rows.append(ComparisonRow(
             rank=str(int(row["rank"])), design=name, values=schematic_values(outcome.model, ev.design),
             delay=in_unit(ev.nominal_s, unit), worst=span_in(ev.worst.min_s, ev.worst.max_s, unit, with_unit=False),
-            margin=f"{100 * margin_frac(ev.worst.min_s, ev.worst.max_s, ev.band):.0f} %",
+            margin=margin_text(ev.worst.min_s, ev.worst.max_s, ev.band),
             yield_=fq(ev.mc.yield_frac, "%"), standby=fq(ev.standby.after_a, "A"), rails=str(ev.rails),
             parts=str(ev.placements), cost=f"{ev.cost:.2f}", score=f"{float(row['score']):.3f}", feasible=True,
         ))
@@ -83,7 +83,7 @@ def comparison_headers(result: "StudyResult") -> tuple[str, ...]:
     """Headings of the comparison's figure columns (a newline splits a heading in two lines) (ComparisonRow's fields after `values`, in order),
     the delay unit being the brief's."""
     unit = time_unit(result.brief.delay.nominal_s)[0]
-    return (f"delay\n[{unit}]", f"worst\ncase [{unit}]", "margin", "yield", "standby\nafter", "rails", "parts",
+    return (f"delay\n[{unit}]", f"worst\ncase [{unit}]", "margin\n[% band]", "yield", "standby\nafter", "rails", "parts",
             "cost\n[EUR]", "score")
 
 

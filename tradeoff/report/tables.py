@@ -65,7 +65,8 @@ def _frame(rows: list[dict], columns: list[str]) -> pd.DataFrame:
 
 
 RANKING_COLUMNS = ["rank", "design", "topology", "values", "delay nominal [s]", "delay worst min [s]",
-                   "delay worst max [s]", "delay spread [% of nominal]", "yield [%]", "standby during [A]",
+                   "delay worst max [s]", "delay spread [% of nominal]", "margin short end [% of band]",
+                   "margin long end [% of band]", "margin required [% of band]", "yield [%]", "standby during [A]",
                    "standby after [A]", "standby after [W]", "rails [count]", "parts [count]", "BOM lines [count]",
                    "cost [EUR]", "effort [0 to 1]", "score [0 to 1]", "Pareto front", "reason", "note"]
 BOM_COLUMNS = ["design", "refs", "part class", "value", "quantity [count]", "unit cost [EUR]", "line cost [EUR]",
@@ -107,6 +108,9 @@ def ranking_table(result: "StudyResult") -> pd.DataFrame:
             "delay nominal [s]": _finite(h["delay_nominal_s"]), "delay worst min [s]": _finite(h["delay_worst_min_s"]),
             "delay worst max [s]": _finite(h["delay_worst_max_s"]),
             "delay spread [% of nominal]": _finite(_percent(h["delay_spread_frac"])),
+            "margin short end [% of band]": _finite(_percent(h["delay_margin_short_frac"])),
+            "margin long end [% of band]": _finite(_percent(h["delay_margin_long_frac"])),
+            "margin required [% of band]": _percent(ev.margin_required_frac),
             "yield [%]": _percent(h["yield_frac"]), "standby during [A]": h["standby_during_a"],
             "standby after [A]": h["standby_after_a"], "standby after [W]": h["standby_after_w"],
             "rails [count]": h["rails"], "parts [count]": h["parts"], "BOM lines [count]": h["bom_lines"],

@@ -114,7 +114,8 @@ def _number_formats(sheet, frame: "pd.DataFrame") -> None:
 
 
 # ---- the decision matrix ------------------------------------------------------------------------
-_DISPLAY = {"delay_spread_frac": ("% of nominal", 100.0), "yield_frac": ("%", 100.0),
+_DISPLAY = {"delay_spread_frac": ("% of nominal", 100.0), "delay_margin_frac": ("% of band", 100.0),
+            "yield_frac": ("%", 100.0),
             "standby_after_a": ("µA", 1e6), "standby_during_a": ("µA", 1e6), "rails": ("count", 1.0),
             "parts": ("count", 1.0), "cost_eur": ("EUR", 1.0), "effort": ("0 to 1", 1.0)}
 """Display unit and factor from SI of each ranking criterion (min-max normalisation ignores the factor)."""

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping
 import numpy as np
 
 from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, worst_case
+from tradeoff.units import format_quantity
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import pandas as pd
@@ -25,7 +26,7 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
 
 __all__ = [
     "Role", "Design", "BomLine", "Standby", "Finding", "Waveform", "Evaluation", "Topology",
-    "ENVIRONMENT", "NOMINAL_AMBIENT_C",
+    "margin_shortfalls", "ENVIRONMENT", "NOMINAL_AMBIENT_C",
 ]
 
 ENVIRONMENT = ("ambient_c", "supply_v")
@@ -142,6 +143,7 @@ class Evaluation:
     supply_v: float
     adapter_no_load_w: float | None
     effort: float
+    margin_required_frac: float = 0.0
     reasons: list[str] = field(default_factory=list)
 
     @property
@@ -163,6 +165,25 @@ class Evaluation:
     def feasible(self) -> bool:
         """True when the design meets the brief at every corner and breaks no design rule."""
         return not self.reasons
+
+    @property
+    def margin_short_frac(self) -> float:
+        """Room between the band's minimum and the worst-case shortest delay, as a fraction of the
+        band's width (negative below the band)."""
+        lo, hi = self.band
+        return (self.worst.min_s - lo) / (hi - lo)
+
+    @property
+    def margin_long_frac(self) -> float:
+        """Room between the worst-case longest delay and the band's maximum, as a fraction of the
+        band's width (negative above the band; -inf when some unit never times out)."""
+        lo, hi = self.band
+        return (hi - self.worst.max_s) / (hi - lo)
+
+    @property
+    def margin_frac(self) -> float:
+        """The smaller of the two margins (fraction of the band's width)."""
+        return min(self.margin_short_frac, self.margin_long_frac)
 
     @property
     def spread_frac(self) -> float:
@@ -188,6 +209,9 @@ class Evaluation:
                 "worst_min_s": _finite_or_none(self.worst.min_s),
                 "worst_max_s": _finite_or_none(self.worst.max_s),
                 "band_s": list(self.band),
+                "margin_short_frac": _finite_or_none(self.margin_short_frac),
+                "margin_long_frac": _finite_or_none(self.margin_long_frac),
+                "margin_required_frac": self.margin_required_frac,
                 "corner_method": self.worst.method,
                 "worst_min_corner": self.worst.at_min,
                 "worst_max_corner": self.worst.at_max,
@@ -226,6 +250,22 @@ class Evaluation:
 
         return pd.DataFrame([{**headline(self), "feasible": self.feasible, "reasons": "; ".join(self.reasons)}]
                             ).replace([math.inf, -math.inf], math.nan)
+
+
+def margin_shortfalls(ev: Evaluation) -> list[str]:
+    """Band edges the worst case meets but without the brief's margin (fraction of the band's width)."""
+    lo, hi = ev.band
+    need = ev.margin_required_frac
+    width = hi - lo
+    out = []
+    for name, edge, kept, side, worst in (("minimum", lo, ev.margin_short_frac, "above", ev.worst.min_s),
+                                          ("maximum", hi, ev.margin_long_frac, "below", ev.worst.max_s)):
+        if 0 <= kept < need:
+            out.append(f"the worst-case {'shortest' if name == 'minimum' else 'longest'} delay "
+                       f"{format_quantity(worst, 's')} lies only {format_quantity(kept, '%', 2)} of the band {side} "
+                       f"the band's {name}; the brief asks for a margin of {format_quantity(need, '%')} of the band "
+                       f"({format_quantity(need * width, 's')}) at each end")
+    return out
 
 
 class Topology(ABC):
@@ -352,6 +392,7 @@ class Topology(ABC):
             findings=self.checks(design), band=(self.brief.delay.min_s, self.brief.delay.max_s),
             coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
+            margin_required_frac=self.brief.analysis.margin,
         )
         ev.reasons = self._shortfalls(ev)
         return ev
@@ -368,6 +409,7 @@ class Topology(ABC):
             out.append("at some corners the unit never times out (the end condition is never reached)")
         elif ev.worst.max_s > hi:
             out.append(f"worst-case longest delay {fq(ev.worst.max_s, 's')} exceeds the band's maximum {fq(hi, 's')}")
+        out.extend(margin_shortfalls(ev))
         lim = self.brief.limits
         if lim.standby_after_a is not None and ev.standby.after_a > lim.standby_after_a:
             out.append(f"standby current after the timeout {fq(ev.standby.after_a, 'A')} exceeds the limit "
