@@ -105,7 +105,7 @@ def _json_at(data, path: str):
     return node
 
 
-_SCALE = {"[h]": 1 / 3600, "[min]": 1 / 60, "[s]": 1.0, "[%]": 100.0, "[µA]": 1e6}
+_SCALE = {"[h]": 1 / 3600, "[min]": 1 / 60, "[s]": 1.0, "[%]": 100.0, "[% of band]": 100.0, "[µA]": 1e6}
 """Header unit -> factor from the JSON's SI value (seconds, fraction, amperes) to the shown number."""
 
 

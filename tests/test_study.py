@@ -187,7 +187,7 @@ class FakeTopology:
 
 
 def brief_for(band, limits=NO_LIMITS):
-    return NS(delay=NS(min_s=band[0], max_s=band[1]), limits=limits, weights=EQUAL_WEIGHTS)
+    return NS(delay=NS(min_s=band[0], max_s=band[1]), limits=limits, weights=EQUAL_WEIGHTS, analysis=NS(margin=0.0))
 
 
 def test_verification_failures_are_cut_and_counted():

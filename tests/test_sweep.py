@@ -24,7 +24,7 @@ from tradeoff.grid_sweep import _axes_and_briefs, sweep
 from conftest import EXAMPLES, ROOT, dotted_keys, misplaced_units
 
 FAST = ["mcu", "rc-counter", "crystal-counter"]  # the quickest topologies to optimise (measured here)
-GRID = ["delay.nominal=10min,1h", "weights.effort=0,3"]
+GRID = ["delay.nominal=10min,1h", "weights.parts=0,6"]
 SAMPLES = 1000
 
 
@@ -53,12 +53,12 @@ def _run(*args):
 def test_grid_order_and_the_winner_changes(local):
     frame = local.to_frame()
     assert list(frame["delay_nominal_s"]) == [600.0, 600.0, 3600.0, 3600.0]
-    assert list(frame["weights_effort"]) == [0.0, 3.0, 0.0, 3.0]
-    assert frame["winner"].nunique() > 1  # the grid is chosen so the answer changes with the effort weight
+    assert list(frame["weights_parts"]) == [0.0, 6.0, 0.0, 6.0]
+    assert frame["winner"].nunique() > 1  # the grid is chosen so the answer changes with the parts weight
     assert (frame["winner_score"] >= frame["runner_up_score"]).all()
     assert (frame["winner_delay_worst_min_s"] >= 0.9 * frame["delay_nominal_s"] - 1e-9).all()
     data = json.loads(json.dumps(local.to_dict(), allow_nan=False))
-    assert dotted_keys(data) == [] and misplaced_units(data) == [] and set(data["points"][0]["values"]) == {"delay_nominal_s", "weights_effort"}
+    assert dotted_keys(data) == [] and misplaced_units(data) == [] and set(data["points"][0]["values"]) == {"delay_nominal_s", "weights_parts"}
 
 
 def test_jobs_2_gives_the_same_table_as_jobs_1(brief_file, tmp_path):
@@ -94,10 +94,10 @@ def test_decision_map_cells_match_the_table(local, tmp_path):
 
     drawn = plot_decision_map(local, tmp_path / "map.png")
     frame = local.to_frame()
-    # rows follow the second field (weights.effort), columns the first (delay.nominal), both ascending here
-    for r, effort in enumerate((0.0, 3.0)):
+    # rows follow the second field (weights.parts), columns the first (delay.nominal), both ascending here
+    for r, parts in enumerate((0.0, 6.0)):
         for c, nominal in enumerate((600.0, 3600.0)):
-            row = frame[(frame["delay_nominal_s"] == nominal) & (frame["weights_effort"] == effort)].iloc[0]
+            row = frame[(frame["delay_nominal_s"] == nominal) & (frame["weights_parts"] == parts)].iloc[0]
             assert drawn.winners[r, c] == row["winner"]
     assert drawn.x_text == ["10 min", "1 h"]
     pixels = matplotlib.image.imread(drawn.path)[..., :3]
