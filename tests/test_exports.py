@@ -116,6 +116,11 @@ def test_workbook_has_every_sheet_frozen_sized_and_numbers_as_numbers(mains, mai
         for column in frame.columns:
             if "[" in column and frame[column].notna().any():  # a unit in the header: a number column
                 assert pd.api.types.is_numeric_dtype(frame[column]), (name, column)
+    corners = sheets["corners"]
+    assert "key" not in corners and not corners["quantity"].str.contains("_").any()  # plain names for a reader
+    delay = corners[corners["quantity"] == "delay"]
+    assert set(delay["unit"]) == {unit} and (delay["nominal"] < 24).all()  # hours, not seconds
+    assert not corners["unit"].isin(["ohm", "degC", "1/K", "dimensionless"]).any()
 
 
 def test_si_tables_equal_the_json(mains, mains_files):
@@ -147,7 +152,7 @@ def test_si_tables_equal_the_json(mains, mains_files):
         bom = sheets["bom"][sheets["bom"]["design"] == d["name"]]
         assert list(bom["line cost [EUR]"]) == pytest.approx([b["cost_eur"] for b in d["bom"]], rel=1e-12)
         assert list(bom["refs"]) == [b["refs"] for b in d["bom"]]
-        corners = sheets["corners"][sheets["corners"]["design"] == d["name"]].set_index("quantity")
+        corners = sheets["corners"][sheets["corners"]["design"] == d["name"]].set_index("key")  # model keys, SI
         assert _same(corners.loc["delay", "at shortest delay"], delay["worst_min_s"])
         for q, value in delay["worst_min_corner"].items():
             assert _same(corners.loc[q, "at shortest delay"], value)

@@ -10,6 +10,7 @@ import functools
 import io
 import math
 import os
+import re
 from pathlib import Path
 
 import pytest
@@ -18,7 +19,8 @@ from rich.console import Console
 
 import tradeoff
 from tradeoff.cli import cli
-from tradeoff.report.labels import margin_frac, margin_text, plain_label, short_reason, span_in, split_reason, time_unit
+from tradeoff.plain import plain_label
+from tradeoff.report.labels import margin_frac, margin_text, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.study_text import comparison_rows, render_study
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -121,8 +123,24 @@ def test_delays_in_the_briefs_unit():
 
 def test_plain_label_words():
     assert [plain_label(n) for n in ("ambient_c", "supply_v", "leak_level", "rc_trim_position", "r_timing_part",
-                                     "coil_ohm", "release_frac")] == [
-        "ambient", "supply", "leakage level", "RC trim position", "timing resistor part class", "coil", "release"]
+                                     "coil_ohm", "release_frac", "c_timing_tempco", "c_timing_leakage", "hfe_q1",
+                                     "vbe_q2", "r_q1_collector", "r_divider_top", "crystal_turnover_c")] == [
+        "ambient", "supply", "leakage level", "RC trim position", "timing resistor part class", "coil resistance",
+        "relay release point", "timing capacitor tempco", "timing capacitor leakage", "hFE of Q1", "VBE of Q2",
+        "Q1 collector resistor", "divider top resistor", "crystal turnover"]
+
+
+_INTERNAL_NAME = re.compile(r"\b[a-z]+_[a-z0-9_]+\b")
+"""A name with an underscore (`ambient_c`, `hfe_q1`, `r_hold_part`): the model's key, not a reader's word."""
+
+
+@pytest.mark.parametrize("design", sorted((ROOT / "examples" / "designs").glob("*.yaml")), ids=lambda p: p.stem)
+def test_analyze_report_speaks_plainly(design):
+    """`tradeoff analyze` names values, part classes, options and corner quantities in plain words."""
+    out = CliRunner().invoke(cli, ["analyze", str(design), "--samples", "200"], env={"COLUMNS": "100"}).output
+    head = out.split("Bill of materials")[0]
+    assert "values: " in head and "worst-case minimum" in head
+    assert _INTERNAL_NAME.findall(head) == []
 
 
 def test_short_reasons_of_the_optimiser_sentences():

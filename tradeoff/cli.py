@@ -281,8 +281,7 @@ def analyze_command(design, output_format, samples, seed, catalogs):
         return
     from tradeoff.report.terminal import render_evaluation, report_console
 
-    render_evaluation(result.evaluation, result.brief, report_console(),
-                      quantities=result.topology.quantities(result.design), option_units=result.topology.option_units)
+    render_evaluation(result.evaluation, result.brief, report_console(), model=result.topology)
 
 
 @cli.command("netlist")

@@ -41,6 +41,7 @@ from typing import TYPE_CHECKING, Any
 
 from tradeoff.brief import Brief, load_brief
 from tradeoff.criteria import headline
+from tradeoff.plain import schematic_values
 from tradeoff.errors import BriefError, InputError, Problem, UnitParseError
 from tradeoff.units import format_quantity, parse_fraction, parse_quantity
 
@@ -305,9 +306,7 @@ class _Task:
 
 def _summary(name: str, score: float, ev, outcome) -> dict[str, Any]:
     """One ranked design: name, score, values and its headline figures (see tradeoff.criteria)."""
-    from tradeoff.trade_study import describe_values
-
-    return {"design": name, "score": float(score), "values": describe_values(outcome.model, ev.design),
+    return {"design": name, "score": float(score), "values": schematic_values(outcome.model, ev.design),
             **headline(ev)}
 
 

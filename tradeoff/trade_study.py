@@ -21,6 +21,7 @@ from tradeoff.catalog import Catalog, load_catalog
 from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
+from tradeoff.plain import part_classes, schematic_values
 from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
 from tradeoff.topologies.base import margin_shortfalls
@@ -34,7 +35,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Evaluation, Topology
 
 __all__ = ["VerifiedDesign", "TopologyOutcome", "StudyResult", "study", "verified_designs", "resolve_topologies",
-           "describe_values", "MAX_ROUNDS"]
+           "MAX_ROUNDS"]
 
 MAX_ROUNDS = 20
 """Solves tried per kept design before a topology's verification gives up."""
@@ -142,7 +143,8 @@ class StudyResult:
                 reasons=[r["reason"]], shortfalls=ev.reasons, criteria=r["criteria"],
                 bom=[{"refs": b.refs, "part": b.part, "value": b.value, "quantity": b.quantity,
                       "unit_cost_eur": b.unit_cost, "cost_eur": b.cost, "note": b.note} for b in ev.bom],
-                values_text=describe_values(outcome.model, ev.design),
+                values_text=schematic_values(outcome.model, ev.design),
+                part_classes=dict(part_classes(outcome.model, ev.design)),
             )
             designs.append(entry)
         return {
@@ -167,25 +169,10 @@ class StudyResult:
         for name, ev, outcome in self.designs():
             row = self.ranking.table.loc[name]
             rows.append({"design": name, "rank": int(row["rank"]), **headline(ev),
-                         "values": describe_values(outcome.model, ev.design), "score": float(row["score"]),
+                         "values": schematic_values(outcome.model, ev.design), "score": float(row["score"]),
                          "pareto": bool(row["pareto"])})
         return pd.DataFrame(rows)
 
-
-def describe_values(topology: "Topology | None", design) -> str:
-    """The design's values and options in one line, each value with its unit."""
-    kinds = {} if topology is None else {r.name: r.kind for r in topology.roles()}
-    parts = []
-    for name, value in design.values.items():
-        unit = "Ω" if kinds.get(name, "resistor" if name.startswith("r_") else "capacitor") == "resistor" else "F"
-        text = format_quantity(value, "ohm" if unit == "Ω" else "F")
-        if name in design.pairs and design.pairs[name][1]:
-            a, b = design.pairs[name]
-            text += f" ({format_quantity(a, 'ohm')} + {format_quantity(b, 'ohm')})"
-        parts.append(f"{name} {text}")
-    for name, value in design.options.items():
-        parts.append(f"{name} {value}")
-    return ", ".join(parts)
 
 
 def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | None = None) -> list[str]:
@@ -231,7 +218,7 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
         except InfeasibleError:
             raise exc from None
         why = (f"no design keeps the brief's margin of {format_quantity(margin, '%')} of the band at both ends; "
-               f"the best design meeting the band without it ({describe_values(topology, near.design)}) keeps "
+               f"the best design meeting the band without it ({schematic_values(topology, near.design)}) keeps "
                f"{format_quantity(near.margin_short_frac, '%', 2)} at the short end and "
                f"{format_quantity(near.margin_long_frac, '%', 2)} at the long end")
         raise InfeasibleError(str(exc), {topology.id: [why, *exc.reasons.get(topology.id, [])]}) from None

@@ -31,7 +31,8 @@ import re
 
 from tradeoff.errors import UnitParseError
 
-__all__ = ["UnitParseError", "LEADING_NUMBER_RE", "dimension", "parse_quantity", "parse_fraction", "format_quantity"]
+__all__ = ["UnitParseError", "LEADING_NUMBER_RE", "dimension", "parse_quantity", "parse_fraction", "format_quantity",
+           "engineering_prefix"]
 
 _UNSIGNED = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _NUMBER = rf"[+-]?{_UNSIGNED}"
@@ -260,11 +261,24 @@ def parse_fraction(text: str | int | float) -> float:
     return value
 
 
+def _exponent(value: float) -> int:
+    """Power of ten (a multiple of 3, femto to tera) of the engineering prefix for a nonzero `value`."""
+    return max(-15, min(12, 3 * math.floor(math.log10(abs(value)) / 3)))
+
+
+def engineering_prefix(value: float) -> tuple[str, float]:
+    """The engineering prefix for showing `value` and its factor: 4.7e-5 -> ('µ', 1e-6); 0 -> ('', 1)."""
+    if value == 0 or not math.isfinite(value):
+        return "", 1.0
+    exponent = _exponent(value)
+    return _ENGINEERING_PREFIXES[exponent], 10.0 ** exponent
+
+
 def _engineering(value: float, symbol: str, digits: int) -> str:
     """`value` with an engineering prefix on `symbol`, `digits` significant digits."""
     if value == 0:
         return f"0 {symbol}"
-    exponent = max(-15, min(12, 3 * math.floor(math.log10(abs(value)) / 3)))
+    exponent = _exponent(value)
     mantissa = float(f"{value / 10 ** exponent:.{digits}g}")
     if abs(mantissa) >= 1000 and exponent < 12:
         exponent += 3

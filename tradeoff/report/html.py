@@ -19,8 +19,8 @@ import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from tradeoff.report.labels import (in_unit, part_classes, schematic_values, short_reason, span_in,
-                                    split_reason, time_unit)
+from tradeoff.plain import part_classes, schematic_values
+from tradeoff.report.labels import in_unit, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.tables import design_stem
 from tradeoff.units import format_quantity as fq
 

@@ -1,9 +1,9 @@
-"""Plain words for the reports: quantity and option names as a reader says them, delays in the
-brief's own time unit, the margin of a worst case inside the band, and the short binding reason
-of an infeasible topology.
+"""Plain words for the reports: delays in the brief's own time unit, the margin of a worst case
+inside the band, and the short binding reason of an infeasible topology (names and values in
+plain words come from tradeoff.plain).
 
 Shared by the terminal report, the HTML review page and the workbook, so every output uses the
-same wording. Internal names (`ambient_c`, `r_timing_part`) never reach a reader through here.
+same wording.
 """
 from __future__ import annotations
 
@@ -11,37 +11,8 @@ import math
 import re
 from dataclasses import dataclass
 
-from tradeoff.units import format_quantity as fq
-
-__all__ = ["plain_label", "time_unit", "in_unit", "delay_in", "span_in", "margin_frac", "margin_text", "schematic_values",
-           "part_classes", "RuleCount", "ReasonParts", "split_reason", "short_reason"]
-
-_LABELS = {
-    "ambient_c": "ambient", "supply_v": "supply", "leak_level": "leakage level",
-    "rc_trim_position": "RC trim position", "hfe": "hFE", "vbe": "VBE", "vto": "threshold voltage",
-    "r_timing": "timing resistor", "c_timing": "timing capacitor", "r_hold": "hold resistor",
-    "c_hold": "hold capacitor", "mcu": "microcontroller", "link_stage": "link stage",
-}
-"""Names whose plain form is not just the name without its unit suffix and underscores."""
-
-_UNIT_SUFFIX = re.compile(r"_(ohm|hz|s|v|a|f|c|w|frac|ppm|part)$")
-
-
-def plain_label(name: str) -> str:
-    """A quantity, role or option name as a reader says it: 'ambient_c' -> 'ambient',
-    'r_timing_part' -> 'timing resistor part class', 'coil_r_frac' -> 'coil r'."""
-    if name in _LABELS:
-        return _LABELS[name]
-    if name.endswith("_part"):
-        return f"{plain_label(name[:-5])} part class"
-    stem = _UNIT_SUFFIX.sub("", name)
-    if stem in _LABELS:
-        return _LABELS[stem]
-    if re.match(r"^[rc]_", stem):
-        kind = "resistor" if stem[0] == "r" else "capacitor"
-        return f"{stem[2:].replace('_', ' ')} {kind}"
-    return stem.replace("_", " ")
-
+__all__ = ["time_unit", "in_unit", "delay_in", "span_in", "margin_frac", "margin_text", "RuleCount", "ReasonParts",
+           "split_reason", "short_reason"]
 
 _TIME_UNITS = (("h", 3600.0), ("min", 60.0), ("s", 1.0))
 
@@ -85,43 +56,6 @@ def margin_text(worst_min_s: float, worst_max_s: float, band: tuple[float, float
     """Both margins in % of the band, short end first: '8.3 / 24' (two digits below 10 %)."""
     return " / ".join("never" if not math.isfinite(m) else f"{100 * m:.2g}" if abs(m) < 0.1 else f"{100 * m:.0f}"
                       for m in margin_frac(worst_min_s, worst_max_s, band))
-
-
-def _option_text(value: object, unit: str | None) -> str:
-    return fq(value, unit) if unit and isinstance(value, (int, float)) else str(value)
-
-
-def schematic_values(model, design) -> str:
-    """What a person writes on the schematic: component values with units, then the plain choices
-    (stage, ticks), no part class ids and no empty options: '360 kΩ, 2.2 µF, stage 13'."""
-    kinds = {r.name: r.kind for r in model.roles()} if model is not None else {}
-    parts = []
-    for name, value in design.values.items():
-        unit = "ohm" if kinds.get(name, "resistor" if name.startswith("r_") else "capacitor") == "resistor" else "F"
-        text = fq(value, unit)
-        pair = design.pairs.get(name)
-        if pair and pair[1]:
-            text += f" ({fq(pair[0], unit)} + {fq(pair[1], unit)})"
-        parts.append(text)
-    units = getattr(model, "option_units", {}) or {}
-    for name, value in design.options.items():
-        if _is_part_choice(model, name, value) or value in ("", None):
-            continue
-        parts.append(f"{plain_label(name)} {_option_text(value, units.get(name))}")
-    return ", ".join(parts) or "no values to choose"
-
-
-def _is_part_choice(model, name: str, value: object) -> bool:
-    """True when a design option names a catalog part class (declared so, or its value is a part id)."""
-    catalog = getattr(model, "catalog", None)
-    return (name in (getattr(model, "option_parts", {}) or {}) or name.endswith("_part")
-            or (isinstance(value, str) and catalog is not None and value in catalog))
-
-
-def part_classes(model, design) -> list[tuple[str, str]]:
-    """(plain option name, part class id) of the design's part class choices, in design order."""
-    return [(plain_label(name.removesuffix("_part")), str(value)) for name, value in design.options.items()
-            if value not in ("", None) and _is_part_choice(model, name, value)]
 
 
 @dataclass(frozen=True)

@@ -15,8 +15,8 @@ from typing import TYPE_CHECKING
 
 from rich.console import Console
 
-from tradeoff.report.labels import (in_unit, margin_text, part_classes, schematic_values, short_reason, span_in,
-                                    split_reason, time_unit)
+from tradeoff.plain import part_classes, schematic_values
+from tradeoff.report.labels import in_unit, margin_text, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.terminal import delay_text, render_bom, render_rows
 from tradeoff.units import format_quantity as fq
 

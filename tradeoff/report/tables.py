@@ -28,7 +28,7 @@ import pandas as pd
 
 from tradeoff.cautions import HAZARDOUS_VOLTAGE_V
 from tradeoff.criteria import headline
-from tradeoff.trade_study import describe_values
+from tradeoff.plain import part_classes, plain_label, schematic_values
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -36,7 +36,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "ranking_table", "bom_table", "corners_table", "monte_carlo_table", "infeasible_table", "brief_table",
-    "cautions_table", "TABLES", "study_tables", "csv_files", "design_stem", "NEVER_ENDS",
+    "cautions_table", "TABLES", "study_tables", "csv_files", "design_stem", "NEVER_ENDS", "CORNER_VALUES",
 ]
 
 NEVER_ENDS = "never ends"
@@ -64,15 +64,17 @@ def _frame(rows: list[dict], columns: list[str]) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=columns)
 
 
-RANKING_COLUMNS = ["rank", "design", "topology", "values", "delay nominal [s]", "delay worst min [s]",
+RANKING_COLUMNS = ["rank", "design", "topology", "values", "part classes", "delay nominal [s]", "delay worst min [s]",
                    "delay worst max [s]", "delay spread [% of nominal]", "margin short end [% of band]",
                    "margin long end [% of band]", "margin required [% of band]", "yield [%]", "standby during [A]",
                    "standby after [A]", "standby after [W]", "rails [count]", "parts [count]", "BOM lines [count]",
                    "cost [EUR]", "effort [0 to 1]", "score [0 to 1]", "Pareto front", "reason", "note"]
 BOM_COLUMNS = ["design", "refs", "part class", "value", "quantity [count]", "unit cost [EUR]", "line cost [EUR]",
                "note"]
-CORNERS_COLUMNS = ["design", "quantity", "unit", "nominal", "at shortest delay", "at longest delay",
+CORNERS_COLUMNS = ["design", "quantity", "key", "unit", "nominal", "at shortest delay", "at longest delay",
                    "distribution", "note"]
+CORNER_VALUES = ("nominal", "at shortest delay", "at longest delay")
+"""The corners table's value columns, in each row's SI unit (its `unit` column)."""
 INFEASIBLE_COLUMNS = ["topology", "description", "reason no. [count]", "reason"]
 BRIEF_COLUMNS = ["key", "value", "text", "unit", "origin", "note"]
 CAUTIONS_COLUMNS = ["no. [count]", "caution"]
@@ -104,7 +106,8 @@ def ranking_table(result: "StudyResult") -> pd.DataFrame:
         h = headline(ev)
         rows.append({
             "rank": int(row["rank"]), "design": name, "topology": h["topology"],
-            "values": describe_values(outcome.model, ev.design),
+            "values": schematic_values(outcome.model, ev.design),
+            "part classes": "; ".join(f"{role}: {part}" for role, part in part_classes(outcome.model, ev.design)),
             "delay nominal [s]": _finite(h["delay_nominal_s"]), "delay worst min [s]": _finite(h["delay_worst_min_s"]),
             "delay worst max [s]": _finite(h["delay_worst_max_s"]),
             "delay spread [% of nominal]": _finite(_percent(h["delay_spread_frac"])),
@@ -133,11 +136,12 @@ def bom_table(result: "StudyResult") -> pd.DataFrame:
 
 def corners_table(result: "StudyResult") -> pd.DataFrame:
     """For each feasible design: the delay, then every quantity at nominal and at the corners where
-    the worst-case shortest and longest delays occur (one row per quantity, with its unit)."""
+    the worst-case shortest and longest delays occur (one row per quantity: its plain name, its key
+    in the model for scripts, and its SI unit)."""
     rows = []
     for name, ev, outcome in result.designs():
         rows.append({
-            "design": name, "quantity": "delay", "unit": "s", "nominal": _finite(ev.nominal_s),
+            "design": name, "quantity": "delay", "key": "delay", "unit": "s", "nominal": _finite(ev.nominal_s),
             "at shortest delay": _finite(ev.worst.min_s), "at longest delay": _finite(ev.worst.max_s),
             "distribution": "", "note": "; ".join(filter(None, (
                 ev.worst.method, _never_note(ev.nominal_s, ev.worst.min_s, ev.worst.max_s)))),
@@ -145,7 +149,8 @@ def corners_table(result: "StudyResult") -> pd.DataFrame:
         quantities = outcome.model.quantities(ev.design)
         for q_name, q in quantities.items():
             rows.append({
-                "design": name, "quantity": q_name, "unit": q.unit or "dimensionless", "nominal": q.nominal,
+                "design": name, "quantity": plain_label(q_name), "key": q_name, "unit": q.unit or "dimensionless",
+                "nominal": q.nominal,
                 "at shortest delay": ev.worst.at_min.get(q_name, q.nominal),
                 "at longest delay": ev.worst.at_max.get(q_name, q.nominal),
                 "distribution": q.dist if q.spreads else "fixed", "note": q.note,

@@ -18,19 +18,21 @@ from rich.text import Text
 
 from tradeoff.api import rating_findings
 from tradeoff.cautions import cautions
+from tradeoff.plain import option_texts, part_classes, plain_label
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.analysis import Uncertain
     from tradeoff.brief import Brief
-    from tradeoff.topologies.base import BomLine, Evaluation
+    from tradeoff.topologies.base import BomLine, Evaluation, Topology
 
 __all__ = ["render_evaluation", "render_bom", "render_rows", "delay_text", "quantity_text", "report_console",
            "TABLE_BOX", "PIPED_WIDTH"]
 
 _SUFFIX_UNITS = (("_ohm", "ohm"), ("_hz", "Hz"), ("_s", "s"), ("_v", "V"), ("_a", "A"), ("_f", "F"), ("_c", "degC"),
-                 ("_w", "W"))
-"""Units implied by the name suffixes of CONTRIBUTING.md, for quantities whose unit is not given."""
+                 ("_w", "W"), ("_frac", "%"))
+"""Units implied by the name suffixes of CONTRIBUTING.md, for quantities whose unit is not given
+(a fraction shows in %)."""
 
 
 PIPED_WIDTH = 100
@@ -66,7 +68,7 @@ def delay_text(seconds: float, nominal: float | None = None) -> str:
 
 def quantity_text(name: str, value: float, unit: str | None = None) -> str:
     """A spread quantity's value with its unit (given, or implied by the name's suffix; plain if dimensionless)."""
-    if unit is None:
+    if not unit:
         unit = next((u for suffix, u in _SUFFIX_UNITS if name.endswith(suffix)), "")
     return fq(value, unit) if math.isfinite(value) else "infinite"
 
@@ -77,13 +79,13 @@ def _corner_text(corner: Mapping[str, float], quantities: "Mapping[str, Uncertai
     for name, value in corner.items():
         q = quantities.get(name) if quantities else None
         if q is None:
-            parts.append(f"{name} {quantity_text(name, value)}")
+            parts.append(f"{plain_label(name)} {quantity_text(name, value)}")
             continue
         if math.isclose(value, q.nominal, rel_tol=1e-12, abs_tol=1e-300):
             continue
         where = "low" if math.isclose(value, q.lo, rel_tol=1e-12) else "high" if math.isclose(
             value, q.hi, rel_tol=1e-12) else "interior"
-        parts.append(f"{name} {quantity_text(name, value, q.unit)} ({where})")
+        parts.append(f"{plain_label(name)} {quantity_text(name, value, q.unit)} ({where})")
     return ", ".join(parts) or "all nominal"
 
 
@@ -92,11 +94,6 @@ def _role_unit(name: str, quantities: "Mapping[str, Uncertain] | None") -> str:
     if quantities and name in quantities and quantities[name].unit:
         return quantities[name].unit
     return "ohm" if name.startswith("r_") else "F"
-
-
-def _options_text(options: Mapping[str, object], units: Mapping[str, str | None]) -> str:
-    return ", ".join(f"{k} {fq(v, units[k]) if units.get(k) and isinstance(v, float) else v}"
-                     for k, v in options.items()) or "none (topology defaults)"
 
 
 def _wrapped(text: str, width: int, indent: int) -> str:
@@ -215,21 +212,26 @@ def _findings_table(ev: "Evaluation") -> Table | None:
     return table
 
 
-def render_evaluation(ev: "Evaluation", brief: "Brief", console: Console,
-                      quantities: "Mapping[str, Uncertain] | None" = None,
-                      option_units: Mapping[str, str | None] | None = None) -> None:
-    """Everything `tradeoff analyze` says about one design: values, delay (nominal, worst case with its
-    corners, Monte Carlo, yield), supply current and power, rails, parts, cost, ratings, BOM, findings,
-    the verdict against the brief and the mains cautions.
+def render_evaluation(ev: "Evaluation", brief: "Brief", console: Console, model: "Topology | None" = None) -> None:
+    """Everything `tradeoff analyze` says about one design: values, part classes, delay (nominal,
+    worst case with its corners, Monte Carlo, yield), supply current and power, rails, parts, cost,
+    ratings, BOM, findings, the verdict against the brief and the mains cautions.
 
-    quantities: the design's spread quantities (Topology.quantities), to name each corner's units and
-    limits; option_units: the topology's option units, to show quantity options with their unit.
+    model: the design's topology, to name each corner's units and limits, show quantity options
+    with their unit and tell part class choices from other options (names in plain words).
     """
     design = ev.design
+    quantities = model.quantities(design) if model is not None else None
     console.print(Text(f"{ev.topology}: {brief.title}", style="bold"))
-    roles = ", ".join(f"{k} {quantity_text(k, v, _role_unit(k, quantities))}" for k, v in design.values.items())
+    roles = ", ".join(f"{plain_label(k)} {quantity_text(k, v, _role_unit(k, quantities))}"
+                      for k, v in design.values.items())
     console.print(f"values: {roles or 'none (no value roles)'}", highlight=False)
-    console.print(f"options: {_options_text(design.options, option_units or {})}", highlight=False)
+    classes = part_classes(model, design)
+    if classes:
+        console.print("part classes: " + "; ".join(f"{role}: {part}" for role, part in classes), highlight=False)
+    choices = option_texts(model, design)
+    if choices:
+        console.print(f"options: {', '.join(choices)}", highlight=False)
     if design.overrides:
         console.print("overrides: " + "; ".join(f"{part}: " + ", ".join(
             f"{k} {v:g} (SI)" if isinstance(v, float) else f"{k} {v}" for k, v in params.items())

@@ -87,13 +87,47 @@ _FORMATS = {"h": "0.000", "min": "0.00", "s": "0.000", "µA": "0.000", "µW": "0
 """Number format of a display unit (a few digits; the cell keeps the full number)."""
 
 
+_ROW_UNITS = {"1/K": ("ppm/K", 1e6), "degC": ("°C", 1.0), "dimensionless": ("—", 1.0),
+              "fraction of VDD": ("% of VDD", 100.0)}
+"""Display unit and factor from SI of a per-row unit that takes no engineering prefix."""
+
+_PREFIXED = {"ohm": "Ω", "F": "F", "A": "A", "W": "W", "V": "V", "Hz": "Hz"}
+"""Per-row SI units shown with an engineering prefix chosen by the row's largest value."""
+
+
+def _row_unit(unit: str, values: "list[float]", delay_unit: tuple[str, float]) -> tuple[str, float]:
+    """Display unit of one row of a per-row-unit table, and the factor from its SI `unit`."""
+    if unit == "s":
+        return delay_unit[0], 1 / delay_unit[1]
+    if unit in _PREFIXED:
+        from tradeoff.units import engineering_prefix
+
+        prefix, scale = engineering_prefix(max((abs(v) for v in values if v == v), default=0.0))
+        return prefix + _PREFIXED[unit], 1 / scale
+    return _ROW_UNITS.get(unit, (unit, 1.0))
+
+
+def _rows_in_display_units(frame: "pd.DataFrame", delay_unit: tuple[str, float]) -> "pd.DataFrame":
+    """The corners table for a reader: each row's values in its display unit (µF, kΩ, ppm/K, the
+    brief's time unit), without the model's keys (the CSV file keeps both, in SI)."""
+    from tradeoff.report.tables import CORNER_VALUES
+
+    frame = frame.drop(columns="key").astype({c: float for c in CORNER_VALUES})
+    for index, row in frame.iterrows():
+        unit, factor = _row_unit(row["unit"], [row[c] for c in CORNER_VALUES], delay_unit)
+        frame.loc[index, "unit"] = unit
+        for column in CORNER_VALUES:
+            frame.loc[index, column] = row[column] * factor
+    return frame
+
+
 def display_tables(tables: "dict[str, pd.DataFrame]", delay_unit: tuple[str, float]) -> "dict[str, pd.DataFrame]":
     """The review tables with SI columns in display units: '[s]' in `delay_unit` (name, seconds),
-    '[A]' in µA, '[W]' in µW; other columns as they are."""
+    '[A]' in µA, '[W]' in µW, the corners table row by row; other columns as they are."""
     scales = {"[s]": (f"[{delay_unit[0]}]", 1 / delay_unit[1]), "[A]": ("[µA]", 1e6), "[W]": ("[µW]", 1e6)}
     out = {}
     for name, frame in tables.items():
-        frame = frame.copy()
+        frame = _rows_in_display_units(frame, delay_unit) if name == "corners" else frame.copy()
         renames = {}
         for column in frame.columns:
             for suffix, (unit, factor) in scales.items():

@@ -1,0 +1,94 @@
+"""A design and its quantities in plain words: names as a reader says them ('ambient_c' ->
+'ambient') and the values a person writes on a schematic ('360 kΩ, 2.2 µF, stage 13').
+
+Below the reports, so the study's JSON, the sweep's records and every report share one wording;
+internal names (`ambient_c`, `r_timing_part`) and part class ids never reach a reader's values
+text through here.
+"""
+from __future__ import annotations
+
+import re
+
+from tradeoff.units import format_quantity as fq
+
+__all__ = ["plain_label", "schematic_values", "option_texts", "part_classes"]
+
+_LABELS = {
+    "ambient_c": "ambient", "supply_v": "supply", "leak_level": "leakage level",
+    "rc_trim_position": "RC trim position", "hfe": "hFE", "vbe": "VBE", "vbe_on": "VBE (on)",
+    "vto": "threshold voltage", "vth": "gate threshold", "vt_frac": "inverter threshold", "k": "oscillator constant k",
+    "r_timing": "timing resistor", "c_timing": "timing capacitor", "r_hold": "hold resistor",
+    "c_hold": "hold capacitor", "r_hyst": "hysteresis resistor", "mcu": "microcontroller", "link_stage": "link stage",
+    "coil_ohm": "coil resistance", "release_frac": "relay release point", "rail_v": "logic rail",
+    "drain_v": "drain voltage", "offset_v": "comparator offset", "bias_a": "input bias", "v_ref": "reference voltage",
+    "threshold_a": "threshold pin current", "gate_leak": "gate leakage", "timer_error": "timer timing error",
+    "timer_supply_coef": "timer supply coefficient", "crystal_aging": "crystal ageing",
+}
+"""Names whose plain form is not just the name without its unit suffix and underscores."""
+
+_UNIT_SUFFIX = re.compile(r"_(ohm|hz|s|v|a|f|c|w|frac|ppm|part)$")
+_QUALIFIER = re.compile(r"^(?P<base>.+)_(?P<what>tempco|leakage|part)$")
+_OF_TRANSISTOR = re.compile(r"^(?P<what>hfe|vbe)_(?P<q>q\d+)$")
+_TRANSISTOR_RESISTOR = re.compile(r"^r_(?P<q>q\d+)_(?P<what>.+)$")
+
+
+def plain_label(name: str) -> str:
+    """A quantity, role or option name as a reader says it: 'ambient_c' -> 'ambient',
+    'r_timing_part' -> 'timing resistor part class', 'c_timing_tempco' -> 'timing capacitor
+    tempco', 'hfe_q1' -> 'hFE of Q1', 'r_q1_collector' -> 'Q1 collector resistor'."""
+    if name in _LABELS:
+        return _LABELS[name]
+    if m := _QUALIFIER.match(name):
+        return f"{plain_label(m['base'])} {'part class' if m['what'] == 'part' else m['what']}"
+    if m := _OF_TRANSISTOR.match(name):
+        return f"{_LABELS[m['what']]} of {m['q'].upper()}"
+    if m := _TRANSISTOR_RESISTOR.match(name):
+        return f"{m['q'].upper()} {m['what'].replace('_', ' ')} resistor"
+    stem = _UNIT_SUFFIX.sub("", name)
+    if stem in _LABELS:
+        return _LABELS[stem]
+    if re.match(r"^[rc]_", stem):
+        kind = "resistor" if stem[0] == "r" else "capacitor"
+        return f"{stem[2:].replace('_', ' ')} {kind}"
+    return stem.replace("_", " ")
+
+
+def _option_text(value: object, unit: str | None) -> str:
+    return fq(value, unit) if unit and isinstance(value, (int, float)) else str(value)
+
+
+def schematic_values(model, design) -> str:
+    """What a person writes on the schematic: component values with units, then the plain choices
+    (stage, ticks), no part class ids and no empty options: '360 kΩ, 2.2 µF, stage 13'."""
+    kinds = {r.name: r.kind for r in model.roles()} if model is not None else {}
+    parts = []
+    for name, value in design.values.items():
+        unit = "ohm" if kinds.get(name, "resistor" if name.startswith("r_") else "capacitor") == "resistor" else "F"
+        text = fq(value, unit)
+        pair = design.pairs.get(name)
+        if pair and pair[1]:
+            text += f" ({fq(pair[0], unit)} + {fq(pair[1], unit)})"
+        parts.append(text)
+    parts += option_texts(model, design)
+    return ", ".join(parts) or "no values to choose"
+
+
+def option_texts(model, design) -> list[str]:
+    """The design's options other than part class choices, each in plain words with its unit
+    ('stage 13', 'oscillator internal-rc'); empty options left out."""
+    units = getattr(model, "option_units", {}) or {}
+    return [f"{plain_label(name)} {_option_text(value, units.get(name))}" for name, value in design.options.items()
+            if value not in ("", None) and not _is_part_choice(model, name, value)]
+
+
+def _is_part_choice(model, name: str, value: object) -> bool:
+    """True when a design option names a catalog part class (declared so, or its value is a part id)."""
+    catalog = getattr(model, "catalog", None)
+    return (name in (getattr(model, "option_parts", {}) or {}) or name.endswith("_part")
+            or (isinstance(value, str) and catalog is not None and value in catalog))
+
+
+def part_classes(model, design) -> list[tuple[str, str]]:
+    """(plain option name, part class id) of the design's part class choices, in design order."""
+    return [(plain_label(name.removesuffix("_part")), str(value)) for name, value in design.options.items()
+            if value not in ("", None) and _is_part_choice(model, name, value)]
