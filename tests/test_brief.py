@@ -111,7 +111,8 @@ def test_to_dict_is_si_with_unit_suffixed_keys():
     assert data["load"]["coil_resistance_ohm"] == 400.0
     assert data["supply"]["no_load_power_w"] == 1.0
     assert data["limits"]["standby_after_a"] == pytest.approx(100e-6)
-    assert data["analysis"]["coverage"] == 0.99
+    assert data["analysis"]["coverage_frac"] == 0.99 and data["analysis"]["margin_frac"] == pytest.approx(0.05)
+    assert "cost_eur" in data["limits"] and "cost" not in data["limits"]  # unit suffix on every figure
     assert yaml.safe_load(yaml.safe_dump(data)) == data  # plain data only
 
 

@@ -165,7 +165,7 @@ def test_si_tables_equal_the_json(mains, mains_files):
     brief = sheets["brief"].set_index("key")
     assert _same(brief.loc["delay.nominal", "value"], data["brief"]["delay"]["nominal_s"])
     assert _same(brief.loc["supply.min", "value"], data["brief"]["supply"]["min_v"])
-    assert brief.loc["analysis.coverage", "value"] == pytest.approx(100 * data["brief"]["analysis"]["coverage"])
+    assert brief.loc["analysis.coverage", "value"] == pytest.approx(100 * data["brief"]["analysis"]["coverage_frac"])
     assert brief.loc["delay.nominal", "unit"] == "s" and brief.loc["delay.nominal", "origin"] == "given"
     assert brief.loc["load.relay.must_release", "value"] == pytest.approx(10.0)  # "10 %" in the brief
 

@@ -51,7 +51,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 import yaml
-from pydantic import BaseModel, ConfigDict, PrivateAttr, ValidationError
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 
 from tradeoff import inputfile, yamlpos
 from tradeoff.errors import BriefError, Problem, UnitParseError
@@ -133,7 +133,7 @@ class Limits(_Frozen):
     standby_after_a: float | None
     rails: int | None
     parts: int | None
-    cost: float | None
+    cost: float | None = Field(serialization_alias="cost_eur")
 
 
 class Weights(_Frozen):
@@ -163,8 +163,8 @@ class Analysis(_Frozen):
 
     samples: int
     seed: int
-    coverage: float
-    margin: float
+    coverage: float = Field(serialization_alias="coverage_frac")
+    margin: float = Field(serialization_alias="margin_frac")
 
 
 @dataclass(frozen=True)
@@ -224,8 +224,9 @@ class Brief(_Frozen):
         return [v.key for v in self._values if v.origin == "default"]
 
     def to_dict(self) -> dict[str, Any]:
-        """Normalised brief: SI values under unit-suffixed keys, plain lists, path as text."""
-        return self.model_dump(mode="json")
+        """Normalised brief: SI values under unit-suffixed keys (`cost_eur`, `coverage_frac`), plain
+        lists, path as text."""
+        return self.model_dump(mode="json", by_alias=True)
 
     def check_topologies(self, known: Sequence[str]) -> None:
         """Raise BriefError, at each name's line and column in the brief, for a listed topology not in `known`
