@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Callable
 
 from tradeoff.devices.mosfet import on_state_drop_v
+from tradeoff.devices.relay import derated_power_w
 from tradeoff.errors import CatalogError
 from tradeoff.topologies.base import BomLine, Finding
 from tradeoff.units import format_quantity as fq
@@ -27,7 +28,8 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = [
     "NO_REGULATOR", "PREFERRED_RAIL_V", "LogicRail", "rail_options", "logic_rail", "rail_bom", "cheapest",
     "resistor_class", "output_driver_bom", "DIODE_REVERSE_FACTOR", "GATE_PULLDOWN_OHM",
-    "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet", "regulator_bom", "p_channel",
+    "GATE_RESISTOR_OHM", "output_driver_checks", "load_current_max", "output_mosfet", "on_state", "regulator_bom",
+    "p_channel",
 ]
 
 NO_REGULATOR = "none"
@@ -193,13 +195,33 @@ def p_channel(part: "Part") -> bool:
 
 
 def output_mosfet(brief: "Brief", catalog: "Catalog", rail: LogicRail) -> "Part":
-    """The cheapest logic-level N-MOSFET class rated for the load that the rail's minimum turns on."""
+    """The cheapest logic-level N-MOSFET class rated for the load that the rail's minimum turns on, whose gate
+    takes the rail's maximum, and whose on-state loss at the weakest corner stays within its dissipation
+    rating derated linearly from 25 degC to Tj max at the brief's hottest ambient (datasheets' derating curve)."""
+    current = load_current_max(brief)
     return cheapest(catalog, "mosfet",
                     lambda p: not p_channel(p) and p.value("vds_max", "V") >= brief.supply.max_v
-                    and p.value("id_max", "A") >= load_current_max(brief)
-                    and p.value("vth_max", "V") < rail.min_v,
-                    f"an N-MOSFET for {fq(load_current_max(brief), 'A')} at {fq(brief.supply.max_v, 'V')} "
-                    f"whose threshold a {fq(rail.min_v, 'V')} gate drive exceeds")
+                    and p.value("id_max", "A") >= current
+                    and p.value("vth_max", "V") < rail.min_v and p.value("vgs_max", "V") >= rail.max_v
+                    and on_state(p, brief, rail)[1] <= derated_power_w(p.value("p_tot", "W"), p.value("tj_max", "degC"),
+                                                                        brief.ambient.max_c),
+                    f"an N-MOSFET for {fq(current, 'A')} at {fq(brief.supply.max_v, 'V')} whose threshold a "
+                    f"{fq(rail.min_v, 'V')} gate drive exceeds, gate rated {fq(rail.max_v, 'V')}, and whose "
+                    f"on-state loss its dissipation rating covers at {fq(brief.ambient.max_c, 'degC')}")
+
+
+def on_state(fet: "Part", brief: "Brief", rail: LogicRail) -> tuple[float, float]:
+    """On-state drop [V] and loss [W] of the output MOSFET at the load's largest current, weakest corner:
+    the square-law linear region (SPICE level 1) at the lowest rail, the highest threshold at the coldest
+    ambient and the smallest K; where the class gives R_DS(on) (at its rated gate drive, max, 25 degC),
+    at least I·R_DS(on) raised by its tempco to the junction maximum (datasheets' normalised R_DS(on))."""
+    vth = fet.value("vth_max", "V") + fet.value("vth_tempco", "V/K") * (brief.ambient.min_c - 25.0)
+    current = load_current_max(brief)
+    drop = on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), current)
+    if fet.has("rds_on"):
+        hot = fet.value("tj_max", "degC") - 25.0
+        drop = max(drop, current * fet.value("rds_on", "ohm") * (1.0 + fet.value("rds_on_tempco", "1/K") * hot))
+    return drop, current * drop
 
 
 DIODE_REVERSE_FACTOR = 3.0
@@ -234,11 +256,11 @@ def output_driver_checks(brief: "Brief", catalog: "Catalog", rail: LogicRail) ->
         fet = output_mosfet(brief, catalog, rail)
     except CatalogError as exc:
         return [Finding("violation", "output-driver", str(exc).split(": ", 2)[-1])]
-    vth = fet.value("vth_max", "V") + fet.value("vth_tempco", "V/K") * (brief.ambient.min_c - 25.0)
     current = load_current_max(brief)
-    drop = on_state_drop_v(rail.min_v - vth, fet.value("k_min", "A/V**2"), current)
+    drop, loss = on_state(fet, brief, rail)
     if brief.load.kind != "relay":
-        return []
+        return [Finding("info", "output-loss", f"output MOSFET {fet.id} drops at most {fq(drop, 'V')} and "
+                        f"dissipates at most {fq(loss, 'W')} at {fq(current, 'A')} (weakest corner)")]
     need = brief.load.must_operate_frac * brief.load.coil_voltage_v
     if brief.supply.min_v - drop < need:
         return [Finding("violation", "coil-drive",
