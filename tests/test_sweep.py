@@ -225,3 +225,23 @@ def test_bad_value_at_a_grid_point_stops_before_running():
     with pytest.raises(InputError, match="nominal 1 h lies outside min..max"):
         # delay.min is varied too, so the band does not move: 1 h is outside 10 to 20 min
         _axes_and_briefs(base, ["delay.nominal=15min,1h", "delay.min=5min,10min"], {})
+
+
+@pytest.mark.parametrize("width", [80, 100])
+def test_terminal_table_fits_and_names_each_points_winner(local, width):
+    """The sweep's terminal table stays within the width and shows each point's winner, its score and
+    its runner-up (or why nothing wins) in the brief's time unit."""
+    from rich.console import Console
+
+    from tradeoff.report.sweep_report import render_sweep
+
+    console = Console(width=width, record=True, file=open(os.devnull, "w"))
+    render_sweep(local, console)
+    text = console.export_text()
+    assert max(len(line) for line in text.splitlines()) <= width
+    for point in local.points:
+        w = point["winner"]
+        assert (f"{w['design']}" in text and f"{w['score']:.3f}" in text) if w else point["note"] in text
+        if point["runner_up"]:
+            assert f"runner-up {point['runner_up']['design']} ({point['runner_up']['score']:.3f})" in text
+    assert "min" in text and " s " not in text  # worst cases of minutes-long delays in minutes

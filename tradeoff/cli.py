@@ -47,6 +47,13 @@ def timing_option(func):
                              "with one seed give identical JSON).")(func)
 
 
+def width_option(func):
+    """`--width N`: characters per line of a terminal report."""
+    return click.option("--width", type=click.IntRange(72, 1000), default=None,
+                        help="Characters per line of the report [default: the terminal's width, 100 when not a "
+                             "terminal].")(func)
+
+
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="tradeoff")
 def cli():
@@ -159,8 +166,7 @@ def catalog_command(query, catalogs):
                    "tables/, plots/, netlists/.")
 @click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
               help="Write the review page (one self-contained HTML file, no network needed) here.")
-@click.option("--width", type=click.IntRange(72, 1000), default=None,
-              help="Characters per line of the report [default: the terminal's width, 100 when not a terminal].")
+@width_option
 @click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
 @click.option("--force", is_flag=True, help="Replace output files that exist (otherwise nothing is written).")
 @timing_option
@@ -345,12 +351,13 @@ def netlist_command(design, output, force, catalogs):
               help="Monte Carlo samples per design (fewer make a sweep faster; overrides analysis.samples).")
 @click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=None,
               help="Monte Carlo seed at every point (overrides analysis.seed).")
+@width_option
 @click.option("--force", is_flag=True, help="Replace existing output files.")
 @timing_option
 @catalog_option
 @_translate_errors
 def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, output_format, only, method,
-                  samples, seed, force, timing, catalogs):
+                  samples, seed, width, force, timing, catalogs):
     """Run the study at every point of a grid over brief fields and tabulate, per
     point, the winner and the runner-up with their scores, the winner's worst-case
     delay band, yield, standby current after the timeout, parts and cost, and how
@@ -395,7 +402,7 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     else:
         from tradeoff.report.terminal import report_console
 
-        render_sweep(result, report_console())
+        render_sweep(result, report_console(width))
     if csv_path:
         write_csv(result, csv_path, force)
     if xlsx_path:

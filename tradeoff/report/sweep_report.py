@@ -30,42 +30,39 @@ _NO_WINNER_COLOUR = "#ffffff"
 _UNIT_NAMES = {"": "dimensionless", "%": "fraction", "degC": "°C", "ohm": "Ω"}
 
 
-def _design_text(design: dict | None, with_score: bool = True) -> str:
-    if design is None:
-        return "-"
-    return f"{design['design']} ({design['score']:.3f})" if with_score else design["design"]
-
-
 def render_sweep(result: "SweepResult", console: "Console") -> None:
-    """The sweep table: per grid point the varied values, winner and runner-up with scores, the
-    winner's worst-case delay band, yield, standby after the timeout, parts and cost."""
-    from rich.table import Table
+    """The sweep table within the console's width: per grid point the varied values, the winner
+    and its score, its worst-case delay, yield, standby after the timeout, parts and cost, and how
+    many topologies can meet the brief; the runner-up (or why nothing wins) on the line below."""
+    import textwrap
 
-    from tradeoff.report.study_text import band_text
-    from tradeoff.report.terminal import TABLE_BOX
+    from tradeoff.report.labels import span_in, time_unit
+    from tradeoff.report.terminal import render_rows
 
-    console.print(f"[bold]{result.title}[/bold]: sweep of {len(result.points)} points, ranked by "
-                  f"{result.method}; Monte Carlo {result.samples} samples, seed {result.seed}; "
-                  f"topologies {', '.join(result.topologies)}", highlight=False)
-    table = Table(box=TABLE_BOX, title="Winner per grid point (scores 0..1, higher is better)",
-                  title_justify="left")
-    for axis in result.axes:
-        table.add_column(axis.key, justify="right", no_wrap=True)
-    for name, justify in (("winner (score)", "left"), ("runner-up (score)", "left"), ("worst case", "right"),
-                          ("yield", "right"), ("standby after", "right"), ("parts", "right"),
-                          ("cost [EUR]", "right"), ("infeasible", "right")):
-        table.add_column(name, justify=justify, overflow="fold")
+    head = (f"{result.title}: sweep of {len(result.points)} points, ranked by {result.method}; Monte Carlo "
+            f"{result.samples} samples, seed {result.seed}; topologies {', '.join(result.topologies)}")
+    for line in textwrap.wrap(head, console.width, break_on_hyphens=False):
+        console.print(line, highlight=False, markup=False)
+    rows, details = [], []
     for point in result.points:
-        w = point["winner"]
-        figures = ["-"] * 5 if w is None else [
-            band_text(w["delay_worst_min_s"], w["delay_worst_max_s"]), fq(w["yield_frac"], "%"),
-            fq(w["standby_after_a"], "A"), str(w["parts"]), f"{w['cost_eur']:.2f}"]
-        table.add_row(*(a.text(i) for a, i in zip(result.axes, point["index"])),
-                      _design_text(w) if w else point["note"], _design_text(point["runner_up"]), *figures,
-                      f"{point['infeasible']} of {point['studied']}")
-    console.print(table)
+        w, r = point["winner"], point["runner_up"]
+        figures = ["none", "-", "-", "-", "-", "-", "-"] if w is None else [
+            w["design"], f"{w['score']:.3f}",
+            span_in(w["delay_worst_min_s"], w["delay_worst_max_s"], time_unit(w["delay_worst_min_s"])),
+            fq(w["yield_frac"], "%"), fq(w["standby_after_a"], "A"), str(w["parts"]), f"{w['cost_eur']:.2f}"]
+        feasible = point["studied"] - point["infeasible"]
+        rows.append([*(a.text(i) for a, i in zip(result.axes, point["index"])), *figures,
+                     f"{feasible} of {point['studied']}"])
+        details.append(point["note"] if w is None else
+                       f"runner-up {r['design']} ({r['score']:.3f})" if r else "no runner-up")
+    axes = len(result.axes)
+    headers = [*(a.key.replace(".", ".\n", 1) for a in result.axes), "winner", "score", "worst case", "yield",
+               "standby\nafter", "parts", "cost\n[EUR]", "feasible"]
+    render_rows(console, "Winner per grid point (scores 0 to 1, higher is better)", headers, rows, details,
+                left=(axes,))
     for note in result.notes:
-        console.print(f"Note: {note}", highlight=False)
+        for i, line in enumerate(textwrap.wrap(f"Note: {note}", console.width, break_on_hyphens=False)):
+            console.print(("      " if i else "") + line, highlight=False, markup=False)
 
 
 def workbook_bytes(result: "SweepResult") -> bytes:
