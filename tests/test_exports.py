@@ -110,7 +110,7 @@ def test_workbook_has_every_sheet_frozen_sized_and_numbers_as_numbers(mains, mai
                     assert not re.fullmatch(r"[-+]?\d+(\.\d*)?([eE][-+]?\d+)?", cell.value), (name, cell.coordinate)
     ranking = sheets["ranking"]
     unit = time_unit(mains.brief.delay.nominal_s)[0]  # the brief's own time unit
-    for column in (f"delay nominal [{unit}]", "standby after [µA]", "cost [EUR]", "yield [%]", "score [0 to 1]"):
+    for column in (f"delay nominal [{unit}]", "standby after [µA]", "cost per unit [EUR]", "yield [%]", "score [0 to 1]"):
         assert pd.api.types.is_numeric_dtype(ranking[column]), column
     for name, frame in ((n, f) for n, f in sheets.items() if n != DECISION_SHEET):
         for column in frame.columns:
@@ -138,7 +138,7 @@ def test_si_tables_equal_the_json(mains, mains_files):
         assert _same(row["delay nominal [s]"], delay["nominal_s"])
         assert _same(row["delay worst min [s]"], delay["worst_min_s"]) and _same(row["delay worst max [s]"], delay["worst_max_s"])
         assert row["yield [%]"] == pytest.approx(100 * delay["yield_frac"], rel=1e-12)
-        assert _same(row["standby after [A]"], d["standby"]["after_a"]) and _same(row["cost [EUR]"], d["cost_eur"])
+        assert _same(row["standby after [A]"], d["standby"]["after_a"]) and _same(row["cost per unit [EUR]"], d["production"]["per_unit_eur"])
         assert row["parts [count]"] == d["parts"]["placements"] and _same(row["score [0 to 1]"], d["score"])
         assert bool(row["Pareto front"]) == d["pareto"] and row["reason"] == d["reasons"][0]
         m = mc.loc[d["name"]]
@@ -208,7 +208,7 @@ def test_plots_are_valid_png_and_svg_with_documented_names(mains, mains_files):
 
     folder, _ = mains_files
     plot_dir = folder / REVIEW_LAYOUT["plots"]
-    stems = {"pareto"} | {f"{kind}-{design_stem(n)}" for n, _, _ in mains.designs() for kind in ("waveform", "histogram")}
+    stems = {"pareto", "volume"} | {f"{kind}-{design_stem(n)}" for n, _, _ in mains.designs() for kind in ("waveform", "histogram")}
     assert sorted(p.name for p in plot_dir.iterdir()) == sorted(f"{s}.{f}" for s in stems for f in ("png", "svg"))
     for stem in stems:
         png = (plot_dir / f"{stem}.png").read_bytes()

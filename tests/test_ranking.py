@@ -355,7 +355,7 @@ def test_reasons_name_what_each_design_wins_loses_and_what_binds():
     assert ("binds: longest delay 39 s at 50 °C, 10.8 V against the band maximum 40 s (5 % of the band to spare)"
             in hold_reason)
     assert "tightest worst-case delay spread (6.67 % of nominal)" in result.reasons["counter"]
-    assert "highest cost (2.40 EUR)" in result.reasons["counter"]
+    assert "highest cost per unit (2.40 EUR)" in result.reasons["counter"]
     # timer555 and rc_hold both draw 1 mA while timing, the least: a shared best.
     assert "wins on lowest current while timing (1 mA, shared)" in result.reasons["timer555"]
     # timer555: 7 s, 35 % of the band, from either edge: the tie names the band minimum.

@@ -63,7 +63,7 @@ def test_changed_weight_reranks_as_the_sensitivity_predicts(tmp_path):
         evaluations = {name: ev for name, ev, _ in result.designs()}
         for s in result.ranking.sensitivity:
             crossing = s.nearest
-            if crossing is None or crossing.at == s.value:
+            if crossing is None or crossing.at == s.value or crossing.at <= s.lo:  # nothing lies past a range end
                 continue
             step = 0.01 * abs(crossing.at - s.value)
             for at, top in ((crossing.at + step * (1 if crossing.at > s.value else -1), crossing.new_top),

@@ -34,6 +34,7 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
     analysis:   samples, seed, coverage, margin    20000, 1, 0.99, 5 %; margin: the share of the band's
                                                    width every proven design keeps between its
                                                    worst case and each band edge (common practice)
+    production: volume, prices, assembly, ...      see tradeoff.production (indicative defaults)
 
 Accepted ranges (outside them is almost surely a typo): delays 10 ms .. 7 days; ambient
 -55 degC .. 125 degC; supply 1 V .. 60 V (the timer runs from extra-low voltage: mains belongs
@@ -55,6 +56,7 @@ from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 
 from tradeoff import inputfile, yamlpos
 from tradeoff.errors import BriefError, Problem, UnitParseError
+from tradeoff.production import Production, read_production
 from tradeoff.fields import (Invalid, Problems, boolean, choice, closest, dotted, first_unknown, fraction, number,
                              quantity, show, text)
 from tradeoff.units import format_quantity
@@ -207,6 +209,7 @@ class Brief(_Frozen):
     series: Series
     topologies: tuple[str, ...]
     analysis: Analysis
+    production: Production
     path: Path | None
 
     _data: dict = PrivateAttr(default_factory=dict)
@@ -231,13 +234,15 @@ class Brief(_Frozen):
     def check_topologies(self, known: Sequence[str]) -> None:
         """Raise BriefError, at each name's line and column in the brief, for a listed topology not in `known`
         (the registered ids: the registry is read by the caller, so the brief knows no topology module)."""
-        unknown = [(i, name) for i, name in enumerate(self.topologies) if name != "all" and name not in known]
+        unknown = [(("topologies", i), name, "all, or a list of: ") for i, name in enumerate(self.topologies)
+                   if name != "all" and name not in known]
+        unknown += [(("production", "engineering_hours", name), name, "topology names: ")
+                    for name, _ in self.production.engineering_hours if name not in known]
         if unknown:
-            accepted = f"all, or a list of: {', '.join(known)}"
-            raise BriefError([Problem(self._source, *yamlpos.locate(self._root, ("topologies", i)), f"topologies[{i}]",
-                                      f"unknown topology '{name}'"
+            raise BriefError([Problem(self._source, *yamlpos.locate(self._root, path, at_key=path[0] == "production"),
+                                      dotted(path), f"unknown topology '{name}'"
                                       f"{f' (did you mean {close!r}?)' if (close := closest(name, known)) else ''}; "
-                                      f"accepted: {accepted}") for i, name in unknown])
+                                      f"accepted: {accepted}{', '.join(known)}") for path, name, accepted in unknown])
 
     def replace(self, changes: Mapping[str, object]) -> "Brief":
         """A validated copy with dotted YAML keys changed ({"delay.nominal": "1 h"}); None removes a key.
@@ -531,10 +536,10 @@ def _read_topologies(r: _Reader, raw: object) -> tuple[str, ...] | None:
 
 
 _TOP_KEYS = ("title", "delay", "ambient", "supply", "start", "load", "limits", "weights", "series",
-             "topologies", "analysis")
+             "topologies", "analysis", "production")
 
 
-def _read(r: _Reader, data: object) -> dict | None:
+def _read(r: _Reader, data: object, base_dir: Path) -> dict | None:
     """Every section of the brief as model input; None when any problem was found."""
     top = r.mapping((), data, _TOP_KEYS, required=("title", "delay", "supply", "load"))
     if top is None:
@@ -562,6 +567,7 @@ def _read(r: _Reader, data: object) -> dict | None:
             "seed": (number(0, 2**32 - 1, integer=True), 1, ""),
             "coverage": (fraction(0.5, 1, open_lo=True, open_hi=True), 0.99, "%"),
             "margin": (fraction(0, 0.5, open_hi=True), DEFAULT_MARGIN, "%")}),
+        "production": read_production(r, top.get("production"), base_dir),
     }
     if "topologies" not in top:
         values["topologies"] = ("all",)
@@ -590,7 +596,7 @@ def _build(data: object, source: str, path: Path | None, root: yaml.Node | None,
     for dup_path, (line, column) in yamlpos.duplicate_keys(root):
         reader.problems.append(Problem(source, line, column, ".".join(dup_path),
                                        "key given twice; accepted: each key once per section"))
-    values = _read(reader, data)
+    values = _read(reader, data, path.parent if path else Path.cwd())
     if reader.problems or values is None:
         raise BriefError(reader.problems.listed() or [Problem(source, None, None, "", "brief could not be read")])
     try:

@@ -1,7 +1,8 @@
 """Part catalogs: generic part classes with sourced parameters, read from YAML files.
 
 A catalog file holds `parts:`, a list of entries (`id`, `category`, `description`, `params`,
-plus `dielectric` for capacitors and `module` for topologies). Every parameter is
+plus `dielectric` for capacitors, `module` for topologies and an optional `mount`: smd or
+through-hole, which sets the assembly cost per placement, see tradeoff.costing). Every parameter is
 `{value: ..., source: ...}`; a value is a number (dimensionless), a quantity string (`"1.4 V"`),
 a percentage (`"20 %"`) or a list of these. Values stay as written until a model asks for
 one with `Part.value(name, unit)`, which returns an SI float after checking the dimension.
@@ -31,6 +32,7 @@ __all__ = [
     "COST_CURRENCY",
     "CATEGORIES",
     "DIELECTRICS",
+    "MOUNTS",
     "Catalog",
     "Param",
     "Part",
@@ -46,12 +48,15 @@ CATEGORIES = ("resistor", "capacitor", "npn", "pnp", "darlington", "mosfet", "di
 DIELECTRICS = ("electrolytic", "film", "ceramic")
 """Capacitor dielectrics; each selects the brief's series of the same name (brief.series.film ...)."""
 
+MOUNTS = ("smd", "through-hole")
+"""How a part class is placed on the board (surface-mount or through-hole); sets its assembly cost."""
+
 NON_PART_FILES = ("eseries",)
 """Shipped YAML files that are not part catalogs (the E-series tables)."""
 
 _TOP_KEYS = ("parts",)
-_ENTRY_KEYS = ("id", "category", "description", "params", "dielectric", "module", "notes")
-_FIELD_KEYS = ("dielectric", "module", "notes")
+_ENTRY_KEYS = ("id", "category", "description", "params", "dielectric", "module", "mount", "notes")
+_FIELD_KEYS = ("dielectric", "module", "mount", "notes")
 _PARAM_KEYS = ("value", "source", "note")
 _ID_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._+-]*$")
 _NAME_RE = re.compile(r"^[a-z][a-z0-9_]*$")
@@ -226,6 +231,10 @@ class _FileReader:
         if dielectric is not None and dielectric not in DIELECTRICS:
             self.problem(children["dielectric"], f"{key}.dielectric", f"unknown dielectric '{dielectric}';"
                          f"{did_you_mean(dielectric, DIELECTRICS)} accepted: {', '.join(DIELECTRICS)}")
+        mount = fields.get("mount")
+        if mount is not None and mount not in MOUNTS:
+            self.problem(children["mount"], f"{key}.mount", f"unknown mount '{mount}';"
+                         f"{did_you_mean(mount, MOUNTS)} accepted: {', '.join(MOUNTS)}")
         module = fields.get("module")
         if module is not None and not _MODULE_RE.match(module):
             self.problem(children["module"], f"{key}.module", f"'{module}' is not a module of the package's "

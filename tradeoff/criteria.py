@@ -17,7 +17,7 @@ Headline figures of one evaluated design (`headline(ev)`, SI units in the key su
 | `rails` | supply rails needed |
 | `parts` | placements on the board |
 | `bom_lines` | distinct bill-of-materials lines |
-| `cost_eur` | indicative BOM cost [EUR] |
+| `cost_eur` | cost per unit at the brief's production volume: parts, assembly, programming, amortised engineering [EUR, indicative] |
 | `effort` | engineering effort, 0 to 1 |
 
 A delay that never ends is infinite here; each output decides how to show it (null in JSON,
@@ -50,7 +50,7 @@ def headline(ev: Any) -> dict[str, Any]:
         "delay_margin_frac": float(ev.margin_frac),
         "yield_frac": float(ev.mc.yield_frac), "standby_during_a": float(ev.standby.during_a),
         "standby_after_a": float(ev.standby.after_a), "standby_after_w": float(ev.after_w), "rails": int(ev.rails),
-        "parts": int(ev.placements), "bom_lines": int(ev.lines), "cost_eur": float(ev.cost),
+        "parts": int(ev.placements), "bom_lines": int(ev.lines), "cost_eur": float(ev.unit_cost_eur),
         "effort": float(ev.effort),
     }
 
@@ -98,7 +98,8 @@ CRITERIA = (
     Criterion("rails", "rails", 1.0, False, "supply rails", "fewest supply rails", "most supply rails",
               _count("rail")),
     Criterion("parts", "parts", 1.0, False, "part count", "fewest parts", "most parts", _count("part")),
-    Criterion("cost_eur", "cost", 1.0, False, "cost", "lowest cost", "highest cost", lambda v: f"{v:.2f} EUR"),
+    Criterion("cost_eur", "cost", 1.0, False, "cost per unit", "lowest cost per unit", "highest cost per unit",
+              lambda v: f"{v:.2f} EUR"),
     Criterion("effort", "effort", 1.0, False, "effort", "least engineering effort", "most engineering effort",
               lambda v: f"{v:.3g} of 1"),
 )

@@ -11,7 +11,7 @@ A parameter's range follows from its name and the dimension it is written in:
 - a leakage, bias, offset, quiescent, sleep or standby current, a saturation or dropout
   voltage and a junction ideality (0: a fixed drop) may be 0; a cost (at most 100,000) or effort
   (at most 1) is at least 0;
-- counts (`stages`, `max_counters`, `*_dividers`, `stages_out`, `p_channel`) are whole numbers;
+- counts (`stages`, `max_counters`, `*_dividers`, `stages_out`, `p_channel`, `break_quantity`) are whole numbers;
 - everything else is above 0 (resistances, capacitances, currents a test or rating names,
   voltages, times, frequencies, powers, gains, exponents);
 - every value lies below a ceiling per dimension (`CEILINGS`), far above any real part.
@@ -41,7 +41,7 @@ _SIGNED_RE = re.compile(r"(tempco|coefficient|temp_exponent|aging|_band_lo|_band
 _MAY_BE_ZERO_RE = re.compile(r"(leakage|iceo|idss|igss|bias|offset|quiescent|sleep_current|brownout|active_current|"
                              r"threshold_current|vce_sat|high_drop|dropout|cost|effort|ideality)")
 _COST_RE = re.compile(r"(^|_)cost$")
-_INTEGER_RE = re.compile(r"^(stages|stages_out|max_counters|p_channel)$|_dividers$")
+_INTEGER_RE = re.compile(r"^(stages|stages_out|max_counters|p_channel|break_quantity)$|_dividers$")
 _EXPLICIT = {
     "must_operate": (0.0, 1.5, False, True),
     "must_release": (0.0, 1.0, True, False),

@@ -21,6 +21,7 @@ from tradeoff.catalog import Catalog, load_catalog
 from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
+from tradeoff.economics import BreakEven, break_even_of, economics
 from tradeoff.plain import part_classes, schematic_values
 from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
@@ -153,12 +154,17 @@ class StudyResult:
             "infeasible": [{"topology": o.topology, "description": o.description, "feasible": False,
                             "reasons": o.reasons} for o in self.infeasible()],
             "ranking": ranking,
+            "production": economics(self),
             "method": self.method,
             "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
             "cautions": list(self.cautions),
             **({"timing": {"total_s": self.seconds, "topologies": [o.timing() for o in self.outcomes]}}
                if timing else {}),
         }
+
+    def break_even(self) -> "BreakEven | None":
+        """Break-even volume of the winner and the runner-up (tradeoff.economics); None with fewer than two designs."""
+        return break_even_of(self)
 
     def to_frame(self) -> "pd.DataFrame":
         """One row per feasible design in rank order: design, rank, the headline figures (see

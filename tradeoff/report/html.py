@@ -21,6 +21,7 @@ from typing import TYPE_CHECKING, Any
 
 from tradeoff.plain import part_classes, schematic_values
 from tradeoff.report.labels import in_unit, short_reason, span_in, split_reason, time_unit
+from tradeoff.report.money import money_heading, money_lines
 from tradeoff.report.tables import design_stem
 from tradeoff.units import format_quantity as fq
 
@@ -94,13 +95,13 @@ def _comparison(result: "StudyResult", data: dict[str, Any]) -> tuple[list[str],
     unit = time_unit(result.brief.delay.nominal_s)
     headers = ["#", "design", "values, or why not", f"delay [{unit[0]}]", f"worst case [{unit[0]}]",
                "margin, short end [% of band]", "margin, long end [% of band]", "yield [%]", "standby after [µA]",
-               "rails", "parts", "cost [EUR]", "score"]
+               "rails", "parts", "cost per unit [EUR]", "score"]
     rows = []
     for i, ((name, ev, outcome), entry) in enumerate(zip(result.designs(), data["designs"])):
         p = f"designs/{i}"
         delay = entry["delay"]
         yield_path, yield_frac = f"{p}/delay/yield_frac", delay["yield_frac"]
-        cost_path, cost = f"{p}/cost_eur", entry["cost_eur"]
+        cost_path, cost = f"{p}/production/per_unit_eur", entry["production"]["per_unit_eur"]
         cells = [
             Cell(str(entry["rank"]), f"{p}/rank", entry["rank"]), Cell(name), Cell(schematic_values(outcome.model, ev.design)),
             Cell(in_unit(delay["nominal_s"], unit), f"{p}/delay/nominal_s", delay["nominal_s"]),
@@ -143,7 +144,9 @@ def _designs(result: "StudyResult", figures: dict[str, str]) -> list[dict[str, A
                        f"{fq(ev.margin_long_frac, '%', 2)} below its maximum (the brief asks "
                        f"{fq(ev.margin_required_frac, '%')} at each end)"),
             ("standby", f"{fq(ev.standby.after_a, 'A')} after the timeout, {fq(ev.standby.during_a, 'A')} while timing"),
-            ("rails, parts, cost", f"{ev.rails} rails, {ev.placements} placements, {ev.cost:.2f} EUR (indicative)"),
+            ("rails, parts, cost", f"{ev.rails} rails, {ev.placements} placements, parts {ev.cost:.2f} EUR, "
+                                   f"{ev.unit_cost_eur:.2f} EUR per unit at {result.brief.production.volume:,} units "
+                                   "(indicative)"),
             ("why here", result.ranking.reasons[name]),
         ]
         out.append({
@@ -184,7 +187,8 @@ def review_html(result: "StudyResult") -> str:
         title=brief.title, version=tradeoff.__version__, seed=brief.analysis.seed, samples=brief.analysis.samples,
         method=result.method.upper(), solver=result.solver, brief_values=_brief_summary(result),
         cautions=result.cautions, headers=headers, rows=rows, designs=_designs(result, figures) if data["designs"] else [],
-        pareto=figures.get("pareto"), sensitivity=[s.text for s in result.ranking.sensitivity] if result.ranking else [],
+        pareto=figures.get("pareto"), volume=figures.get("volume"), money_heading=money_heading(result),
+        money=money_lines(result), sensitivity=[s.text for s in result.ranking.sensitivity] if result.ranking else [],
         infeasible=_infeasible(result), top=result.ranking.top if result.ranking else None, strip_width=STRIP_WIDTH,
         band=f"{fq(brief.delay.min_s, 's')} to {fq(brief.delay.max_s, 's')}", nominal=fq(brief.delay.nominal_s, "s"),
     )

@@ -24,6 +24,7 @@ import numpy as np
 
 from tradeoff.report import style
 from tradeoff.report.tables import design_stem
+from tradeoff.report.volume_plot import volume_figure
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -195,7 +196,7 @@ def pareto_figure(result: "StudyResult") -> "Figure | None":
         s = styles[ev.topology]
         on_front = bool(result.ranking.table.loc[name, "pareto"])
         face = s.colour if on_front else "none"
-        for ax, x, y in ((accuracy, ev.standby.after_a, 100 * ev.spread_frac), (cost, ev.placements, ev.cost)):
+        for ax, x, y in ((accuracy, ev.standby.after_a, 100 * ev.spread_frac), (cost, ev.placements, ev.unit_cost_eur)):
             ax.plot([x], [y], marker=s.marker, markersize=9, markerfacecolor=face, markeredgecolor=s.colour,
                     markeredgewidth=1.6, linestyle="none")
             ax.annotate(name, (x, y), textcoords="offset points", xytext=(6, 5), fontsize=8)
@@ -208,7 +209,7 @@ def pareto_figure(result: "StudyResult") -> "Figure | None":
     accuracy.set_ylabel("worst-case delay spread [% of nominal]")
     accuracy.set_title("accuracy against standby (lower left is better)")
     cost.set_xlabel("parts on the board [count]")
-    cost.set_ylabel("indicative cost [EUR]")
+    cost.set_ylabel(f"cost per unit at {result.brief.production.volume:,} units [EUR, indicative]")
     cost.set_title("cost against part count (lower left is better)")
     shown = list(dict.fromkeys(ev.topology for _, ev, _ in designs))
     handles = [Line2D([], [], marker=styles[t].marker, color=styles[t].colour, markersize=8, linestyle="none",
@@ -232,6 +233,7 @@ def figure_makers(result: "StudyResult") -> dict[str, Callable[[], "Figure"]]:
         makers[f"histogram-{stem}"] = functools.partial(histogram_figure, name, ev)
     if result.designs():
         makers["pareto"] = functools.partial(pareto_figure, result)
+        makers["volume"] = functools.partial(volume_figure, result, _figure_class)
     return makers
 
 

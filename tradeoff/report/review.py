@@ -14,7 +14,7 @@ The review set (`review=DIR`) is, with fixed names:
     DIR/study.json          the whole result (as `tradeoff study --format json`)
     DIR/study.xlsx          the workbook (tradeoff.report.workbook)
     DIR/tables/<sheet>.csv  the workbook's tables as CSV (tradeoff.report.tables)
-    DIR/plots/...           waveform-<design>, histogram-<design>, pareto; .png and .svg
+    DIR/plots/...           waveform-<design>, histogram-<design>, pareto, volume; .png and .svg
     DIR/netlists/<design>.cir  SPICE netlist of each feasible design whose topology has one
 
 `<design>` is `tables.design_stem(name)`, e.g. 'rc-counter #2' -> 'rc-counter-2'.

@@ -17,6 +17,7 @@ from rich.console import Console
 
 from tradeoff.plain import part_classes, schematic_values
 from tradeoff.report.labels import in_unit, margin_text, short_reason, span_in, split_reason, time_unit
+from tradeoff.report.money import money_heading, money_lines
 from tradeoff.report.terminal import delay_text, render_bom, render_rows
 from tradeoff.units import format_quantity as fq
 
@@ -61,7 +62,7 @@ def comparison_rows(result: "StudyResult") -> list[ComparisonRow]:
 
     Delays are numbers in the brief's time unit (`labels.time_unit`); margin is the worst case's
     distance from the band's minimum and from its maximum in % of the band; standby is the current after the timeout
-    with its unit; cost is indicative EUR.
+    with its unit; cost is per unit at the brief's production volume, indicative EUR.
     """
     unit = time_unit(result.brief.delay.nominal_s)
     rows = []
@@ -72,7 +73,7 @@ def comparison_rows(result: "StudyResult") -> list[ComparisonRow]:
             delay=in_unit(ev.nominal_s, unit), worst=span_in(ev.worst.min_s, ev.worst.max_s, unit, with_unit=False),
             margin=margin_text(ev.worst.min_s, ev.worst.max_s, ev.band),
             yield_=fq(ev.mc.yield_frac, "%"), standby=fq(ev.standby.after_a, "A"), rails=str(ev.rails),
-            parts=str(ev.placements), cost=f"{ev.cost:.2f}", score=f"{float(row['score']):.3f}", feasible=True,
+            parts=str(ev.placements), cost=f"{ev.unit_cost_eur:.2f}", score=f"{float(row['score']):.3f}", feasible=True,
         ))
     for outcome in result.infeasible():
         rows.append(ComparisonRow(DASH, outcome.topology, short_reason(outcome.reasons), *([DASH] * 9), feasible=False))
@@ -84,7 +85,7 @@ def comparison_headers(result: "StudyResult") -> tuple[str, ...]:
     the delay unit being the brief's."""
     unit = time_unit(result.brief.delay.nominal_s)[0]
     return (f"delay\n[{unit}]", f"worst\ncase [{unit}]", "margin\n[% band]", "yield", "standby\nafter", "rails", "parts",
-            "cost\n[EUR]", "score")
+            "cost/unit\n[EUR]", "score")
 
 
 def _comparison_table(result: "StudyResult", console: Console) -> None:
@@ -161,6 +162,9 @@ def _winner(result: "StudyResult", page: _Page) -> None:
     for finding in ev.findings:
         if finding.severity == "warning":
             page.bullet(f"warning: {finding.message}")
+    page.heading(money_heading(result))
+    for line in money_lines(result):
+        page.bullet(line)
     page.heading("Weight sensitivity (how far each weight may move before the top design changes)")
     for s in result.ranking.sensitivity:
         page.bullet(s.text)

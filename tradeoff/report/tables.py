@@ -68,11 +68,13 @@ RANKING_COLUMNS = ["rank", "design", "topology", "values", "part classes", "dela
                    "delay worst max [s]", "delay spread [% of nominal]", "margin short end [% of band]",
                    "margin long end [% of band]", "margin required [% of band]", "yield [%]", "standby during [A]",
                    "standby after [A]", "standby after [W]", "rails [count]", "parts [count]", "BOM lines [count]",
-                   "cost [EUR]", "effort [0 to 1]", "score [0 to 1]", "Pareto front", "reason", "note"]
+                   "cost per unit [EUR]", "effort [0 to 1]", "score [0 to 1]", "Pareto front", "reason", "note"]
 BOM_COLUMNS = ["design", "refs", "part class", "value", "quantity [count]", "unit cost [EUR]", "line cost [EUR]",
                "note"]
 CORNERS_COLUMNS = ["design", "quantity", "key", "unit", "nominal", "at shortest delay", "at longest delay",
                    "distribution", "note"]
+PRODUCTION_COLUMNS = ["design", "volume [units]", "parts [EUR]", "assembly [EUR]", "programming [EUR]",
+                      "engineering [h]", "engineering per unit [EUR]", "cost per unit [EUR]", "note"]
 CORNER_VALUES = ("nominal", "at shortest delay", "at longest delay")
 """The corners table's value columns, in each row's SI unit (its `unit` column)."""
 INFEASIBLE_COLUMNS = ["topology", "description", "reason no. [count]", "reason"]
@@ -117,7 +119,7 @@ def ranking_table(result: "StudyResult") -> pd.DataFrame:
             "yield [%]": _percent(h["yield_frac"]), "standby during [A]": h["standby_during_a"],
             "standby after [A]": h["standby_after_a"], "standby after [W]": h["standby_after_w"],
             "rails [count]": h["rails"], "parts [count]": h["parts"], "BOM lines [count]": h["bom_lines"],
-            "cost [EUR]": h["cost_eur"], "effort [0 to 1]": h["effort"], "score [0 to 1]": float(row["score"]),
+            "cost per unit [EUR]": h["cost_eur"], "effort [0 to 1]": h["effort"], "score [0 to 1]": float(row["score"]),
             "Pareto front": bool(row["pareto"]), "reason": result.ranking.reasons[name],
             "note": _never_note(ev.nominal_s, ev.worst.min_s, ev.worst.max_s),
         })
@@ -132,6 +134,30 @@ def bom_table(result: "StudyResult") -> pd.DataFrame:
         "note": line.note,
     } for name, ev, _ in result.designs() for line in ev.bom]
     return _frame(rows, BOM_COLUMNS)
+
+
+def production_table(result: "StudyResult") -> pd.DataFrame:
+    """Each feasible design's cost per unit at the brief's volume, broken down (EUR, indicative), then one row
+    per sweep volume with each design's cost per unit under its name and the cheapest in the note."""
+    from tradeoff.economics import break_even_of, volume_sweep
+
+    rows = []
+    even = break_even_of(result)
+    for name, ev, _ in result.designs():
+        c = ev.production
+        rows.append({"design": name, "volume [units]": c.volume, "parts [EUR]": c.parts_eur,
+                     "assembly [EUR]": c.assembly_eur, "programming [EUR]": c.programming_eur,
+                     "engineering [h]": c.engineering_hours, "engineering per unit [EUR]": c.engineering_eur,
+                     "cost per unit [EUR]": c.per_unit_eur,
+                     "note": "; ".join((*c.notes, *((even.text,) if even and name == even.first else ())))})
+    sweep = volume_sweep(result) if rows else {"volumes": []}
+    for i, volume in enumerate(sweep["volumes"]):
+        for name in sweep["cost_per_unit_eur"]:
+            rows.append({"design": name, "volume [units]": volume, "parts [EUR]": None, "assembly [EUR]": None,
+                         "programming [EUR]": None, "engineering [h]": None, "engineering per unit [EUR]": None,
+                         "cost per unit [EUR]": sweep["cost_per_unit_eur"][name][i],
+                         "note": "sweep; cheapest here" if sweep["cheapest"][i] == name else "sweep"})
+    return _frame(rows, PRODUCTION_COLUMNS)
 
 
 def corners_table(result: "StudyResult") -> pd.DataFrame:
@@ -213,6 +239,7 @@ def cautions_table(result: "StudyResult") -> pd.DataFrame:
 TABLES: dict[str, Callable[["StudyResult"], pd.DataFrame]] = {
     "ranking": ranking_table,
     "bom": bom_table,
+    "production": production_table,
     "corners": corners_table,
     "monte_carlo": monte_carlo_table,
     "infeasible": infeasible_table,

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping
 import numpy as np
 
 from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, worst_case
+from tradeoff.costing import UnitCost, unit_cost
 from tradeoff.units import format_quantity
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
@@ -145,6 +146,8 @@ class Evaluation:
     effort: float
     margin_required_frac: float = 0.0
     reasons: list[str] = field(default_factory=list)
+    production: "UnitCost | None" = None
+    """Cost per unit at the brief's production volume (tradeoff.costing); None for an evaluation built by hand."""
 
     @property
     def placements(self) -> int:
@@ -160,6 +163,12 @@ class Evaluation:
     def cost(self) -> float:
         """Indicative BOM cost [EUR]."""
         return float(sum(line.cost for line in self.bom))
+
+    @property
+    def unit_cost_eur(self) -> float:
+        """Cost per unit at the brief's production volume [EUR, indicative]: parts, assembly, programming and
+        amortised engineering; the BOM cost when no production cost was worked out."""
+        return self.cost if self.production is None else self.production.per_unit_eur
 
     @property
     def feasible(self) -> bool:
@@ -234,6 +243,7 @@ class Evaluation:
             "rails": self.rails,
             "parts": {"placements": self.placements, "lines": self.lines},
             "cost_eur": self.cost,
+            "production": None if self.production is None else self.production.to_dict(),
             "effort": self.effort,
             "warnings": [f.message for f in self.findings if f.severity != "info"],
             "findings": [{"severity": f.severity, "code": f.code, "message": f.message} for f in self.findings],
@@ -334,6 +344,10 @@ class Topology(ABC):
         """Engineering effort score, 0 (none) to 1 (firmware, programming step, ...), from the catalog entry."""
         return self.entry.value("effort", "")
 
+    def engineering_hours(self) -> float:
+        """One-off engineering hours (firmware, verification) from the catalog entry; 0 when it gives none."""
+        return self.entry.value("engineering_hours", "") if self.entry.has("engineering_hours") else 0.0
+
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
         """Control signal against time at the point `x`, for plots; None if the topology has none."""
         return None
@@ -394,6 +408,7 @@ class Topology(ABC):
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
             margin_required_frac=self.brief.analysis.margin,
         )
+        ev.production = unit_cost(ev.bom, self.id, self.engineering_hours(), self.brief.production, self.catalog)
         ev.reasons = self._shortfalls(ev)
         return ev
 
