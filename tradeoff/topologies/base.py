@@ -403,7 +403,7 @@ class Topology(ABC):
             topology=self.id, design=design, nominal_s=self.nominal_delay(design),
             worst=self.worst_case(design), mc=self.monte_carlo(design, samples, seed),
             standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
-            findings=self.checks(design), band=(self.brief.delay.min_s, self.brief.delay.max_s),
+            findings=self.checks(design) + self.value_range_findings(design), band=(self.brief.delay.min_s, self.brief.delay.max_s),
             coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
             margin_required_frac=self.brief.analysis.margin,
@@ -411,6 +411,29 @@ class Topology(ABC):
         ev.production = unit_cost(ev.bom, self.id, self.engineering_hours(), self.brief.production, self.catalog)
         ev.reasons = self._shortfalls(ev)
         return ev
+
+    def value_range_findings(self, design: Design) -> list[Finding]:
+        """A violation for each value outside the practical range (`min_value` to `max_value`) of the part
+        class the design names for it (option '<role>_part'), so analyze and the study agree on what can be
+        bought."""
+        out = []
+        for role in self.roles():
+            part_id = design.options.get(f"{role.name}_part")
+            value = design.values.get(role.name)
+            if not isinstance(part_id, str) or part_id not in self.catalog or value is None:
+                continue
+            part = self.catalog.part(part_id)
+            if not (part.has("min_value") and part.has("max_value")):
+                continue
+            unit = "ohm" if role.kind == "resistor" else "F"
+            lo, hi = part.value("min_value", unit), part.value("max_value", unit)
+            if not lo * (1 - 1e-9) <= value <= hi * (1 + 1e-9):
+                out.append(Finding("violation", "value-range",
+                                   f"{role.description} {format_quantity(value, unit)} is outside the {part.id} "
+                                   f"class's range {format_quantity(lo, unit)} to {format_quantity(hi, unit)} "
+                                   f"({part.source('max_value')}); accepted: a value within it, or a class "
+                                   "that makes it"))
+        return out
 
     def _shortfalls(self, ev: Evaluation) -> list[str]:
         """Why `ev` fails the brief, in the designer's terms with numbers; empty when it meets it."""
