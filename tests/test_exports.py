@@ -365,7 +365,8 @@ def test_review_set_refuses_as_a_whole_and_overlapping_exports(mains, mains_file
         export(mains, review=tmp_path / "r", csv=tmp_path / "r" / "tables")
 
 
-def test_a_failure_part_way_leaves_earlier_files_complete(mains, tmp_path, monkeypatch):
+def test_a_failure_part_way_leaves_the_folder_as_it_was(mains, tmp_path, monkeypatch):
+    # the set is made in a staging folder and moved in at the end: a failure on the third file leaves nothing
     real_fsync, calls = files.os.fsync, []
 
     def fsync_failing_on_the_third(fd):
@@ -374,14 +375,16 @@ def test_a_failure_part_way_leaves_earlier_files_complete(mains, tmp_path, monke
             raise OSError(28, "No space left on device")
         real_fsync(fd)
 
+    (tmp_path / "mine.txt").write_text("earlier")
     monkeypatch.setattr(files.os, "fsync", fsync_failing_on_the_third)
-    with pytest.raises(OutputError, match="No space left on device") as caught:
-        export(mains, csv=tmp_path)
-    written = sorted(p.name for p in tmp_path.iterdir())
-    assert written == ["bom.csv", "ranking.csv"] and "ranking.csv" in str(caught.value)
+    with pytest.raises(OutputError, match="No space left on device"):
+        export(mains, csv=tmp_path / "tables", xlsx=tmp_path / "study.xlsx")
+    assert len(calls) == 3 and sorted(p.name for p in tmp_path.iterdir()) == ["mine.txt"]
+    monkeypatch.setattr(files.os, "fsync", real_fsync)
+    export(mains, csv=tmp_path / "tables")
     expected = study_tables(mains)
     for name in ("ranking", "bom"):
-        pd.testing.assert_frame_equal(pd.read_csv(tmp_path / f"{name}.csv"),
+        pd.testing.assert_frame_equal(pd.read_csv(tmp_path / "tables" / f"{name}.csv"),
                                       pd.read_csv(io.StringIO(expected[name].to_csv(index=False))))
 
 

@@ -4,16 +4,18 @@ function and formats its result. Heavy modules are imported inside commands so t
 from __future__ import annotations
 
 import functools
+import signal
 import sys
 
 import click
 
-from tradeoff.errors import EXIT_INTERNAL, TradeoffError
+from tradeoff.errors import EXIT_INTERNAL, Interrupted, TradeoffError
 
 
 def _translate_errors(func):
     """Turn library errors into `Error: ...` on stderr with the error's exit code, never a traceback;
-    anything else is an internal error (exit 4), reported in one line."""
+    Ctrl-C, SIGTERM or SIGHUP exits 128 + the signal number; anything else is an internal error
+    (exit 4), reported in one line."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
@@ -22,7 +24,11 @@ def _translate_errors(func):
         except TradeoffError as exc:
             click.echo(f"Error: {exc}", err=True)
             sys.exit(exc.exit_code)
-        except (click.exceptions.Exit, click.ClickException, KeyboardInterrupt):
+        except (Interrupted, KeyboardInterrupt) as exc:  # output writing cleans up before this
+            signum = getattr(exc, "signum", signal.SIGINT)
+            click.echo(f"Error: interrupted by {signal.Signals(signum).name}; no partial output was left", err=True)
+            sys.exit(128 + signum)
+        except (click.exceptions.Exit, click.ClickException):
             raise
         except Exception as exc:  # a bug: one line, a distinct exit code
             click.echo(f"Error: internal error ({exc.__class__.__name__}: {str(exc)[:300]}); this is a bug in "
@@ -30,6 +36,11 @@ def _translate_errors(func):
             sys.exit(EXIT_INTERNAL)
 
     return wrapper
+
+
+OUTPUT_PATH = click.Path()
+"""An output file or folder: checked by tradeoff.report.files (a refusal exits 3, naming the path), not by
+click (whose refusal would read as an input error)."""
 
 
 def catalog_option(func):
@@ -153,18 +164,18 @@ def catalog_command(query, catalogs):
 @click.option("--samples", type=click.IntRange(100, 10_000_000), default=None,
               help="Monte Carlo samples per design (overrides the brief's analysis.samples).")
 @click.option("--seed", type=int, default=None, help="Monte Carlo seed (overrides the brief's analysis.seed).")
-@click.option("--xlsx", "xlsx_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--xlsx", "xlsx_path", type=OUTPUT_PATH, default=None,
               help="Write the workbook (ranking, BOMs, corners, Monte Carlo, infeasible, brief, cautions).")
-@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--csv", "csv_dir", type=OUTPUT_PATH, default=None,
               help="Write the workbook's tables as CSV files, one per sheet, into this folder.")
-@click.option("--plots", "plots_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--plots", "plots_dir", type=OUTPUT_PATH, default=None,
               help="Write waveform, Monte Carlo histogram and Pareto plots (PNG and SVG) into this folder.")
-@click.option("--netlist", "netlist_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--netlist", "netlist_dir", type=OUTPUT_PATH, default=None,
               help="Write each feasible design's SPICE netlist (DESIGN.cir) into this folder.")
-@click.option("--review", "review_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--review", "review_dir", type=OUTPUT_PATH, default=None,
               help="Write the full review set into this folder: review.html, report.txt, study.json, study.xlsx, "
                    "tables/, plots/, netlists/.")
-@click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--html", "html_path", type=OUTPUT_PATH, default=None,
               help="Write the review page (one self-contained HTML file, no network needed) here.")
 @width_option
 @click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
@@ -292,7 +303,7 @@ def analyze_command(design, output_format, samples, seed, catalogs):
 
 @cli.command("netlist")
 @click.argument("design", type=click.Path(dir_okay=False))
-@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None,
+@click.option("-o", "--output", type=OUTPUT_PATH, default=None,
               help="Write the netlist to this file (default: stdout).")
 @click.option("--force", is_flag=True, help="Replace the output file if it exists.")
 @catalog_option
@@ -338,9 +349,9 @@ def netlist_command(design, output, force, catalogs):
               help="Local worker processes (1 runs in this process).")
 @click.option("--scheduler", metavar="ADDRESS", default=None,
               help="Run on an existing Dask cluster at ADDRESS (pip install 'tradeoff[cluster]'); --jobs is ignored.")
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), default=None, help="Write the table as CSV.")
-@click.option("--xlsx", "xlsx_path", type=click.Path(dir_okay=False), default=None, help="Write the table as a workbook.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), default=None,
+@click.option("--csv", "csv_path", type=OUTPUT_PATH, default=None, help="Write the table as CSV.")
+@click.option("--xlsx", "xlsx_path", type=OUTPUT_PATH, default=None, help="Write the table as a workbook.")
+@click.option("--plot", "plot_path", type=OUTPUT_PATH, default=None,
               help="Write the decision map (.png or .svg): the winner over one or two varied fields.")
 @format_option
 @click.option("--only", multiple=True, metavar="TOPOLOGY",

@@ -27,6 +27,7 @@ __all__ = [
     "SimulatorError",
     "OutputError",
     "RankingError",
+    "Interrupted",
 ]
 
 
@@ -120,3 +121,14 @@ class OutputError(TradeoffError, OSError):
 
 class RankingError(TradeoffError, ValueError):
     """Designs or weights handed to the ranking cannot be ranked (infeasible design, bad criteria, no weight)."""
+
+
+class Interrupted(BaseException):
+    """SIGTERM or SIGHUP arrived while output files were written (a BaseException, like Ctrl-C's
+    KeyboardInterrupt, so clean-up runs); the signal number is `signum`."""
+
+    def __init__(self, signum: int):
+        import signal
+
+        super().__init__(f"interrupted by {signal.Signals(signum).name}")
+        self.signum = signum

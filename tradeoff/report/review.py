@@ -1,11 +1,12 @@
 """The review set of a study, and the study's file exports in one call.
 
-`export(result, xlsx=..., csv=..., plots=..., netlists=..., review=..., force=...)` first checks
-every target (an existing file without `force`, or two exports naming one file, refuses before
-anything is drawn or written), then builds the files in memory and writes them with
-`files.write_all`: each atomically (temporary file and rename), so none is ever half-written, and a
-failure part-way leaves the files already written complete. Directories given for CSV, plots,
-netlists and the review set are created if missing.
+`export(result, xlsx=..., csv=..., plots=..., netlists=..., review=..., force=...)` plans every
+file with the function that makes it and hands them to `files.write_all`, which checks every target
+first (an existing file without `force`, a special file, an unwritable place, or two exports naming
+one file refuses before anything is drawn, written or created), makes each file into a staging
+folder and moves the set into place at the end; an error or interruption leaves no partial set.
+Directories given for CSV, plots, netlists and the review set are created if missing. A new export
+added to `_planned_review` gets all of this by being in the plan.
 
 The review set (`review=DIR`) is, with fixed names:
 
@@ -29,7 +30,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Callable
 
 from tradeoff.errors import OutputError
-from tradeoff.report.files import check_writable, write_all
+from tradeoff.report.files import write_all
 from tradeoff.report.tables import TABLES, csv_files, design_stem, study_tables
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -82,19 +83,6 @@ def netlist_files(result: "StudyResult", directory: str | Path) -> tuple[dict[Pa
         else:
             files[Path(directory) / f"{design_stem(name)}.cir"] = netlist
     return files, without
-
-
-def _directory(path: str | Path) -> Path:
-    """`path` as an existing directory (created with its parents if missing); OutputError otherwise."""
-    target = Path(path)
-    if target.exists() and not target.is_dir():
-        raise OutputError(f"{target}: is a file; accepted: a directory (it is created if missing)")
-    try:
-        target.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OutputError(f"{target}: cannot create the directory ({exc.strerror or exc.__class__.__name__})") \
-            from None
-    return target
 
 
 Maker = Callable[[], "str | bytes"]
@@ -170,13 +158,12 @@ def export(result: "StudyResult", *, xlsx: str | Path | None = None, csv: str | 
     if review is not None:
         found, without = _planned_review(result, review, tables)
         planned += found.items()
-    _check_targets([path for path, _ in planned], folders, force)
-    return Export(written=write_all([(path, make()) for path, make in planned], force), without_netlist=without)
+    _check_distinct([path for path, _ in planned])
+    return Export(written=write_all(planned, force, folders), without_netlist=without)
 
 
-def _check_targets(paths: list[Path], folders: list[Path], force: bool) -> None:
-    """OutputError when two exports would write the same file (e.g. --csv DIR inside the --review
-    folder); then create the output `folders` and raise OutputError if a target may not be written."""
+def _check_distinct(paths: list[Path]) -> None:
+    """OutputError when two exports would write the same file (e.g. --csv DIR inside the --review folder)."""
     seen: set[Path] = set()
     for path in paths:
         if path.resolve() in seen:
@@ -184,7 +171,3 @@ def _check_targets(paths: list[Path], folders: list[Path], force: bool) -> None:
                               "separate folders for --csv, --plots, --netlist and --review, and files for --xlsx and --html "
                               "outside the --review folder")
         seen.add(path.resolve())
-    for folder in folders:
-        _directory(folder)
-    for path in paths:
-        check_writable(path, force)
