@@ -16,9 +16,8 @@ from tradeoff.catalog import load_catalog
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.registry import build_topology
 from tradeoff.devices.oscillator import crystal_period_s, rc_period_s, threshold_factor
-from tradeoff.topologies.ripple_counter import (
-    NODE_DROP_V, RS_MIN_OHM, decoded_count, oscillator_netlist, output_bit, parse_decode, stage_factor,
-)
+from tradeoff.topologies.counter_chain import NODE_DROP_V, decoded_count, output_bit, parse_decode, stage_factor
+from tradeoff.topologies.rc_counter import RS_MIN_OHM, oscillator_netlist
 
 from conftest import EXAMPLES
 
@@ -183,7 +182,7 @@ def test_selection_tables_agree_with_evaluate(request, topology, decoded):
             # the pull-up in series with Rs + Rt lowers the latch current; the table keeps the bound
             # (V − Vf)/(Rs + Rt), at most the pull-up's share of the latch path above it
             counter = topo._counter(ev.design)
-            rp = topo._pullup_ohm(counter, topo._plan(counter))
+            rp = topo._pullup_ohm(counter, topo.plan(counter))
             latch = (12.0 - topo._vf()) / float(o.latch_path_ohm)
             assert after >= ev.standby.after_a
             assert after - ev.standby.after_a == pytest.approx(latch * rp / (rp + o.latch_path_ohm), rel=1e-9)
@@ -307,7 +306,7 @@ def test_decoded_parts_and_currents(xtal):
     with pytest.raises(Exception, match="decode"):
         xtal.periods(dataclasses.replace(plain, options={**plain.options, "decode": "Q12 of U2"}))
     counter = xtal._counter(dec)
-    plan = xtal._plan(counter)
+    plan = xtal.plan(counter)
     rp, vf, v = xtal._pullup_ohm(counter, plan), xtal._vf(), 12.0
     bom = {b.refs: b for b in xtal.bom(dec)}
     assert bom["D11, D12"].quantity == 2 and bom["R12"].part.startswith("res")
@@ -332,7 +331,7 @@ def test_decoded_rc_needs_a_latch_path_the_pull_up_can_hold(rc):
     # the latch current (V − Vf)/(Rp + Rs + Rt) through the pull-up must leave the node within NODE_DROP_V
     # of the rail (common practice), so Rs + Rt >= Rp·(Vmax − Vf − drop)/drop: small Rt fails, large passes
     counter = rc._counter(_rc_design())
-    plan = rc._plan(counter)
+    plan = rc.plan(counter)
     rp = rc._pullup_ohm(counter, plan)
     need = rp * (14.0 - rc._vf() - NODE_DROP_V) / NODE_DROP_V
     for rt, ok in ((100e3, False), (680e3, True)):
@@ -359,7 +358,7 @@ def test_supply_above_rating_gets_a_logic_rail(catalog):
     assert len(model.blocks[0].table) and len(model.blocks[1].table) and model.rails == 2
     ldo = catalog.part("ldo-micropower")
     d = _rc_design(rt=470e3, ct=1e-6, stage=14, cascade=1, link=12)
-    plan = topo._plan(topo._counter(d))
+    plan = topo.plan(topo._counter(d))
     assert plan.rail.regulator.id == ldo.id and plan.rail.nominal_v == 3.3 and plan.switch.kind == "inverted-n-mosfet"
     assert topo.rails(d) == 2
     bom = {b.refs: b for b in topo.bom(d)}
@@ -379,7 +378,7 @@ def test_large_dc_load_gets_a_p_mosfet_with_its_dissipation_check(catalog, tmp_p
     brief = load_brief(EXAMPLES / "propagator_mat.yaml")
     topo = build_topology("crystal-counter", brief, catalog)
     d = _xtal_design()
-    plan = topo._plan(topo._counter(d))
+    plan = topo.plan(topo._counter(d))
     fet = catalog.part("mosfet-p-logic-power")
     assert plan.switch.kind == "p-mosfet" and {b.refs: b for b in topo.bom(d)}["Q1"].part == fet.id
     r_hot = 0.1 * (1 + 0.005 * (150 - 25))

@@ -15,8 +15,10 @@ from tradeoff.devices.capacitor import (
 )
 from tradeoff.devices.comparator import threshold_v
 from tradeoff.devices.junction import thermal_voltage_v
-from tradeoff.devices.mosfet import drain_current_a, gate_voltage_for_a, k_at, on_state_drop_v, vto_v
-from tradeoff.devices.oscillator import crystal_frequency, crystal_period_s, rc_band, threshold_factor
+from tradeoff.devices.mosfet import drain_current_a, gate_voltage_for_a, k_at, on_state_drop_v, rds_on_at_ohm, vto_v
+from tradeoff.devices.oscillator import (
+    crystal_frequency, crystal_period_s, rc_band, rc_half_periods_s, rc_junction_v, threshold_factor,
+)
 from tradeoff.devices.quadrature import discharge_time_s, evaluate_in_chunks
 from tradeoff.devices.relay import coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a
 from tradeoff.devices.start import (
@@ -178,6 +180,12 @@ def test_mobility_law_and_linear_region_drop():
     assert on_state_drop_v(1.0, 0.2, 0.2) == math.inf    # above K (Vgs - Vt)^2 / 2 = 0.1 A
 
 
+def test_on_resistance_rises_linearly_from_its_25_degree_rating():
+    # power MOSFET datasheets' normalised R_DS(on) curve read as a line: +0.5 %/K doubles it 200 K above 25 degC
+    assert float(rds_on_at_ohm(0.1, 0.005, 225.0)) == pytest.approx(0.2, rel=1e-12)
+    assert float(rds_on_at_ohm(0.1, 0.005, 25.0)) == 0.1
+
+
 # ---- relay -------------------------------------------------------------------------------------------------
 
 def test_relay_release_current_coil_tempco_and_dissipation_peak():
@@ -214,6 +222,27 @@ def test_threshold_formula_at_half_supply():
     assert float(threshold_factor(0.5)) == pytest.approx(2.197, abs=5e-4)
     v = np.array([0.2, 0.3, 0.4, 0.6, 0.7, 0.8])
     assert np.allclose(threshold_factor(v), threshold_factor(1 - v)) and np.all(threshold_factor(v) > 2.197)
+
+
+@pytest.mark.parametrize("v", [0.3, 0.5, 0.7])
+def test_junction_waveform_against_solve_ivp(v):
+    # the two half-periods add to tau·F(v); the junction follows scipy solve_ivp of Ct's charge (ideal
+    # inverters: Rt from the first output, Ct from the second, Rs carrying no current) and reaches Vt at the
+    # end of each half
+    tau, vdd = 1e-3, 12.0
+    vt = v * vdd
+    t1, t2 = rc_half_periods_s(tau, vdd, vt)
+    assert t1 + t2 == pytest.approx(tau * float(threshold_factor(v)), rel=1e-12)
+    # Rt carries (V(o1) - x)/Rt into Ct while V(o2) holds: dx/dt = (V(o1) - x)/tau; rising half V(o1) = VDD
+    # from x = Vt - VDD, falling half V(o1) = 0 from x = Vt + VDD
+    rise = solve_ivp(lambda t, x: [(vdd - x[0]) / tau], (0, t1), [vt - vdd], rtol=1e-11, atol=1e-12, dense_output=True)
+    fall = solve_ivp(lambda t, x: [-x[0] / tau], (0, t2), [vt + vdd], rtol=1e-11, atol=1e-12, dense_output=True)
+    t = np.linspace(0, t1 * 0.999, 7)
+    assert np.allclose(rc_junction_v(t, tau, vdd, vt), rise.sol(t)[0], atol=1e-7)
+    t = np.linspace(0, t2 * 0.999, 7)
+    assert np.allclose(rc_junction_v(t1 + t, tau, vdd, vt), fall.sol(t)[0], atol=1e-7)
+    assert float(rc_junction_v(t1 * (1 - 1e-12), tau, vdd, vt)) == pytest.approx(vt, rel=1e-9)
+    assert float(rc_junction_v(t1 + t2 - 1e-15, tau, vdd, vt)) == pytest.approx(vt, rel=1e-6)
 
 
 # Factory-trimmed internal RC, a small 8-bit microcontroller family's datasheet (electrical characteristics): +/-1 % at 25 degC,

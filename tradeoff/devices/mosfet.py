@@ -4,13 +4,14 @@ against temperature, drain current and its inverse, and the on-state drop in the
 Arrays in, arrays out (SI units). Id = K/2·(Vgs − Vto)² in saturation and
 Id = K·((Vgs − Vto)·Vds − Vds²/2) in the linear region (Sedra and Smith, Microelectronic Circuits);
 the datasheet's VGS(th) at its test current fixes Vto; K scales as (T/T0)^exponent (carrier
-mobility, the exponent from the catalog class).
+mobility, the exponent from the catalog class). R_DS(on) rises linearly with junction temperature from its
+25 degC rating (power MOSFET datasheets' normalised on-resistance curve, read as a straight line).
 """
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["k_at", "vto_v", "drain_current_a", "gate_voltage_for_a", "on_state_drop_v"]
+__all__ = ["k_at", "vto_v", "drain_current_a", "gate_voltage_for_a", "on_state_drop_v", "rds_on_at_ohm"]
 
 
 def k_at(k_25c, temp_c, exponent):
@@ -41,3 +42,9 @@ def on_state_drop_v(overdrive_v, k_a_per_v2, current_a):
     the saturation current K (Vgs - Vt)^2 / 2."""
     disc = overdrive_v * overdrive_v - 2.0 * current_a / k_a_per_v2
     return overdrive_v - disc ** 0.5 if overdrive_v > 0 and disc >= 0 else float("inf")
+
+
+def rds_on_at_ohm(rds_on_25c_ohm, tempco_per_k, temp_c):
+    """On-resistance at junction temperature `temp_c` [degC] from its 25 degC rating [ohm]:
+    R_DS(on)·(1 + tempco·(T − 25)) (datasheets' normalised on-resistance against temperature)."""
+    return rds_on_25c_ohm * (1.0 + tempco_per_k * (np.asarray(temp_c, dtype=float) - 25.0))

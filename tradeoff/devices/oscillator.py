@@ -11,7 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["threshold_factor", "rc_period_s", "crystal_frequency", "crystal_period_s", "rc_band"]
+__all__ = ["threshold_factor", "rc_period_s", "rc_half_periods_s", "rc_junction_v", "rc_running_current_a",
+           "crystal_frequency", "crystal_period_s", "rc_band"]
 
 
 def threshold_factor(vt_frac):
@@ -23,6 +24,30 @@ def threshold_factor(vt_frac):
 def rc_period_s(rt_ohm, ct_f, k, vt_frac, vt_typ_frac=0.5):
     """Oscillator period [s]: the datasheet's k·Rt·Ct at the typical threshold, scaled by F(v)/F(v_typ)."""
     return k * np.asarray(rt_ohm) * ct_f * threshold_factor(vt_frac) / threshold_factor(vt_typ_frac)
+
+
+def rc_half_periods_s(tau_s, vdd_v, vt_v) -> tuple[float, float]:
+    """Durations [s] of the two half-periods of an ideal two-inverter RC oscillator with time constant
+    Rt·Ct = tau_s, supply vdd_v and threshold vt_v [V]: the Rt–Ct junction rises from Vt − VDD to Vt
+    in tau·ln((2·VDD − Vt)/(VDD − Vt)), then falls from Vt + VDD to Vt in tau·ln((VDD + Vt)/Vt)
+    (standard circuit analysis; their sum is tau·F(Vt/VDD))."""
+    return tau_s * np.log((2 * vdd_v - vt_v) / (vdd_v - vt_v)), tau_s * np.log((vdd_v + vt_v) / vt_v)
+
+
+def rc_junction_v(t_s, tau_s, vdd_v, vt_v) -> np.ndarray:
+    """Voltage [V] at the Rt–Ct junction of an ideal two-inverter RC oscillator at times t_s [s] from a
+    switching instant (junction just jumped to Vt − VDD): exponential approach to VDD, then to 0 after
+    the jump to Vt + VDD, each ending at the threshold Vt (standard circuit analysis)."""
+    t1, t2 = rc_half_periods_s(tau_s, vdd_v, vt_v)
+    phase = np.mod(np.asarray(t_s, dtype=float), t1 + t2)
+    return np.where(phase < t1, vdd_v - (2 * vdd_v - vt_v) * np.exp(-phase / tau_s),
+                    (vdd_v + vt_v) * np.exp(-(phase - t1) / tau_s))
+
+
+def rc_running_current_a(ct_f, vdd_v, period_s):
+    """Supply current of a running two-inverter RC oscillator [A]: the inverters move 2·Ct·VDD of charge
+    from the supply each period (standard circuit analysis: Ct's plate swings by VDD twice a period)."""
+    return 2.0 * ct_f * vdd_v / period_s
 
 
 def crystal_frequency(f0_hz, tolerance_frac, aging_frac, k_per_k2, temp_c, turnover_c) -> np.ndarray:

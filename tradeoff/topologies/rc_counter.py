@@ -1,0 +1,217 @@
+"""Ripple counter clocked by its on-chip RC oscillator (`rc-counter`): two inverters with threshold
+Vt, timing resistor Rt, timing capacitor Ct and series resistor Rs ≈ 2·Rt (4060-type datasheets).
+
+T = Rt·Ct·F(Vt/VDD) (tradeoff.devices.oscillator); the class's datasheet constant k (f = 1/(k·Rt·Ct))
+fixes the period at the typical threshold and the threshold's spread scales it by F(v)/F(v_typ).
+F is smallest at v = 1/2, an interior point the corner search is told about. The counter chain,
+decode, latch, rail and load switch are the shared counter frame (tradeoff.topologies.ripple_counter).
+"""
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Mapping
+
+import numpy as np
+import pandas as pd
+
+from tradeoff import eseries
+from tradeoff.analysis import Uncertain
+from tradeoff.devices.oscillator import (
+    rc_half_periods_s, rc_junction_v, rc_period_s, rc_running_current_a, threshold_factor,
+)
+from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
+from tradeoff.topologies.counter_switch import CounterPlan
+from tradeoff.topologies.ic_common import (
+    at_temperature, drop_dominated, fixed_part, role_bom, role_part, timing_candidates, value_spread,
+    TEMPCO_REFERENCE_C,
+)
+from tradeoff.topologies.ripple_counter import CounterTimer
+
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.catalog import Part
+
+__all__ = ["RCCounter", "oscillator_netlist", "RS_MIN_OHM", "RT_RANGE_OHM", "CT_MIN_F"]
+
+RT_RANGE_OHM = (10e3, 1e6)
+"""Timing resistor range of the RC oscillator [ohm] (4060-type datasheets, docs/references.md)."""
+
+CT_MIN_F = 100e-12
+"""Smallest timing capacitor of the RC oscillator [F] (4060-type datasheets: at least 50 to 100 pF)."""
+
+CT_MAX_F = 10e-6
+"""Largest timing capacitor considered [F]: the largest non-polarised class (Ct's voltage reverses)."""
+
+RS_MIN_OHM = 10e3
+"""Smallest series resistor at the oscillator input [ohm] (4060-type datasheets: Rs about 2·Rt, at least 10 kohm)."""
+
+_RT = Role("r_timing", "resistor", *RT_RANGE_OHM, "oscillator timing resistor Rt")
+_CT = Role("c_timing", "capacitor", CT_MIN_F, CT_MAX_F, "oscillator timing capacitor Ct", ("film", "ceramic"))
+
+
+def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, vt_frac: float, title: str,
+                       periods_to_delay: float | None = None) -> str:
+    """Behavioural two-inverter RC oscillator: steep tanh inverters sharing the threshold Vt (one die), Rt from the
+    first inverter's output to the Ct junction, Ct from the second inverter's output, Rs into the
+    first inverter's input. `.measure` prints `period` [s] (and `delay` = period·periods_to_delay)."""
+    tau = rt_ohm * ct_f
+    period = tau * float(threshold_factor(vt_frac))
+    stop = 7.0 * period
+    gain = 2000.0 / vdd_v   # steep enough that switching adds under 0.1 % to the period
+    lines = [
+        f"* {title}",
+        "* behavioural two-inverter RC oscillator (CMOS counter's on-chip inverters, threshold Vt)",
+        f"vdd vdd 0 dc {vdd_v:.6g}",
+        f"b1 o1 0 v = {vdd_v / 2:.9g} * (1 - tanh({gain:.6g} * (v(in) - {vt_frac * vdd_v:.9g})))",
+        f"b2 o2 0 v = {vdd_v / 2:.9g} * (1 - tanh({gain:.6g} * (v(o1) - {vt_frac * vdd_v:.9g})))",
+        f"rt o1 x {rt_ohm:.6g}",
+        f"ct o2 x {ct_f:.6g} ic=0",
+        f"rs x in {rs_ohm:.6g}",
+        "cin in 0 1f",
+        f".tran {period / 2000:.6g} {stop:.6g} 0 {period / 2000:.6g} uic",
+        # x jumps from Vt to Vt + VDD once a period: the only upward crossing of Vt + VDD/2
+        f".measure tran t3 when v(x)={(vt_frac + 0.5) * vdd_v:.6g} rise=3",
+        f".measure tran t5 when v(x)={(vt_frac + 0.5) * vdd_v:.6g} rise=5",
+        ".measure tran period param='(t5-t3)/2'",
+    ]
+    if periods_to_delay is not None:
+        lines.append(f".measure tran delay param='(t5-t3)/2*{periods_to_delay:.17g}'")
+    return "\n".join([*lines, ".end", ""])
+
+
+class RCCounter(CounterTimer):
+    """Ripple counter clocked by its on-chip RC oscillator (Rt, Ct, Rs)."""
+
+    id = "rc-counter"
+    _OSC_OPTIONS = ("r_timing_part", "c_timing_part")
+    _DECODE_MAX_CASCADE = 0
+    """Decoding within one counter only: Rt and Ct already tune the delay finely, so decoded counts of a
+    cascade add thousands of table rows (and minutes of solver time) for little (a modelling choice)."""
+    option_parts = {**CounterTimer.option_parts, "r_timing_part": "resistor", "c_timing_part": "capacitor"}
+
+    def roles(self) -> list[Role]:
+        """Rt [ohm] and Ct [F] of the oscillator (Ct non-polarised: its voltage reverses every half-period)."""
+        return [_RT, _CT]
+
+    def rs_ohm(self, rt_ohm):
+        """Series resistor Rs: the brief's standard value nearest 2·Rt, at least 10 kohm [ohm]."""
+        return eseries.nearest(self.brief.series.resistor, np.maximum(2.0 * np.asarray(rt_ohm, dtype=float), RS_MIN_OHM))
+
+    def _threshold(self, counter: "Part") -> Uncertain:
+        lo, typ, hi = counter.value("vt_min", ""), counter.value("vt_typ", ""), counter.value("vt_max", "")
+        return Uncertain(typ, lo, hi, unit="fraction of VDD", critical=(0.5,),
+                         note=f"{counter.id}: inverter threshold between {lo:g} and {hi:g} of VDD "
+                              f"({counter.source('vt_min')}); F(v) is smallest at 1/2")
+
+    def _osc_uncertain(self, design: Design) -> dict[str, Uncertain]:
+        rt, ct = design.values["r_timing"], design.values["c_timing"]
+        return {**value_spread("r_timing", rt, role_part(self, design, _RT), "ohm"),
+                **value_spread("c_timing", ct, role_part(self, design, _CT), "F"),
+                "vt_frac": self._threshold(self._counter(design))}
+
+    def period_s(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """k·Rt·Ct·F(v)/F(v_typ) with Rt, Ct at the sample's ambient [s]."""
+        counter = self._counter(design)
+        return rc_period_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), counter.value("k", ""),
+                           x["vt_frac"], counter.value("vt_typ", ""))
+
+    def _osc_bom(self, design: Design) -> list[BomLine]:
+        rs = self.rs_ohm(design.values["r_timing"])
+        return [*role_bom(self, design, _RT, "R1", "oscillator timing resistor Rt"),
+                *role_bom(self, design, _CT, "C1", "oscillator timing capacitor Ct"),
+                fixed_part(self, "resistor", rs, "R2", "oscillator series resistor Rs (about 2·Rt)")]
+
+    def _currents_of(self, rt, ct, period, rail_v: float):
+        """Supply current of the running oscillator, 2·Ct·VDD per period, and the latch current
+        (VDD − Vf)/(Rs + Rt) after the timeout [A] on a `rail_v` [V] rail (standard circuit analysis)."""
+        return rc_running_current_a(ct, rail_v, period), (rail_v - self._vf()) / (self.rs_ohm(rt) + rt)
+
+    def _osc_running_a(self, design: Design, rail_v: float) -> float:
+        rt, ct = design.values["r_timing"], design.values["c_timing"]
+        period = self.period_s(design, {n: np.array([v]) for n, v in self.nominal_point(design).items()})[0]
+        return float(self._currents_of(rt, ct, period, rail_v)[0])
+
+    def _latch_path_ohm(self, design: Design) -> float:
+        """Rs + Rt: the latched input drives DC through them into the first inverter's low output [ohm]."""
+        rt = design.values["r_timing"]
+        return float(self.rs_ohm(rt) + rt)
+
+    def _osc_checks(self, design: Design) -> list[Finding]:
+        counter = self._counter(design)
+        return [Finding("info", "oscillator-constant",
+                        f"{counter.id}: k = {counter.value('k', ''):g} ({counter.source('k')})")]
+
+    def _osc_block(self, counters: list["Part"], plans: list[CounterPlan], dropped: dict[str, int]) -> pd.DataFrame:
+        """Every (counter class, Rt, Ct) with its period [s] at the worst corners and its currents on the
+        counter's rail; `latch_path_ohm` = Rs + Rt for the diode-AND link.
+
+        Within an ambient corner the period rises with Rt, Ct and |v − 1/2|; tempcos act with the
+        sign of T − 25 degC, so the extremes are the 2 ambient corners × monotone choices, with
+        the threshold at 1/2 (minimum of F) or at the limit farther from it (maximum)."""
+        rs, cs = (drop_dominated(timing_candidates(self, role, dropped), ("value",),
+                                 ("tolerance", "tempco", "cost", "placements"),
+                                 f"{role.description}: another class of the same value is as good or better in "
+                                 "tolerance, tempco, cost and parts", dropped) for role in (_RT, _CT))
+        env = self.environment()
+        tables = []
+        for index, (counter, plan) in enumerate(zip(counters, plans)):
+            vt = self._threshold(counter)
+            vt_corners = np.array(vt.corner_values())
+            f = threshold_factor(vt_corners) / threshold_factor(counter.value("vt_typ", ""))
+            k = counter.value("k", "")
+            for _, rg in rs.groupby("part", sort=False):
+                for _, cg in cs.groupby("part", sort=False):
+                    tables.append(self._rc_rows(index, plan.rail.nominal_v, k, f, rg, cg, env))
+        columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
+                   "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
+                   "counter_index", "latch_path_ohm"]
+        if not tables:
+            return pd.DataFrame(columns=columns)
+        return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
+                              ("delay_hi", "cost", "placements", "lines", "during_a", "after_a"),
+                              "oscillator: another Rt, Ct pair with the same nominal period is as good or better "
+                              "in spread, cost, parts, current and latch path", dropped,
+                              higher=("delay_lo", "latch_path_ohm"))
+
+    def _rc_rows(self, index, rail_v, k, f_corners, rg, cg, env) -> pd.DataFrame:
+        ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rg)), np.arange(len(cg)), indexing="ij"))
+        rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
+        r_tol, r_tc = rg["tolerance"].to_numpy()[ri], rg["tempco"].to_numpy()[ri]
+        c_tol, c_tc = cg["tolerance"].to_numpy()[ci], cg["tempco"].to_numpy()[ci]
+        base = k * rt * ct
+        lo, hi = np.full(len(rt), np.inf), np.zeros(len(rt))
+        for t in env["ambient_c"].corner_values():
+            dt = abs(t - TEMPCO_REFERENCE_C)
+            lo = np.minimum(lo, base * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt) * f_corners.min())
+            hi = np.maximum(hi, base * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt) * f_corners.max())
+        # nominal: tempcos at 0 and the threshold at its typical value, so F(v_typ)/F(v_typ) = 1
+        nom = base
+        running, latched = self._currents_of(rt, ct, nom, rail_v)
+        rs_part_cost = fixed_part(self, "resistor", RS_MIN_OHM, "R2", "Rs").unit_cost
+        first, second = rg["first"].to_numpy()[ri], rg["second"].to_numpy()[ri]
+        return pd.DataFrame({
+            "delay_lo": lo, "delay_nom": nom, "delay_hi": hi,
+            "cost": rg["cost"].to_numpy()[ri] + cg["cost"].to_numpy()[ci] + rs_part_cost,
+            "placements": rg["placements"].to_numpy()[ri] + 2,
+            "lines": np.where((second > 0) & (first != second), 2, 1) + 2,
+            "during_a": running, "after_a": latched, "r_timing": rt, "c_timing": ct,
+            "r_timing_part": rg["part"].iat[0], "c_timing_part": cg["part"].iat[0],
+            "r_timing_first": first, "r_timing_second": second, "counter_index": float(index),
+            "latch_path_ohm": self.rs_ohm(rt) + rt,
+        })
+
+    def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
+        """Voltage at the Rt–Ct junction over three periods (ideal inverters), with the threshold Vt."""
+        point = {n: np.array([float(v)]) for n, v in x.items()}
+        rt, ct = float(at_temperature(point, "r_timing")[0]), float(at_temperature(point, "c_timing")[0])
+        vdd, v = float(x["supply_v"]), float(x["vt_frac"])
+        tau, vt = rt * ct, v * vdd
+        t = np.linspace(0.0, 3 * sum(rc_half_periods_s(tau, vdd, vt)), 600)
+        return Waveform(t, rc_junction_v(t, tau, vdd, vt), "Rt–Ct junction voltage (first 3 oscillator periods)", "V", vt,
+                        "inverter threshold Vt")
+
+    def spice(self, design: Design) -> str | None:
+        """Behavioural two-inverter oscillator at nominal values; `delay` = period·(periods to the timeout)."""
+        counter = self._counter(design)
+        rt, ct = design.values["r_timing"], design.values["c_timing"]
+        return oscillator_netlist(rt, ct, self.rs_ohm(rt), self.brief.supply.nominal_v, counter.value("vt_typ", ""),
+                                  f"{self.id}: {self.brief.title}", float(self.periods(design)))
+
