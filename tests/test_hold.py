@@ -5,7 +5,7 @@ import pytest
 
 from tradeoff.errors import DesignError
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.hold import shunt_ohm
+from tradeoff.topologies.hold_state import shunt_ohm
 
 
 def test_shunt_option_parsing():

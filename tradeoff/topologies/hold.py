@@ -2,188 +2,39 @@
 
 An RC-hold timer charges a hold capacitor at the start and ends when the capacitor has discharged
 far enough for the output stage (a Darlington base, a MOSFET gate) to let the relay go. The frame
-holds what every such topology shares: the hold state of a batch of samples, the component bands,
-the optional shunt across the capacitor (design option `shunt` [ohm], e.g. a 10 MΩ meter), the
-start (`devices.start`), the capacitor's leakage (`devices.capacitor`), the relay's release
-(`devices.relay`), BOM, standby, design rules, optimiser blocks and the SPICE skeleton. The
-topology modules supply the driver: its load law and its release condition.
+holds what every such topology shares: the part classes, the relay's release band (`devices.relay`),
+the component spreads, the capacitor's leakage (`devices.capacitor`), BOM, standby, design rules and
+the SPICE skeleton; its seams live beside it: the hold state and the shunt option (`hold_state`), the
+start network (`hold_start`, laws in `devices.start`), the bands and candidate pairs (`bands`) and
+the optimiser blocks (`hold_tables`). The topology modules supply the driver: its load law and its
+release condition.
 """
 from __future__ import annotations
 
-import itertools
 import math
-from dataclasses import dataclass, field
 from abc import abstractmethod
-from typing import TYPE_CHECKING, Any, Callable, ClassVar, Mapping
+from typing import TYPE_CHECKING, ClassVar, Mapping
 
 import numpy as np
-import pandas as pd
 
-from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage, band_frac
-from tradeoff.devices.junction import hfe_at, hfe_spread, thermal_voltage_v, vbe_at_v
+from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
+from tradeoff.devices.junction import hfe_spread, thermal_voltage_v, vbe_at_v
 from tradeoff.devices.quadrature import evaluate_in_chunks
 from tradeoff.devices.relay import coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a
-from tradeoff.devices.start import (
-    CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS, StartPulse, button_start_v, charge_window_s, pnp_base_currents,
-    power_on_start,
-)
 from tradeoff.analysis import Uncertain
-from tradeoff.candidates import role_candidates
-from tradeoff.errors import DesignError, UnitParseError
-from tradeoff.topologies.base import BomLine, Finding, Topology, Waveform
+from tradeoff.errors import DesignError
+from tradeoff.topologies.bands import component_band
+from tradeoff.topologies.base import BomLine, Finding, Topology
+from tradeoff.topologies.hold_start import start_checks, start_leakage_a, start_voltage
+from tradeoff.topologies.hold_state import HoldState, HoldWaveform, option, shunt_ohm
+from tradeoff.topologies.hold_tables import hold_selection
 
-__all__ = ["shunt_ohm", "shunt_current_a", "component_band", "hold_pairs", "HoldWaveform", "Dropped", "option",
-           "HoldState", "RcHoldTopology"]
+__all__ = ["RcHoldTopology"]
 
 if TYPE_CHECKING:  # pragma: no cover
-    from tradeoff.brief import Brief
-    from tradeoff.catalog import Catalog, Part
-    from tradeoff.topologies.base import Design, Role
-
-
-def shunt_ohm(design: "Design") -> float | None:
-    """External shunt across the hold capacitor from design option `shunt` [ohm]; None when absent."""
-    raw = design.options.get("shunt")
-    if raw in (None, 0, "", "none"):
-        return None
-    if isinstance(raw, str):
-        from tradeoff.units import parse_quantity
-        try:
-            value = parse_quantity(raw, "ohm")
-        except UnitParseError as exc:
-            raise DesignError.single("design", "options.shunt", f"{exc}; accepted: a resistance such as "
-                                     "'10 Mohm', or none") from None
-    else:
-        value = float(raw)
-    if not (math.isfinite(value) and value > 0):
-        raise DesignError.single("design", "options.shunt", f"{raw!r} is not a positive resistance; "
-                                 "accepted: a resistance such as '10 Mohm', or none")
-    return value
-
-
-def shunt_current_a(v, shunt: float | None):
-    """Current through the optional shunt [A] at capacitor voltage v [V] (0 without one)."""
-    return 0.0 if shunt is None else np.asarray(v, dtype=float) / shunt
-
-
-# ---- component bands and candidate pairs --------------------------------------------------------
-
-def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Uncertain:
-    """Value spread of a resistor or capacitor [ohm or F]: tolerance plus tempco over the brief's ambient
-    range (`devices.capacitor.band_frac`), uniform."""
-    spread = band_frac(part.value("tolerance", ""), part.value("tempco", "1/K"), brief.ambient.min_c,
-                       brief.ambient.max_c)
-    if not spread < 1:  # the value could reach zero: a part no model can use
-        raise part.param_error("tolerance", f"tolerance plus tempco over the ambient range make a band of "
-                                           f"±{spread * 100:.0f} %, so the value could reach zero; accepted: a band "
-                                           "below 100 %")
-    return Uncertain(value, value * (1 - spread), value * (1 + spread), unit=note.split(":")[0],
-                     note=f"{note}: {part.id} tolerance ± tempco over the ambient range (uniform)")
-
-
-def hold_pairs(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog",
-               r_classes: list["Part"] | None = None, c_classes: list["Part"] | None = None) -> pd.DataFrame:
-    """Every (resistor, capacitor) candidate pair of two value roles, one row each.
-
-    Columns: <r_role>, <c_role> (values [ohm], [F]), r_part, c_part, r_spread, c_spread (band
-    fractions as in `component_band`), c_rated_v [V], cost [EUR], placements, first/second
-    series parts of the resistor (r_first, r_second).
-    """
-    r = role_candidates(r_role, brief, catalog, r_classes)
-    c = role_candidates(c_role, brief, catalog, c_classes)
-    amb = brief.ambient
-    ri, ci = np.meshgrid(np.arange(len(r)), np.arange(len(c)), indexing="ij")
-    ri, ci = ri.ravel(), ci.ravel()
-    rr, cc = r.iloc[ri].reset_index(drop=True), c.iloc[ci].reset_index(drop=True)
-    return pd.DataFrame({
-        r_role.name: rr["value"].to_numpy(float), c_role.name: cc["value"].to_numpy(float),
-        "r_part": rr["part"].to_numpy(), "c_part": cc["part"].to_numpy(),
-        "r_spread": band_frac(rr["tolerance"], rr["tempco"], amb.min_c, amb.max_c).to_numpy(float),
-        "c_spread": band_frac(cc["tolerance"], cc["tempco"], amb.min_c, amb.max_c).to_numpy(float),
-        "c_rated_v": cc["rated_v"].to_numpy(float),
-        "cost": (rr["cost"] + cc["cost"]).to_numpy(float),
-        "placements": (rr["placements"] + cc["placements"]).to_numpy(int),
-        "r_first": rr["first"].to_numpy(float), "r_second": rr["second"].to_numpy(float),
-    }).query("r_spread < 1 and c_spread < 1").reset_index(drop=True)  # a band of 100 % could reach zero
-
-
-class Dropped(dict):
-    """Candidates removed by a design rule, counted by reason (becomes Block.dropped)."""
-
-    def drop(self, mask: np.ndarray, reason: Callable[[np.ndarray], str]) -> np.ndarray:
-        """Count the rows `mask` removes under the reason text `reason(mask)`; return the keep mask."""
-        mask = np.asarray(mask, dtype=bool)
-        if mask.any():
-            text = reason(mask)
-            self[text] = self.get(text, 0) + int(mask.sum())
-        return ~mask
-
-
-@dataclass(frozen=True)
-class HoldWaveform(Waveform):
-    """A hold waveform: capacitor voltage (the signal) plus the output current and the release point.
-
-    output_a: coil (collector or drain) current [A] at each time; release_s: the delay [s];
-    release_a: the release current [A].
-    """
-
-    output_a: np.ndarray = None
-    release_s: float = 0.0
-    release_a: float = 0.0
-
-
-def option(design: "Design", name: str, default: Any) -> Any:
-    """A design option with its default (topology entry or class default)."""
-    value = design.options.get(name)
-    return default if value in (None, "") else value
-
-
-# ---- the shared frame of the transistor RC holds ------------------------------------------------
-
-@dataclass
-class HoldState:
-    """One batch of hold evaluations (arrays broadcast over samples or candidates x corners).
-
-    r_ohm, c_f: hold resistor [ohm] and capacitor [F]; temp_c [degC]; supply_v [V]; release_a:
-    the unit's relay release current [A] (release_frac·Vc/R_coil at 25 degC); coil_ohm: coil resistance at temp_c [ohm]; leak with (a_typ, a_lim):
-    capacitor leakage law; shunt_ohm: external shunt or None; x: every sample quantity by name
-    (driver-specific ones included); driver: the driver part class; memo: per-sample arrays a driver
-    derives once per state (junction or gate parameters at the samples' temperature).
-    """
-
-    r_ohm: np.ndarray
-    c_f: np.ndarray
-    temp_c: np.ndarray
-    supply_v: np.ndarray
-    release_a: np.ndarray
-    coil_ohm: np.ndarray
-    leak: CapacitorLeakage
-    a_typ: np.ndarray
-    a_lim: np.ndarray
-    shunt_ohm: float | None
-    x: Mapping[str, np.ndarray]
-    driver: "Part"
-    memo: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
-
-    def leakage_a(self, v, scratch: bool = False) -> np.ndarray:
-        """Capacitor leakage plus shunt current at capacitor voltage v [V] [A].
-
-        v may carry one trailing axis more than the state's arrays (quadrature nodes). scratch: v is
-        the caller's temporary array, which may be clipped at 0 V in place (saves one array).
-        """
-        v = np.asarray(v, dtype=float)
-        a_typ, a_lim = np.asarray(self.a_typ), np.asarray(self.a_lim)
-        if v.ndim > a_typ.ndim:
-            a_typ, a_lim = a_typ[..., None], a_lim[..., None]
-        shunt = None if self.shunt_ohm is None else shunt_current_a(v, self.shunt_ohm)
-        out = self.leak.current_a(v, a_typ, a_lim, scratch)
-        if shunt is not None:
-            out += shunt
-        return out
-
-    def trail(self, name: str) -> np.ndarray:
-        """Sample quantity `name` with a trailing axis of length 1 (to broadcast against nodes)."""
-        return np.asarray(self.x[name], dtype=float)[..., None]
+    from tradeoff.catalog import Part
+    from tradeoff.selection import SelectionModel
+    from tradeoff.topologies.base import Design, Role, Standby
 
 
 CHATTER_RELEASE_TIMES = 10
@@ -196,10 +47,6 @@ DEFAULT_RELEASE_TIME_S = 5e-3
 
 DISSIPATION_DERATING = 0.5
 """Warn above half the derated dissipation rating (common practice)."""
-
-START_PNP_OFF_V = 0.3
-"""Design rule: the start capacitor's leakage across r_be must stay below 0.3 V so the start PNP stays
-off after its pulse (common practice: a silicon junction conducts negligibly below about 0.4 V)."""
 
 FLYBACK_REVERSE_FACTOR = 3.0
 """Flyback diode reverse rating of about 3 times the supply (relay manufacturers' application notes)."""
@@ -456,19 +303,6 @@ class RcHoldTopology(Topology):
                          np.asarray(x["supply_v"], dtype=float), self.release_current_a(x["release_frac"], coil),
                          self.coil_ohm_at(coil, temp), leak, a_typ, a_lim, shunt_ohm(design), x, self.driver(design))
 
-    def start(self, design: "Design", s: HoldState) -> tuple[np.ndarray, StartPulse | None]:
-        """Start voltage of the hold capacitor [V] and, for the power-on start, its pulse."""
-        if not self.power_on:
-            return button_start_v(s.supply_v, self.diode(design).value("vf", "V")), None
-        pnp = self.pnp(design)
-        veb = vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), s.temp_c)
-        vce = pnp.value("vce_sat", "V")
-        top = np.maximum(s.supply_v - vce, 0.0)
-        hfe = hfe_at(s.x["start_hfe"], pnp.value("hfe_tempco", "1/K"), s.temp_c)
-        pulse = power_on_start(s.supply_v, s.x["r_start"], s.x["c_start"], self.fixed_ohm(design, "r_be"),
-                               self.fixed_ohm(design, "r_charge"), s.c_f, hfe, veb, vce, self.discharge_a(s, top))
-        return pulse.peak_v, pulse
-
     def delay(self, design: "Design", x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Delay [s]: (power-on pulse +) hold time from the start voltage to the relay's release.
 
@@ -480,7 +314,7 @@ class RcHoldTopology(Topology):
     def _delay(self, design: "Design", x: Mapping[str, np.ndarray], leak: CapacitorLeakage | None = None) -> np.ndarray:
         """Delay [s] of one chunk of samples (see `delay`)."""
         s = self.state(design, x, leak)
-        v0, pulse = self.start(design, s)
+        v0, pulse = start_voltage(self, design, s)
         t = self.hold_s(s, v0)
         return t if pulse is None else t + pulse.pulse_s
 
@@ -516,18 +350,8 @@ class RcHoldTopology(Topology):
         driver = self.driver(design)
         off = driver.value("iceo", "A") if driver.has("iceo") else driver.value("idss", "A")
         if self.power_on:
-            off += float(self.start_leakage_a(design, typical=True))
+            off += float(start_leakage_a(self, design, typical=True))
         return off
-
-    def start_leakage_a(self, design: "Design", typical: bool, temp_c: float = 25.0, c_f=None, part=None,
-                        rated_v=None) -> np.ndarray:
-        """Leakage of the start capacitor charged to the supply [A] (it flows through r_be after the pulse)."""
-        part = part or self.value_part(design, "c_start", "cap-ceramic-x7r")
-        c_f = design.values["c_start"] if c_f is None else c_f
-        rated_v = self.rated_v(design, "c_start") if rated_v is None else rated_v
-        leak = CapacitorLeakage(part, c_f, rated_v)
-        a_typ, a_lim = leak.coefficients(temp_c, 0.0 if typical else 1.0)
-        return leak.current_a(self.brief.supply.max_v if not typical else self.brief.supply.nominal_v, a_typ, a_lim)
 
     def standby(self, design: "Design") -> "Standby":
         """During timing: the coil current at nominal supply; after: cut-off and leakage currents."""
@@ -606,272 +430,24 @@ class RcHoldTopology(Topology):
                                f"{fq(diode.value('vr_max', 'V'), 'V')} is below {FLYBACK_REVERSE_FACTOR:g} times the "
                                f"supply ({fq(FLYBACK_REVERSE_FACTOR * v_max, 'V')})"))
         if self.power_on:
-            out.extend(self.start_checks(design))
+            out.extend(start_checks(self, design))
         out.append(Finding("info", "release-tail", "after the release the coil current keeps falling with the hold "
                            "capacitor for several time constants; the standby figure after the timeout is the "
                            "driver's cut-off current once the capacitor is empty"))
         out.extend(self.driver_checks(design))
         return out
 
-    def start_checks(self, design: "Design") -> list[Finding]:
-        """Power-on start rules: charge to 95 %, PNP drive and ratings, start capacitor leakage."""
-        from tradeoff.units import format_quantity as fq
-        out, q = [], self.uncertain(design)
-        pnp, v_max = self.pnp(design), self.brief.supply.max_v
-        r_charge, r_be = self.fixed_ohm(design, "r_charge"), self.fixed_ohm(design, "r_be")
-        window = float(self.charge_window(design, q["r_start"].lo, q["r_start"].hi, q["c_start"].lo,
-                                          self.start_load_max_a(design)))
-        need = CHARGE_TIME_CONSTANTS * r_charge * q["c_hold"].hi
-        if window < need:
-            out.append(Finding("violation", "start-charge", f"the start PNP is sure to stay saturated for only "
-                               f"{fq(window, 's')} at its worst corner, less than the {fq(need, 's')} (3 time "
-                               f"constants of r_charge·c_hold) that charge the hold capacitor to "
-                               f"{CHARGE_FRACTION_MIN:.0%}"))
-        if v_max / r_charge > pnp.value("ic_max", "A"):
-            out.append(Finding("violation", "start-current", f"charge current at power-on {fq(v_max / r_charge, 'A')} "
-                               f"exceeds the start PNP's rating {fq(pnp.value('ic_max', 'A'), 'A')}"))
-        if v_max > pnp.value("vceo_max", "V"):
-            out.append(Finding("violation", "start-rating", f"supply {fq(v_max, 'V')} exceeds the start PNP's VCEO "
-                               f"{fq(pnp.value('vceo_max', 'V'), 'V')}"))
-        leak = float(self.start_leakage_a(design, typical=False, temp_c=self.brief.ambient.max_c))
-        if leak * r_be > START_PNP_OFF_V:
-            out.append(Finding("violation", "start-leakage", f"start capacitor leakage {fq(leak, 'A')} (limit, "
-                               f"hottest) across r_be {fq(r_be, 'Ω')} gives {fq(leak * r_be, 'V')}, above "
-                               f"{fq(START_PNP_OFF_V, 'V')}: the start PNP would keep charging the hold capacitor"))
-        return out
-
-    def start_load_max_a(self, design: "Design") -> float:
-        """Largest discharge current the hold network draws at full supply [A] (shortest-delay corner, hottest)."""
-        q = self.uncertain(design)
-        x = {n: np.array([u.hi if self.directions.get(n, 1) < 0 else u.lo]) for n, u in q.items()}
-        x.update(ambient_c=np.array([self.brief.ambient.max_c]), supply_v=np.array([self.brief.supply.max_v]))
-        s = self.state(design, x)
-        return float(self.discharge_a(s, s.supply_v)[0])
-
-    def charge_window(self, design: "Design", r_start_lo, r_start_hi, c_start_lo, load_max_a) -> np.ndarray:
-        """Charge time the start pulse guarantees at its worst corner (see `charge_window_s`) [s].
-
-        r_start_lo, r_start_hi [ohm], c_start_lo [F]: the start network's band limits (arrays).
-        """
-        pnp, amb = self.pnp(design), self.brief.ambient
-        hfe_min = pnp.value("hfe_min", "") * math.exp(pnp.value("hfe_tempco", "1/K") * (amb.min_c - 25.0))
-        veb = vbe_at_v(pnp.value("vbe_on_max", "V"), pnp.value("vbe_tempco", "V/K"), amb.min_c)
-        tau_min = np.asarray(r_start_lo, dtype=float) * np.asarray(c_start_lo, dtype=float)
-        return charge_window_s(self.brief.supply.min_v, self.brief.supply.max_v, r_start_hi, tau_min,
-                               self.fixed_ohm(design, "r_be"), self.fixed_ohm(design, "r_charge"), hfe_min, veb,
-                               pnp.value("vce_sat", "V"), load_max_a)
-
     # ---- optimiser blocks -----------------------------------------------------------------------
-    START_QUANTITIES: ClassVar[tuple[str, ...]] = ("r_start", "c_start", "start_hfe")
-    ROW_QUANTITIES: ClassVar[dict[str, tuple[str, str]]] = {"r_hold": ("r_hold", "r_spread"),
-                                                            "c_hold": ("c_hold", "c_spread")}
-
-    def corner_sets(self, q: Mapping[str, Uncertain], names) -> tuple[list[dict], list[dict]]:
-        """Corners (name -> 'lo' | 'hi') holding the smallest and the largest delay under `directions`.
-
-        A quantity with direction +1 sits at 'lo' for the minimum and 'hi' for the maximum (-1 the
-        reverse); direction 0 tries both. Quantities without spread stay nominal.
-        """
-        fixed_min, fixed_max, either = {}, {}, []
-        for n in names:
-            if not q[n].spreads:
-                continue
-            d = self.directions.get(n, 0)
-            if d == 0:
-                either.append(n)
-            else:
-                fixed_min[n], fixed_max[n] = ("lo", "hi") if d > 0 else ("hi", "lo")
-        combos = [dict(zip(either, c)) for c in itertools.product(("lo", "hi"), repeat=len(either))]
-        return [{**fixed_min, **c} for c in combos], [{**fixed_max, **c} for c in combos]
-
-    def _corner_arrays(self, q, rows: pd.DataFrame, corners: list[dict], names) -> dict[str, np.ndarray]:
-        """Quantity arrays (rows x corners) of `corners`; r_hold, c_hold from each row's own band."""
-        x = {}
-        for n in names:
-            pick = [c.get(n, "nom") for c in corners]
-            if n in self.ROW_QUANTITIES:
-                col, spread = self.ROW_QUANTITIES[n]
-                sign = np.array([{"lo": -1.0, "hi": 1.0, "nom": 0.0}[p] for p in pick])
-                x[n] = rows[col].to_numpy(float)[:, None] * (1 + sign[None, :] * rows[spread].to_numpy(float)[:, None])
-            else:
-                vals = np.array([{"lo": q[n].lo, "hi": q[n].hi, "nom": q[n].nominal}[p] for p in pick])
-                x[n] = np.broadcast_to(vals[None, :], (len(rows), len(corners)))
-        return x
-
-    def _hold_rows(self, design0: "Design", rows: pd.DataFrame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """(delay_lo, delay_nom, delay_hi) [s] of the hold time of every candidate row (no start pulse).
-
-        Button start: exactly evaluate()'s corners. Power-on start: from the final voltage V_f for the
-        nominal and the maximum, from CHARGE_FRACTION_MIN·V_f for the minimum (the 95 % rule, kept by a Link).
-        """
-        q = self.quantities(design0)
-        names = [n for n in q if n not in self.START_QUANTITIES]
-        mins, maxs = self.corner_sets(q, names)
-        out = np.zeros((3, len(rows)))
-        for part_id, idx in rows.groupby("c_part").indices.items():
-            sub = rows.iloc[idx]
-            leak = self.leakage(design0, sub["c_hold"].to_numpy(float)[:, None],
-                                sub["c_rated_v"].to_numpy(float)[:, None], self.catalog.part(part_id))
-            for k, (corners, scale, reduce) in enumerate(((mins, CHARGE_FRACTION_MIN, np.min), ([{}], 1.0, np.min),
-                                                          (maxs, 1.0, np.max))):
-                s = self.state(design0, self._corner_arrays(q, sub, corners, names), leak)
-                v0 = self._v0_without_pulse(design0, s, scale)
-                out[k, idx] = reduce(self.hold_s(s, v0), axis=1)
-        return out[0], out[1], out[2]
-
-    def _v0_without_pulse(self, design: "Design", s: HoldState, scale: float) -> np.ndarray:
-        """Start voltage [V]: the button's, or scale x the power-on final voltage V_f."""
-        if not self.power_on:
-            return self.start(design, s)[0]
-        top = np.maximum(s.supply_v - self.pnp(design).value("vce_sat", "V"), 0.0)
-        return scale * np.maximum(top - self.fixed_ohm(design, "r_charge") * self.discharge_a(s, top), 0.0)
-
-    def _example_design(self, rows: pd.DataFrame, start: pd.DataFrame | None = None) -> "Design":
-        """A design built from the first row(s): carries the options the block evaluation needs."""
-        from tradeoff.topologies.base import Design
-        first = rows.iloc[0]
-        values = {"r_hold": float(first["r_hold"]), "c_hold": float(first["c_hold"])}
-        options = {"r_hold_part": first["r_part"], "c_hold_part": first["c_part"],
-                   "c_hold_rated_v": float(first["c_rated_v"])}
-        if self.power_on:
-            roles = {r.name: r for r in self.roles()}
-            if start is not None and len(start):
-                s0 = start.iloc[0]
-                values.update(r_start=float(s0["r_start"]), c_start=float(s0["c_start"]))
-                options.update(r_start_part=s0["r_part"], c_start_part=s0["c_part"], c_start_rated_v=float(s0["c_rated_v"]))
-            else:
-                values.update(r_start=math.sqrt(roles["r_start"].lo * roles["r_start"].hi),
-                              c_start=math.sqrt(roles["c_start"].lo * roles["c_start"].hi))
-        return Design(self.id, values, options)
-
     def selection(self) -> "SelectionModel":
-        """Hold block (r_hold, c_hold and their classes); power-on: start block and the 95 % charge Link."""
-        from tradeoff.selection import Block, Link, SelectionModel
-        from tradeoff.units import format_quantity as fq
-        roles = {r.name: r for r in self.roles()}
-        rows = hold_pairs(roles["r_hold"], roles["c_hold"], self.brief, self.catalog)
-        dropped = Dropped()
-        design0 = self._example_design(rows)
-        ok, reason = self.start_drive(rows["r_hold"].to_numpy(float) * (1 + rows["r_spread"].to_numpy(float)), design0)
-        rows = rows[dropped.drop(~ok, lambda m: reason)].reset_index(drop=True)
-        lo_band, hi_band = self.brief.delay.min_s, self.brief.delay.max_s
-        if len(rows):
-            lo, nom, hi = self._hold_rows(design0, rows)
-            keep = dropped.drop(hi > hi_band, lambda m: f"worst-case longest hold above the band's maximum "
-                                f"{fq(hi_band, 's')}")
-            if not self.power_on:
-                keep &= dropped.drop(keep & (lo < lo_band), lambda m: f"worst-case shortest hold below the band's "
-                                     f"minimum {fq(lo_band, 's')}")
-            rows = rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi)[keep].reset_index(drop=True)
-        else:
-            rows = rows.assign(delay_lo=[], delay_nom=[], delay_hi=[])
-        rows = rows.rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part", "c_rated_v": "c_hold_rated_v"})
-        rows = rows.assign(lines=2, during_a=0.0, after_a=0.0,
-                           log_need=np.log(CHARGE_TIME_CONSTANTS * self.fixed_ohm(design0, "r_charge")
-                                           * rows["c_hold"] * (1 + rows["c_spread"])) if self.power_on else 0.0)
-        blocks = [Block("hold", rows, roles=("r_hold", "c_hold"),
-                        options=("r_hold_part", "c_hold_part", "c_hold_rated_v"), dropped=dict(dropped))]
-        links = []
-        if self.power_on:
-            blocks.append(self._start_block(design0, rows))
-            links.append(Link((("start", "log_window", 1.0), ("hold", "log_need", -1.0)), ">=", 0.0,
-                              f"start pulse keeps the PNP saturated for {CHARGE_TIME_CONSTANTS:.0f} time constants "
-                              f"of r_charge·c_hold (hold capacitor charged to {CHARGE_FRACTION_MIN:.0%})"))
-        fixed = [line for line in self.bom(design0) if line.refs not in ("R1", "C1", "R2", "C2")]
-        standby = self.standby(design0)
-        return SelectionModel(
-            topology=self.id, combine="sum", blocks=blocks, links=links,
-            fixed_cost=float(sum(line.cost for line in fixed)), fixed_placements=sum(line.quantity for line in fixed),
-            fixed_lines=len(fixed), fixed_during_a=standby.during_a,
-            fixed_after_a=standby.after_a - (float(self.start_leakage_a(design0, typical=True)) if self.power_on else 0.0),
-            rails=1, effort=self.effort(design0),
-            notes=["hold block delays at the corners the model's monotone directions select (tests check them "
-                   "against exhaustive corners)"] + (["power-on: hold minimum from 95 % charge; the start block adds "
-                                                      "the pulse length to the nominal and maximum only"]
-                                                     if self.power_on else []))
-
-    def _start_block(self, design0: "Design", hold_rows: pd.DataFrame) -> "Block":
-        """Start block: (r_start, c_start) rows with the pulse length over its corners and the charge window."""
-        from tradeoff.selection import Block
-        from tradeoff.units import format_quantity as fq
-        roles = {r.name: r for r in self.roles()}
-        rows = hold_pairs(roles["r_start"], roles["c_start"], self.brief, self.catalog)
-        dropped = Dropped()
-        pnp, amb, sup = self.pnp(design0), self.brief.ambient, self.brief.supply
-        r_be = self.fixed_ohm(design0, "r_be")
-        r_lo = rows["r_start"].to_numpy(float) * (1 - rows["r_spread"].to_numpy(float))
-        r_hi = rows["r_start"].to_numpy(float) * (1 + rows["r_spread"].to_numpy(float))
-        c_lo = rows["c_start"].to_numpy(float) * (1 - rows["c_spread"].to_numpy(float))
-        c_hi = rows["c_start"].to_numpy(float) * (1 + rows["c_spread"].to_numpy(float))
-        load_max = self._load_max_a(design0, hold_rows)
-        window = self.charge_window(design0, r_lo, r_hi, c_lo, load_max)
-        keep = dropped.drop(window <= 0, lambda m: f"start PNP base current (hFE min {pnp.value('hfe_min', ''):g} at "
-                            f"{amb.min_c:g} °C, largest r_start) cannot saturate it against the charge current at "
-                            f"power-on {fq(sup.max_v / self.fixed_ohm(design0, 'r_charge'), 'A')}")
-        leak = np.zeros(len(rows))
-        for part_id, idx in rows.groupby("c_part").indices.items():
-            sub = rows.iloc[idx]
-            leak[idx] = self.start_leakage_a(design0, typical=False, temp_c=amb.max_c, c_f=sub["c_start"].to_numpy(float),
-                                             part=self.catalog.part(part_id), rated_v=sub["c_rated_v"].to_numpy(float))
-        keep &= dropped.drop(keep & (leak * r_be > START_PNP_OFF_V), lambda m: f"start capacitor leakage at "
-                             f"{amb.max_c:g} °C (limit, largest {fq(float(leak[m].max()), 'A')}) across r_be "
-                             f"{fq(r_be, 'Ω')} exceeds {fq(START_PNP_OFF_V, 'V')}: the start PNP would stay on")
-        pulses = []
-        for r in (r_lo, r_hi):
-            for c in (c_lo, c_hi):
-                for v in (sup.min_v, sup.max_v):
-                    for t in (amb.min_c, amb.max_c):
-                        pulses.append(self.pulse_length_s(design0, v, r, c, t))
-        pulses = np.array(pulses)
-        t_nom = self.environment()["ambient_c"].nominal
-        nom = self.pulse_length_s(design0, sup.nominal_v, rows["r_start"].to_numpy(float),
-                                  rows["c_start"].to_numpy(float), t_nom)
-        typical_leak = np.zeros(len(rows))
-        for part_id, idx in rows.groupby("c_part").indices.items():
-            sub = rows.iloc[idx]
-            typical_leak[idx] = self.start_leakage_a(design0, typical=True, c_f=sub["c_start"].to_numpy(float),
-                                                     part=self.catalog.part(part_id),
-                                                     rated_v=sub["c_rated_v"].to_numpy(float))
-        # delay_lo takes no credit for the pulse: while the PNP fades its tail may already drain a small hold
-        # capacitor, so only the hold block's own minimum (from 95 % charge) is a guaranteed lower bound
-        table = rows.assign(delay_lo=0.0, delay_nom=nom, delay_hi=pulses.max(axis=0), lines=2,
-                            during_a=0.0, after_a=typical_leak,
-                            log_window=np.log(np.maximum(window, 1e-300)))[keep]
-        table = table.rename(columns={"r_part": "r_start_part", "c_part": "c_start_part", "c_rated_v": "c_start_rated_v"})
-        return Block("start", table, roles=("r_start", "c_start"),
-                     options=("r_start_part", "c_start_part", "c_start_rated_v"), dropped=dict(dropped))
-
-    def _load_max_a(self, design0: "Design", rows: pd.DataFrame) -> float:
-        """Largest discharge current near full charge over the hold rows [A] (hottest, highest supply,
-        every quantity at its shortest-delay end)."""
-        if not len(rows):
-            return 0.0
-        q = self.quantities(design0)
-        names = [n for n in q if n not in self.START_QUANTITIES]
-        corner = {n: ("hi" if self.directions.get(n, 1) < 0 else "lo") for n in names if q[n].spreads}
-        corner.update(ambient_c="hi", supply_v="hi")
-        rows = rows.rename(columns={"r_hold_part": "r_part", "c_hold_part": "c_part", "c_hold_rated_v": "c_rated_v"})
-        best = 0.0
-        for part_id, idx in rows.groupby("c_part").indices.items():
-            sub = rows.iloc[idx]
-            leak = self.leakage(design0, sub["c_hold"].to_numpy(float)[:, None],
-                                sub["c_rated_v"].to_numpy(float)[:, None], self.catalog.part(part_id))
-            st = self.state(design0, self._corner_arrays(q, sub, [corner], names), leak)
-            best = max(best, float(np.max(self.discharge_a(st, st.supply_v))))
-        return best
-
-    def pulse_length_s(self, design: "Design", supply_v, r_start, c_start, temp_c) -> np.ndarray:
-        """Power-on pulse length τs·ln(a/b) [s] (see `power_on_start`), typical VEB at `temp_c`."""
-        pnp = self.pnp(design)
-        veb = vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), temp_c)
-        a, b = pnp_base_currents(supply_v, np.asarray(r_start, dtype=float), self.fixed_ohm(design, "r_be"), veb)
-        return np.where(a > b, r_start * np.asarray(c_start, dtype=float) * np.log(np.maximum(a / b, 1.0)), 0.0)
+        """Hold block (r_hold, c_hold and their classes); power-on: start block and the 95 % charge Link
+        (tradeoff.topologies.hold_tables)."""
+        return hold_selection(self)
 
     # ---- plots and SPICE ------------------------------------------------------------------------
     def waveform(self, design: "Design", x: Mapping[str, float] | None = None, points: int = 200) -> HoldWaveform:
         """Hold-capacitor voltage and coil current against time at the point `x` (default nominal)."""
         s = self.nominal_state(design, x)
-        v0, pulse = self.start(design, s)
+        v0, pulse = start_voltage(self, design, s)
         offset = 0.0 if pulse is None else float(pulse.pulse_s[0])
         v_rel = float(self.voltage_for_a(s, s.release_a)[0])
         v_end = max(0.5 * v_rel, 1e-3)
@@ -891,7 +467,7 @@ class RcHoldTopology(Topology):
         a flyback diode; the delay is the time the coil current falls through the release current.
         """
         s = self.nominal_state(design, point)
-        v0, pulse = self.start(design, s)
+        v0, pulse = start_voltage(self, design, s)
         t_model = float(self.delay(design, {k: np.array([float(v)]) for k, v in
                                             {**self.nominal_point(design), **(point or {})}.items()})[0])
         temp = float(s.temp_c[0])

@@ -35,7 +35,7 @@ from tradeoff.devices import capacitor
 from tradeoff.devices.comparator import threshold_v
 from tradeoff.devices.mosfet import on_state_drop_v
 from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
-from tradeoff.topologies import hold, logic
+from tradeoff.topologies import bands, hold_state, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
 
@@ -123,15 +123,15 @@ class RcComparator(Topology):
         bias = comp.value("bias_max", "A")
         offset = comp.value("offset_max", "V")
         return {
-            "r_hold": hold.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
-            "c_hold": hold.component_band(self._value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
+            "r_hold": bands.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
+            "c_hold": bands.component_band(self._value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
             capacitor.LEAK_LEVEL: capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated).uncertain(),
             "rail_v": Uncertain(rail.nominal_v, rail.min_v, rail.max_v, unit="V",
                                 note=f"start voltage: the logic rail ({rail.option}) the capacitor charges to"),
-            "v_ref": hold.component_band(ref.value("output", "V"), ref, self.brief, "V: reference output"),
-            "r_top": hold.component_band(R_TOP_OHM, fixed_r, self.brief, "ohm: divider, reference side"),
-            "r_bottom": hold.component_band(R_BOTTOM_OHM, fixed_r, self.brief, "ohm: divider, ground side"),
-            "r_hyst": hold.component_band(R_HYST_OHM, logic.resistor_class(self.catalog, R_HYST_OHM), self.brief,
+            "v_ref": bands.component_band(ref.value("output", "V"), ref, self.brief, "V: reference output"),
+            "r_top": bands.component_band(R_TOP_OHM, fixed_r, self.brief, "ohm: divider, reference side"),
+            "r_bottom": bands.component_band(R_BOTTOM_OHM, fixed_r, self.brief, "ohm: divider, ground side"),
+            "r_hyst": bands.component_band(R_HYST_OHM, logic.resistor_class(self.catalog, R_HYST_OHM), self.brief,
                                           "ohm: hysteresis resistor"),
             "offset_v": Uncertain(0.0, -offset, offset, unit="V", note=f"{comp.id}: input offset (uniform)"),
             "bias_a": Uncertain(0.0, -bias, bias, unit="A", note=f"{comp.id}: input bias current, either sign, "
@@ -159,14 +159,14 @@ class RcComparator(Topology):
     def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Current leaving the hold capacitor at voltage v [V] > 0: hold resistor, leakage, bias, optional shunt [A]."""
         x = {k: np.asarray(val, dtype=float) for k, val in x.items()}
-        return capacitor.power_sum(v, self._current_terms(self._leakage(design), x, hold.shunt_ohm(design)))
+        return capacitor.power_sum(v, self._current_terms(self._leakage(design), x, hold_state.shunt_ohm(design)))
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Discharge time from the rail to the trip voltage [s]; inf where the current at the trip is not positive.
 
         Long sample arrays are evaluated in chunks (evaluate_in_chunks); the leakage law is built once.
         """
-        leak, shunt = self._leakage(design), hold.shunt_ohm(design)
+        leak, shunt = self._leakage(design), hold_state.shunt_ohm(design)
         return evaluate_in_chunks(lambda chunk: self._delay(chunk, leak, shunt), x)
 
     def _delay(self, x: Mapping[str, np.ndarray], leak: capacitor.CapacitorLeakage, shunt: float | None) -> np.ndarray:
@@ -277,8 +277,8 @@ class RcComparator(Topology):
         """
         band = (self.brief.delay.min_s, self.brief.delay.max_s)
         r_role, c_role = self.roles()
-        pairs = hold.hold_pairs(r_role, c_role, self.brief, self.catalog)
-        dropped = hold.Dropped()
+        pairs = bands.hold_pairs(r_role, c_role, self.brief, self.catalog)
+        dropped = bands.Dropped()
         comp, ref = self.catalog.parts("comparator")[0], self.catalog.parts("reference")[0]
         rails, reasons = logic.rail_options(self.brief, self.catalog, *self._ic_range(comp, ref))
         for reason in reasons:
@@ -344,7 +344,7 @@ class RcComparator(Topology):
         leak = self._leakage(design)
         a_typ, a_lim = (float(np.asarray(a).reshape(-1)[0]) for a in leak.coefficients(x["ambient_c"],
                                                                                         x[capacitor.LEAK_LEVEL]))
-        shunt = hold.shunt_ohm(design)
+        shunt = hold_state.shunt_ohm(design)
         expected = self.nominal_delay(design)
         stop = 1.3 * expected if math.isfinite(expected) else 20 * x["r_hold"] * x["c_hold"]
         coil = self.brief.load.coil_resistance_ohm or self.brief.supply.nominal_v / self.brief.load.current_a

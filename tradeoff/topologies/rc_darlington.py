@@ -31,7 +31,8 @@ from tradeoff.devices.junction import (
 )
 from tradeoff.devices.quadrature import discharge_integral_s
 from tradeoff.devices.start import CHARGE_FRACTION_MIN
-from tradeoff.topologies.hold import HoldState, RcHoldTopology
+from tradeoff.topologies.hold import RcHoldTopology
+from tradeoff.topologies.hold_state import HoldState
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part

@@ -25,7 +25,8 @@ from tradeoff.devices.capacitor import leakage_level, level_weights
 from tradeoff.devices.mosfet import drain_current_a, gate_voltage_for_a, k_at, vto_v
 from tradeoff.devices.quadrature import discharge_time_s
 from tradeoff.devices.start import CHARGE_FRACTION_MIN
-from tradeoff.topologies.hold import HoldState, RcHoldTopology
+from tradeoff.topologies.hold import RcHoldTopology
+from tradeoff.topologies.hold_state import HoldState
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part

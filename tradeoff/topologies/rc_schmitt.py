@@ -41,7 +41,7 @@ from tradeoff.selection import Block, SelectionModel
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
 from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
-from tradeoff.topologies import hold
+from tradeoff.topologies import bands, hold_state
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
 
@@ -173,7 +173,7 @@ class RcSchmitt(Topology):
     # ---- parts ------------------------------------------------------------------------
     def part(self, design: Design, option: str):
         """Catalog class named by design option `option` (default DEFAULTS[option]), with the design's overrides."""
-        part_id = hold.option(design, option, self.DEFAULTS[option])
+        part_id = hold_state.option(design, option, self.DEFAULTS[option])
         try:
             part = self.catalog.part(part_id)
         except LookupError:
@@ -217,9 +217,9 @@ class RcSchmitt(Topology):
     def uncertain(self, design: Design) -> dict[str, Uncertain]:
         """Hold R and C, leakage level, both transistors' gain and VBE(on), the threshold network's resistors."""
         npn, frac = self.part(design, "npn"), self.entry.value("low_current_gain_frac", "")
-        q = {"r_hold": hold.component_band(self._value(design, "r_hold"), self.part(design, "r_hold_part"),
+        q = {"r_hold": bands.component_band(self._value(design, "r_hold"), self.part(design, "r_hold_part"),
                                            self.brief, "ohm: charge resistor"),
-             "c_hold": hold.component_band(self._value(design, "c_hold"), self.part(design, "c_hold_part"),
+             "c_hold": bands.component_band(self._value(design, "c_hold"), self.part(design, "c_hold_part"),
                                            self.brief, "F: timing capacitor"),
              LEAK_LEVEL: self._leakage(design).uncertain()}
         for k in ("q1", "q2"):
@@ -229,7 +229,7 @@ class RcSchmitt(Topology):
             q[f"vbe_{k}"] = Uncertain(*(npn.value(f"vbe_on_{s}", "V") for s in ("typ", "min", "max")), unit="V",
                                       note=f"{k.upper()} {npn.id}: VBE(on) at its test current, 25 degC (uniform)")
         fixed = self.part(design, "fixed_resistor")
-        q.update({n: hold.component_band(self._network()[n], fixed, self.brief, f"ohm: {what}")
+        q.update({n: bands.component_band(self._network()[n], fixed, self.brief, f"ohm: {what}")
                   for n, what in NETWORK.items()})
         return q
 
@@ -263,7 +263,7 @@ class RcSchmitt(Topology):
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Charge time from 0 V to the upper trip point [s]; inf where the capacitor never reaches it."""
-        leak, shunt = self._leakage(design), hold.shunt_ohm(design)
+        leak, shunt = self._leakage(design), hold_state.shunt_ohm(design)
 
         def chunk(xc):
             tr = self.trip(design, xc)
@@ -410,7 +410,7 @@ class RcSchmitt(Topology):
         """One block: every (r_hold, c_hold) pair with its delay at the corners `_DIRECTION` selects
         (quantities of direction 0 at both ends), by the same model as evaluate(); standby after per row."""
         band = (self.brief.delay.min_s, self.brief.delay.max_s)
-        rows = hold.hold_pairs(*self.roles(), self.brief, self.catalog)
+        rows = bands.hold_pairs(*self.roles(), self.brief, self.catalog)
         delay, after = np.full((3, len(rows)), np.nan), np.zeros(len(rows))
         for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
             sub = rows.iloc[index]
@@ -431,7 +431,7 @@ class RcSchmitt(Topology):
             nominal = {**{n: np.full(len(sub), u.nominal) for n, u in q.items()},
                        **{n: v[:, 0] for n, v in values.items()}}
             after[index] = self.after_state(design, nominal, self._leakage(design, values["c_hold"][:, 0]))["supply_a"]
-        dropped = hold.Dropped()
+        dropped = bands.Dropped()
         nom, hi = rows["c_hold"].to_numpy(float) * 0 + delay[1], delay[2]
         keep = dropped.drop((nom < band[0]) | (nom > band[1]), lambda m: f"nominal delay outside the band "
                             f"{fq(band[0], 's')} to {fq(band[1], 's')} (time constant too short or too long)")
@@ -465,7 +465,7 @@ class RcSchmitt(Topology):
         tr = self.trip(design, xa)
         volts = np.linspace(0.0, float(tr["v_trip"][0]), 200)
         t = charge_time_s(xa["c_hold"], xa["r_hold"], xa["supply_v"], volts,
-                          self._extra(xa, tr, self._leakage(design), hold.shunt_ohm(design)))
+                          self._extra(xa, tr, self._leakage(design), hold_state.shunt_ohm(design)))
         keep = np.isfinite(t)
         return Waveform(t[keep], volts[keep], "timing capacitor voltage", "V", float(tr["v_trip"][0]),
                         "Schmitt trigger's upper trip point")
@@ -496,7 +496,7 @@ class RcSchmitt(Topology):
                  f"KP={1 / (switch.value('rds_on', 'ohm') * (switch.value('vgs_on', 'V') - vth)):.6g})"]
         terms = [f"{a:.9g}*pwr(max(v(in),0),{m:g})" for a, m in ((a_typ, leak.n_typ), (a_lim, leak.n_lim)) if a > 0]
         lines += [f"BLEAK in 0 I={'+'.join(terms)}"] if terms else []
-        shunt = hold.shunt_ohm(design)
+        shunt = hold_state.shunt_ohm(design)
         lines += [f"RSH in 0 {shunt:.9g}"] if shunt is not None else []
         if self.brief.load.kind == "relay":
             lines += [f"RCOIL out mid {self.brief.load.coil_resistance_ohm:.9g}",
