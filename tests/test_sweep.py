@@ -154,6 +154,8 @@ def test_a_given_delay_band_moves_with_the_nominal():
     ("delay.nominal=", "no values after '='"),
     ("delay.nominal=1h,,2h", "an empty value in the list"),
     ("delay.nominal=1h,1h", "a value is listed twice"),
+    ("delay.nominal=1 h,60 min", "'1 h' and '60 min' are the same value (1 h); accepted: each value once"),
+    ("supply.nominal=12V,12000mV,24V", "'12V' and '12000mV' are the same value (12 V)"),
     ("delay.nominal=1h..2h", "a range is START..STOP:COUNT"),
     ("delay.nominal=1h..2h:1", "count '1' is not a whole number from 2 to 10000"),
     ("delay.nominal=1h..2h:3:geo", "spacing 'geo' is not known; use :lin or :log"),

@@ -289,8 +289,20 @@ def _axes_and_briefs(base: Brief, vary: Mapping[str, object] | Sequence[str],
         firsts = [brief for index, brief in points if all(i == 0 for m, i in enumerate(index) if m != n)]
         values = tuple(next(v.value for v in brief.values if v.key == key) for brief in firsts)
         unit = next(v.unit for v in base.values if v.key == key)
+        _check_distinct(options[n], key, items, values, unit)
         axes.append(Axis(key=key, unit=unit, raw=tuple(items), values=values, log=log or _log_spaced(values)))
     return axes, points
+
+
+def _check_distinct(option: str, key: str, items: Sequence[object], values: Sequence[object], unit: str) -> None:
+    """InputError when two spellings of an axis are one value (`1 h, 60 min`): the grid would run it twice."""
+    first: dict[object, object] = {}
+    for item, value in zip(items, values):
+        if value in first:
+            same = format_quantity(value, unit) if isinstance(value, float) and unit else repr(value)
+            raise InputError(Problem("--vary", None, None, key, f"{option!r}: {first[value]!r} and {item!r} are "
+                                     f"the same value ({same}); accepted: each value once"))
+        first[value] = item
 
 
 @dataclass(frozen=True)
