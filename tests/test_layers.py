@@ -19,7 +19,8 @@ from conftest import ROOT
 PACKAGE = ROOT / "tradeoff"
 
 INPUT_LAYER = ("tradeoff.units", "tradeoff.yamlpos", "tradeoff.inputfile", "tradeoff.fields", "tradeoff.brief",
-               "tradeoff.catalog", "tradeoff.eseries", "tradeoff.errors", "tradeoff.cautions", "tradeoff.design")
+               "tradeoff.brief_sections", "tradeoff.catalog", "tradeoff.eseries", "tradeoff.errors", "tradeoff.cautions",
+               "tradeoff.design")
 """Modules that load and validate input: they know nothing of topologies or reports."""
 
 REPORT_USERS = ("tradeoff.cli", "tradeoff.__main__")
@@ -38,9 +39,7 @@ ALLOWED = {
 MAX_LINES = 600
 """Largest module, in lines, before it is split along its seams."""
 
-OVERSIZED = {
-    "tradeoff.brief": "brief reading and validation; the shared input reader takes its field parsers",
-}
+OVERSIZED: dict[str, str] = {}
 """Modules still above MAX_LINES (owned elsewhere) -> the split planned; the list only shrinks."""
 
 

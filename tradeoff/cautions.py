@@ -5,7 +5,8 @@ README check, so every output says the same thing.
 """
 from __future__ import annotations
 
-from tradeoff.brief import HAZARDOUS_VOLTAGE_V, Brief
+from tradeoff.brief import Brief
+from tradeoff.brief_sections import HAZARDOUS_VOLTAGE_V
 
 __all__ = ["HAZARDOUS_VOLTAGE_V", "needs_cautions", "cautions"]
 
