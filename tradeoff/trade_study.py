@@ -102,6 +102,9 @@ class StudyResult:
     solver: str
     cautions: list[str]
     seconds: float
+    relaxations: "list[Any] | None" = None
+    """What each infeasible topology would need (tradeoff.relax.Relaxation items, filled by tradeoff.relax.relax;
+    None when not asked)."""
 
     @property
     def feasible(self) -> bool:
@@ -157,6 +160,7 @@ class StudyResult:
             "production": economics(self),
             "method": self.method,
             "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
+            "relaxations": None if self.relaxations is None else [r.to_dict() for r in self.relaxations],
             "cautions": list(self.cautions),
             **({"timing": {"total_s": self.seconds, "topologies": [o.timing() for o in self.outcomes]}}
                if timing else {}),
@@ -264,7 +268,9 @@ def _search(topology: "Topology", brief: Brief, k: int, solver: str, max_rounds:
     return found
 
 
-def _outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int, solver: str) -> TopologyOutcome:
+def topology_outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int,
+                     solver: str) -> TopologyOutcome:
+    """One topology's verified designs for `brief`, or the reasons it has none (never raises for infeasibility)."""
     start = time.perf_counter()
     model = build_topology(topology_id, brief, catalog)
     outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
@@ -301,7 +307,7 @@ def study(brief: Brief | str | Path, catalog: Catalog | None = None, *, only: Se
     if changes:
         brief = brief.replace(changes)
     catalog = catalog if catalog is not None else load_catalog(extra=tuple(catalog_files))
-    outcomes = [_outcome(t, brief, catalog, alternatives, solver) for t in resolve_topologies(brief, catalog, only)]
+    outcomes = [topology_outcome(t, brief, catalog, alternatives, solver) for t in resolve_topologies(brief, catalog, only)]
     evaluations = [ev for o in outcomes for ev in o.evaluations]
     ranking = rank(evaluations, brief.weights, method=method) if evaluations else None
     return StudyResult(brief=brief, outcomes=outcomes, ranking=ranking, method=method, solver=solver,

@@ -162,7 +162,8 @@ def _designs(result: "StudyResult", figures: dict[str, str]) -> list[dict[str, A
 
 def _infeasible(result: "StudyResult") -> list[dict[str, Any]]:
     return [{"topology": o.topology, "description": o.description, "short": short_reason(o.reasons),
-             "reasons": [split_reason(r) for r in o.reasons]} for o in result.infeasible()]
+             "reasons": [split_reason(r) for r in o.reasons],
+             "relax": [r.line for r in result.relaxations or () if r.topology == o.topology]} for o in result.infeasible()]
 
 
 def _brief_summary(result: "StudyResult") -> list[tuple[str, str, str]]:

@@ -182,6 +182,11 @@ def _infeasible(result: "StudyResult", page: _Page, verbose: bool) -> None:
             page.bullet(parts.lead + (":" if parts.rules else ""), level=1)
             for rule in sorted(parts.rules, key=lambda r: -r.count):
                 page.bullet(f"{rule.count}: {rule.rule}" if verbose else rule.rule, level=2)
+        relaxations = [r for r in result.relaxations or () if r.topology == outcome.topology]
+        if relaxations:
+            page.bullet("what alone would make it feasible (--relax):", level=1)
+            for r in relaxations:
+                page.bullet(r.line, level=2)
     if not verbose:
         page.line("(--verbose adds how many candidates each rule removed)")
 

@@ -77,6 +77,8 @@ PRODUCTION_COLUMNS = ["design", "volume [units]", "parts [EUR]", "assembly [EUR]
                       "engineering [h]", "engineering per unit [EUR]", "cost per unit [EUR]", "note"]
 CORNER_VALUES = ("nominal", "at shortest delay", "at longest delay")
 """The corners table's value columns, in each row's SI unit (its `unit` column)."""
+RELAX_COLUMNS = ["topology", "change", "reachable", "to", "brief", "design", "cost per unit [EUR]",
+                 "solves [count]"]
 INFEASIBLE_COLUMNS = ["topology", "description", "reason no. [count]", "reason"]
 BRIEF_COLUMNS = ["key", "value", "text", "unit", "origin", "note"]
 CAUTIONS_COLUMNS = ["no. [count]", "caution"]
@@ -211,6 +213,15 @@ def infeasible_table(result: "StudyResult") -> pd.DataFrame:
     return _frame(rows, INFEASIBLE_COLUMNS)
 
 
+def relax_table(result: "StudyResult") -> pd.DataFrame:
+    """What alone would make each infeasible topology feasible (tradeoff.relax; no rows unless --relax)."""
+    rows = [{"topology": r.topology, "change": r.label, "reachable": r.reachable,
+             "to": r.text if r.reachable else "not reachable by this change alone", "brief": r.original,
+             "design": r.design, "cost per unit [EUR]": r.cost_per_unit_eur, "solves [count]": r.solves}
+            for r in result.relaxations or ()]
+    return _frame(rows, RELAX_COLUMNS)
+
+
 def brief_table(result: "StudyResult") -> pd.DataFrame:
     """The normalised brief: key, SI value (numbers only; percentages in %), the value as text, unit,
     and whether it was given, a default or derived."""
@@ -243,6 +254,7 @@ TABLES: dict[str, Callable[["StudyResult"], pd.DataFrame]] = {
     "corners": corners_table,
     "monte_carlo": monte_carlo_table,
     "infeasible": infeasible_table,
+    "relax": relax_table,
     "brief": brief_table,
     "cautions": cautions_table,
 }

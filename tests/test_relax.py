@@ -1,0 +1,81 @@
+"""Nearest feasible requirement (tradeoff.relax): every reported change, applied, makes the topology
+feasible on the real selection and verification, and the same change 5 % short of it does not;
+a change that cannot do it alone says so. Small Monte Carlo samples and one topology per study keep
+this quick."""
+from __future__ import annotations
+
+import json
+
+import pytest
+
+import tradeoff
+from tradeoff.relax import CHANGES, TOLERANCE, _scaled, apply, changes_for, relax
+from tradeoff.trade_study import topology_outcome
+
+from conftest import EXAMPLES
+
+SAMPLES = 300
+CASES = [("fan_run_on", "rc-darlington"), ("towel_rail_boost", "crystal-counter"), ("glue_pot_warmer", "timer555"),
+         ("propagator_mat", "timer555")]
+"""(shipped example, an infeasible topology of it): a delay-band answer, a parts-limit answer, and two where no
+change alone does it. Every infeasible topology of every example, measured once outside the suite (300 samples,
+about 5 minutes): each change answers, 7 answers reachable; the 5 % checks hold wherever tried."""
+
+
+@pytest.fixture(scope="module", params=CASES, ids=lambda case: "-".join(case))
+def relaxed(request):
+    example, topology = request.param
+    result = tradeoff.study(EXAMPLES / f"{example}.yaml", only=[topology], samples=SAMPLES)
+    assert not result.feasible
+    return result, relax(result)
+
+
+def test_every_change_answers_and_reachable_ones_hold_5_percent_short_fails(relaxed):
+    result, found = relaxed
+    outcome = result.outcomes[0]
+    assert [r.key for r in found] == [c.key for c in changes_for(result.brief)]
+    by_key = {c.key: c for c in CHANGES}
+    for r in found:
+        assert r.reachable or r.line.endswith(f"not reachable by this change alone (brief: {r.original})")
+        if not r.reachable:
+            continue
+        change = by_key[r.key]
+        start = float(change.start(result.brief))
+        brief, catalog = apply(change, result.brief, outcome.model.catalog, r.value)
+        assert topology_outcome(outcome.topology, brief, catalog, 1, "highs").feasible, r.line
+        short = start + 0.95 * (r.value - start)
+        if change.integer:
+            short = float(int(short)) if int(short) < r.value else r.value - 1
+        brief, catalog = apply(change, result.brief, outcome.model.catalog, short)
+        assert not topology_outcome(outcome.topology, brief, catalog, 1, "highs").feasible, (r.line, short)
+
+
+def test_answers_reach_the_json_and_the_report(relaxed, tmp_path):
+    from tradeoff.report.review import report_text
+    from tradeoff.report.tables import study_tables
+
+    result, found = relaxed
+    data = json.loads(json.dumps(result.to_dict(), allow_nan=False))
+    assert [d["change"] for d in data["relaxations"]] == [r.key for r in found]
+    assert all((d["value"] is None) == (not d["reachable"]) for d in data["relaxations"])
+    text = report_text(result)
+    assert all(r.line.split(":")[0] in text for r in found)
+    assert list(study_tables(result)["relax"]["reachable"]) == [r.reachable for r in found]
+
+
+def test_expected_answers_of_the_cases():
+    # fan run-on, RC hold into a Darlington (the brief's own numbers): the hold's worst-case spread is wider than the 10..20 min band,
+    # so neither edge alone is enough but widening both is; the towel rail's crystal counter needs 23 parts
+    # against the limit of 20, so only a raised parts limit does it.
+    fan = tradeoff.study(EXAMPLES / "fan_run_on.yaml", only=["rc-darlington"], samples=SAMPLES)
+    answers = {r.key: r for r in relax(fan)}
+    assert answers["delay.band"].reachable and not answers["delay.min"].reachable
+    towel = tradeoff.study(EXAMPLES / "towel_rail_boost.yaml", only=["crystal-counter"], samples=SAMPLES)
+    parts = next(r for r in relax(towel) if r.key == "limits.parts")
+    assert parts.value > 20 and parts.text == f"at most {int(parts.value)} parts"
+    assert "limits.parts" in [r.key for r in relax(towel) if r.reachable]
+
+
+def test_catalog_values_scale_as_written():
+    assert _scaled("0.01 A/(F*V)", 0.5) == "0.005 A/(F*V)" and _scaled("15 Gohm", 2.0) == "30.0 Gohm"
+    assert _scaled(0.2, 0.5) == 0.1 and TOLERANCE < 0.05  # the tolerance is well inside the 5 % check
