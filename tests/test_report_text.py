@@ -141,6 +141,7 @@ def test_analyze_report_speaks_plainly(design):
     head = out.split("Bill of materials")[0]
     assert "values: " in head and "worst-case minimum" in head
     assert _INTERNAL_NAME.findall(head) == []
+    assert not re.search(r"µ1/K|fraction of|dimensionless", head)  # tempcos in ppm/K, thresholds in % of VDD
 
 
 def test_short_reasons_of_the_optimiser_sentences():

@@ -11,7 +11,7 @@ import re
 
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["plain_label", "schematic_values", "option_texts", "part_classes"]
+__all__ = ["plain_label", "schematic_values", "option_texts", "part_classes", "FIXED_SCALE_UNITS", "quantity_text"]
 
 _LABELS = {
     "ambient_c": "ambient", "supply_v": "supply", "leak_level": "leakage level",
@@ -51,6 +51,21 @@ def plain_label(name: str) -> str:
         kind = "resistor" if stem[0] == "r" else "capacitor"
         return f"{stem[2:].replace('_', ' ')} {kind}"
     return stem.replace("_", " ")
+
+
+FIXED_SCALE_UNITS = {"1/K": ("ppm/K", 1e6), "degC": ("°C", 1.0), "dimensionless": ("—", 1.0),
+                     "fraction of VDD": ("% of VDD", 100.0)}
+"""Units a reader sees at one fixed scale, not with an engineering prefix: SI unit -> (shown unit,
+factor from SI). A tempco of 1e-4 /K reads '100 ppm/K', not '100 µ1/K'."""
+
+
+def quantity_text(value: float, unit: str) -> str:
+    """A quantity with its unit as a reader writes it: '100 ppm/K', '30 % of VDD', '4.7 µF'."""
+    if unit in FIXED_SCALE_UNITS and unit != "degC":
+        shown, factor = FIXED_SCALE_UNITS[unit]
+        number = f"{float(f'{value * factor:.3g}'):g}"
+        return number if shown == "—" else f"{number} {shown}"
+    return fq(value, unit)
 
 
 def _option_text(value: object, unit: str | None) -> str:

@@ -18,7 +18,7 @@ from rich.text import Text
 
 from tradeoff.api import rating_findings
 from tradeoff.cautions import cautions
-from tradeoff.plain import option_texts, part_classes, plain_label
+from tradeoff.plain import option_texts, part_classes, plain_label, quantity_text as plain_quantity
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -70,7 +70,7 @@ def quantity_text(name: str, value: float, unit: str | None = None) -> str:
     """A spread quantity's value with its unit (given, or implied by the name's suffix; plain if dimensionless)."""
     if not unit:
         unit = next((u for suffix, u in _SUFFIX_UNITS if name.endswith(suffix)), "")
-    return fq(value, unit) if math.isfinite(value) else "infinite"
+    return plain_quantity(value, unit) if math.isfinite(value) else "infinite"
 
 
 def _corner_text(corner: Mapping[str, float], quantities: "Mapping[str, Uncertain] | None") -> str:

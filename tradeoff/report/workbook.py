@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from tradeoff.plain import FIXED_SCALE_UNITS
 from tradeoff.report.files import check_writable, write_atomic
 from tradeoff.report.labels import time_unit
 
@@ -87,9 +88,6 @@ _FORMATS = {"h": "0.000", "min": "0.00", "s": "0.000", "µA": "0.000", "µW": "0
 """Number format of a display unit (a few digits; the cell keeps the full number)."""
 
 
-_ROW_UNITS = {"1/K": ("ppm/K", 1e6), "degC": ("°C", 1.0), "dimensionless": ("—", 1.0),
-              "fraction of VDD": ("% of VDD", 100.0)}
-"""Display unit and factor from SI of a per-row unit that takes no engineering prefix."""
 
 _PREFIXED = {"ohm": "Ω", "F": "F", "A": "A", "W": "W", "V": "V", "Hz": "Hz"}
 """Per-row SI units shown with an engineering prefix chosen by the row's largest value."""
@@ -104,7 +102,7 @@ def _row_unit(unit: str, values: "list[float]", delay_unit: tuple[str, float]) -
 
         prefix, scale = engineering_prefix(max((abs(v) for v in values if v == v), default=0.0))
         return prefix + _PREFIXED[unit], 1 / scale
-    return _ROW_UNITS.get(unit, (unit, 1.0))
+    return FIXED_SCALE_UNITS.get(unit, (unit, 1.0))
 
 
 def _rows_in_display_units(frame: "pd.DataFrame", delay_unit: tuple[str, float]) -> "pd.DataFrame":
