@@ -137,3 +137,26 @@ def test_uncertain_rejects_nominal_outside_limits():
         Uncertain(3.0, 0.0, 2.0)
     with pytest.raises(ValueError):
         Uncertain(float("nan"), 0.0, 2.0)
+
+
+def test_typical_range_sets_the_monte_carlo_and_the_limits_the_corners():
+    # a relay's release point: guaranteed 10 % to 75 %, typical units 15 % to 35 %. Kolmogorov-Smirnov against
+    # scipy's uniform over the typical range and a normal with the typical range's farther end at 3 sigma,
+    # truncated to the limits (scipy.stats.truncnorm); the corner search still goes to the limits.
+    rng = np.random.default_rng(4)
+    flat = Uncertain(0.25, 0.10, 0.75, typical=(0.15, 0.35))
+    x = sample({"r": flat}, 50_000, rng)["r"]
+    assert stats.kstest(x, stats.uniform(loc=0.15, scale=0.20).cdf).pvalue > 1e-3
+    bell = Uncertain(0.20, 0.10, 0.75, dist="normal", typical=(0.15, 0.35))
+    x = sample({"r": bell}, 50_000, rng)["r"]
+    sigma = 0.15 / 3
+    ref = stats.truncnorm((0.10 - 0.20) / sigma, (0.75 - 0.20) / sigma, loc=0.20, scale=sigma)
+    assert stats.kstest(x, ref.cdf).pvalue > 1e-3
+    wc = worst_case(lambda p: 1 / p["r"], {"r": flat})
+    assert (wc.min_s, wc.max_s) == (pytest.approx(1 / 0.75), pytest.approx(1 / 0.10))
+
+
+@pytest.mark.parametrize("typical", [(0.05, 0.35), (0.30, 0.35), (0.25, 0.25), (0.15, 0.80)])
+def test_uncertain_rejects_a_typical_range_outside_its_limits_or_without_the_nominal(typical):
+    with pytest.raises(ValueError):
+        Uncertain(0.25, 0.10, 0.75, typical=typical)

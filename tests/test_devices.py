@@ -20,7 +20,9 @@ from tradeoff.devices.oscillator import (
     crystal_frequency, crystal_period_s, rc_band, rc_half_periods_s, rc_junction_v, threshold_factor,
 )
 from tradeoff.devices.quadrature import discharge_time_s, evaluate_in_chunks
-from tradeoff.devices.relay import coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a
+from tradeoff.devices.relay import (
+    coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a, typical_release_band,
+)
 from tradeoff.devices.start import (
     CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS, charge_window_s, power_on_release_s, power_on_start,
 )
@@ -197,6 +199,13 @@ def test_relay_release_current_coil_tempco_and_dissipation_peak():
                                                                          rel=1e-6)
     # transistor datasheets' derating: 500 mW at 25 degC, zero at 150 degC -> 300 mW at 75 degC
     assert derated_power_w(0.5, 150.0, 75.0) == pytest.approx(0.3)
+
+
+def test_typical_release_band_stays_inside_the_guarantees():
+    # relay datasheets guarantee release between must-release and must-operate: a typical band never leaves it
+    assert typical_release_band(0.15, 0.35, 0.10, 0.75) == (0.15, 0.35)
+    assert typical_release_band(0.15, 0.35, 0.20, 0.30) == (0.20, 0.30)
+    assert typical_release_band(0.15, 0.35, 0.40, 0.75) is None
 
 
 # ---- comparator --------------------------------------------------------------------------------------------

@@ -53,6 +53,10 @@ class Uncertain:
     `nominal` and the farther limit at 3 sigma, truncated to [lo, hi] (transistor gain);
     'normal' likewise on a linear scale; 'fixed' (no spread, always nominal).
     critical: interior values at which an extreme may sit (corner search includes them).
+    typical: (low, high) inside [lo, hi] where the units of a real population lie, when that is
+    narrower than the guaranteed limits (a relay's release point): the Monte Carlo draws over it
+    (uniform) or puts its farther end at 3 sigma (normal, log-normal), still truncated to [lo, hi];
+    the corners keep lo and hi.
     """
 
     nominal: float
@@ -62,13 +66,18 @@ class Uncertain:
     unit: str = ""
     note: str = ""
     critical: tuple[float, ...] = ()
+    typical: tuple[float, float] | None = None
 
     def __post_init__(self):
-        values = (self.nominal, self.lo, self.hi, *self.critical)
+        values = (self.nominal, self.lo, self.hi, *self.critical, *(self.typical or ()))
         if not all(math.isfinite(v) for v in values):
             raise ValueError(f"uncertain quantity has a non-finite limit: {self}")
         if not self.lo <= self.nominal <= self.hi:
             raise ValueError(f"nominal {self.nominal} outside [{self.lo}, {self.hi}]")
+        if self.typical is not None and not (self.lo <= self.typical[0] <= self.nominal <= self.typical[1] <= self.hi
+                                             and self.typical[0] < self.typical[1]):
+            raise ValueError(f"typical range {self.typical} must be wider than a point, hold the nominal "
+                             f"{self.nominal} and lie in [{self.lo}, {self.hi}]")
         if self.dist == "lognormal" and self.lo <= 0:
             raise ValueError("a log-normal quantity needs positive limits")
 
@@ -240,17 +249,18 @@ def sample(params: Mapping[str, Uncertain], n: int, rng: np.random.Generator,
     for name in sorted(params):
         p = params[name]
         x = np.empty(n) if out is None else out[name]
+        low, high = p.typical or (p.lo, p.hi)  # the ends of the population's spread
         if not p.spreads:
             x.fill(p.nominal)
         elif p.dist == "uniform":
-            _uniform(rng, p.lo, p.hi, x)
+            _uniform(rng, low, high, x)
         elif p.dist == "lognormal":
             mu = math.log(p.nominal)
-            sigma = max(mu - math.log(p.lo), math.log(p.hi) - mu) / _SIGMA_AT_LIMIT
+            sigma = max(mu - math.log(low), math.log(high) - mu) / _SIGMA_AT_LIMIT
             _scaled_normal(rng, mu, sigma, math.log(p.lo), math.log(p.hi), x)
             np.clip(np.exp(x, out=x), p.lo, p.hi, out=x)
         elif p.dist == "normal":
-            sigma = max(p.nominal - p.lo, p.hi - p.nominal) / _SIGMA_AT_LIMIT
+            sigma = max(p.nominal - low, high - p.nominal) / _SIGMA_AT_LIMIT
             np.clip(_scaled_normal(rng, p.nominal, sigma, p.lo, p.hi, x), p.lo, p.hi, out=x)
         else:
             raise ValueError(f"unknown distribution {p.dist!r} for {name}")

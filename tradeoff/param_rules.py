@@ -4,7 +4,8 @@ shipped catalogs, user catalogs (`--catalog`) and a design file's `overrides`.
 A parameter's range follows from its name and the dimension it is written in:
 
 - a tolerance (`tolerance`, `*_tolerance`, `*_tol`) or a loss/drift/error band is a fraction from 0 %
-  to below 100 %; `must_operate` above 0 to 150 %, `must_release` 0 to below 100 %, switching
+  to below 100 %; `must_operate` above 0 to 150 %, `must_release` 0 to below 100 %, a relay's
+  typical release band (`release_typ_min`, `release_typ_max`) strictly between 0 and 100 %, switching
   thresholds (`vt_*`) strictly between 0 and 100 % of the supply (datasheet conventions);
 - a temperature coefficient, ageing or band edge may have either sign; a temperature in degC lies
   from -273.15 degC to 1000 degC;
@@ -45,6 +46,7 @@ _INTEGER_RE = re.compile(r"^(stages|stages_out|max_counters|p_channel|break_quan
 _EXPLICIT = {
     "must_operate": (0.0, 1.5, False, True),
     "must_release": (0.0, 1.0, True, False),
+    "release_typ_min": (0.0, 1.0, False, False), "release_typ_max": (0.0, 1.0, False, False),
     "vt_min": (0.0, 1.0, False, False), "vt_typ": (0.0, 1.0, False, False), "vt_max": (0.0, 1.0, False, False),
     "effort": (0.0, 1.0, True, True),
     "p_channel": (0.0, 1.0, True, True),

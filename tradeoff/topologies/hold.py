@@ -20,7 +20,10 @@ import numpy as np
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_spread, thermal_voltage_v, vbe_at_v
 from tradeoff.devices.quadrature import evaluate_in_chunks
-from tradeoff.devices.relay import coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a
+from tradeoff.devices.relay import (
+    DEFAULT_RELEASE_TYPICAL, coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a,
+    typical_release_band,
+)
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import DesignError
 from tradeoff.topologies.bands import component_band
@@ -229,6 +232,20 @@ class RcHoldTopology(Topology):
             return 0.5, 0.5, self.brief.supply.nominal_v
         return load.must_release_frac, load.must_operate_frac, load.coil_voltage_v
 
+    def release_typical_frac(self) -> tuple[tuple[float, float] | None, str]:
+        """Band in which units of the relay really release [fractions of the rated coil voltage] and where
+        it comes from: the relay class's typical band, else DEFAULT_RELEASE_TYPICAL (from memory), clipped
+        to the brief's must-release .. must-operate (`devices.relay.typical_release_band`); None for a dc load."""
+        if self.brief.load.kind != "relay":
+            return None, ""
+        relay = self.relay_part()
+        if relay is not None and "release_typ_min" in relay.params and "release_typ_max" in relay.params:
+            band, basis = (relay.value("release_typ_min", ""), relay.value("release_typ_max", "")), relay.id
+        else:
+            band, basis = DEFAULT_RELEASE_TYPICAL, "small PCB relays, from memory"
+        lo, hi, _ = self.release_band_frac()
+        return typical_release_band(*band, lo, hi), basis
+
     def release_current_a(self, release_frac, coil_ohm) -> np.ndarray:
         """Release current [A] of a unit at `release_frac` with coil resistance coil_ohm at 25 degC [ohm]."""
         return release_current_a(release_frac, self.release_band_frac()[2], coil_ohm)
@@ -269,10 +286,7 @@ class RcHoldTopology(Topology):
                                      self.brief, "F: hold capacitor"),
             LEAK_LEVEL: self.leakage(design).uncertain(),
         }
-        lo, hi, _ = self.release_band_frac()
-        q["release_frac"] = Uncertain((lo + hi) / 2, lo, hi, unit="", note="release point of a real unit as a "
-                                      "fraction of its coil's rated current Vc/R_coil: between must-release and "
-                                      "must-operate (uniform)")
+        q["release_frac"] = self.release_uncertain()
         tol, _ = self.coil_tolerance()
         q["coil_ohm"] = Uncertain.band(self.coil_nominal_ohm(), tol, unit="ohm",
                                        note="coil resistance at 25 degC, relay class tolerance (uniform)")
@@ -286,6 +300,20 @@ class RcHoldTopology(Topology):
                                           self.brief, "F: start capacitor")
             q["start_hfe"] = hfe_spread(self.pnp(design), "start PNP")
         return q
+
+    def release_uncertain(self) -> Uncertain:
+        """Release point of a unit as a fraction of its coil's rated current Vc/R_coil: the worst case spans
+        must-release to must-operate (every unit's guarantee), the nominal is the middle of the typical
+        release band and the Monte Carlo draws uniformly over that band."""
+        lo, hi, _ = self.release_band_frac()
+        typical, basis = self.release_typical_frac()
+        note = "release point of a unit as a fraction of its coil's rated current Vc/R_coil: worst case " \
+               "must-release to must-operate"
+        if typical is None:
+            return Uncertain((lo + hi) / 2, lo, hi, unit="", note=f"{note} (uniform)")
+        return Uncertain(sum(typical) / 2, lo, hi, unit="", typical=typical,
+                         note=f"{note}; nominal and Monte Carlo: typical release {typical[0] * 100:g} to "
+                              f"{typical[1] * 100:g} % ({basis}, uniform)")
 
     def leakage(self, design: "Design", c_f=None, rated_v=None, part: "Part | None" = None) -> CapacitorLeakage:
         """Leakage law of the hold capacitor of `design` (or of arrays of candidate values of one class)."""
