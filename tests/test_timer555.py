@@ -4,6 +4,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import pandas as pd
 import pytest
 from scipy.integrate import solve_ivp
 
@@ -150,3 +151,18 @@ def test_waveform_crosses_threshold_at_the_delay(short):
     w = short.waveform(d, x)
     crossing = np.interp(w.threshold, w.signal, w.time_s)
     assert crossing == pytest.approx(short.nominal_delay(d), rel=1e-3) and w.unit == "V"
+
+
+@pytest.mark.parametrize("pairs", [False, True])
+def test_windowed_table_equals_the_full_scan(short, catalog, monkeypatch, pairs):
+    # bisection over R per capacitor finds the rows a scan of every (R, C) finds, in the same order
+    import window_reference
+    from tradeoff.topologies import timer555
+
+    brief = short.brief.replace({"series.resistor": "E12", "series.pairs": pairs})
+    windowed = build_topology("timer555", brief, catalog).selection().blocks[0]
+    monkeypatch.setattr(timer555, "leading_below", window_reference.full_scan)
+    scanned = build_topology("timer555", brief, catalog).selection().blocks[0]
+    assert len(scanned.table) > 50
+    pd.testing.assert_frame_equal(windowed.table, scanned.table)
+    assert windowed.dropped == scanned.dropped

@@ -33,7 +33,7 @@ from tradeoff.devices.supply_current import on_supply
 from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, monostable_width_s
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import CatalogError
-from tradeoff.candidates import rated_voltage
+from tradeoff.candidates import chunks, leading_below, rated_voltage, window_rows
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
@@ -351,35 +351,46 @@ class Timer555(Topology):
     def _rows(self, timer: _Timer, support: list[BomLine], rs: pd.DataFrame, cs: pd.DataFrame,
               dropped: dict[str, int], leak_hits: dict[str, list[float]]) -> pd.DataFrame:
         """Block rows for every (R, C) of one R class and one C class with `timer`: nominal and
-        worst-case delays [s], cost, parts and currents; rows that cannot meet the band are counted."""
+        worst-case delays [s], cost, parts and currents; rows that cannot meet the band are counted.
+
+        The nominal delay grows with R (R·C·ln((Vcc − Ix·R)/(Vcc/3 − Ix·R)), inf once Ix·R reaches
+        Vcc/3), so for each C bisection over the class's ascending R values finds the window whose
+        nominal delay lies in the band; only the rows inside it are evaluated at the corners, in chunks."""
         r_part, c_part = self.catalog.part(rs["part"].iat[0]), self.catalog.part(cs["part"].iat[0])
-        ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rs)), np.arange(len(cs)), indexing="ij"))
-        r, c = rs["value"].to_numpy()[ri], cs["value"].to_numpy()[ci]
-        limit, frac, note = self._cap_model(c_part, c)
+        r_values, c_values = rs["value"].to_numpy(float), cs["value"].to_numpy(float)
+        _, frac, note = self._cap_model(c_part, c_values)
         q = self._quantities(timer.part, r_part, c_part, 1.0, 1.0, frac, note)   # R, C relative: scaled below
         env = self.environment()
         nominal = {n: u.nominal for n, u in {**q, **env}.items()}
-        nominal["r_timing"], nominal["c_timing"] = r, c
-        nom = self._width(limit, nominal)
+
+        def nominal_s(ci, ri):
+            limit, _, _ = self._cap_model(c_part, c_values[ci])
+            return self._width(limit, {**nominal, "r_timing": r_values[ri], "c_timing": c_values[ci]})
+
         band = self.brief.delay
-        never = ~np.isfinite(nom)
-        outside = ~never & ((nom < band.min_s) | (nom > band.max_s))
+        sizes = np.full(len(cs), len(rs))
+        start = leading_below(nominal_s, sizes, band.min_s)
+        stop = leading_below(nominal_s, sizes, band.max_s, inclusive=True)
+        finite = leading_below(nominal_s, sizes, np.inf)
         drop_count(dropped, f"nominal delay outside the band {fq(band.min_s, 's')} to {fq(band.max_s, 's')}",
-                   int(outside.sum()))
-        keep = np.flatnonzero(~(never | outside))
-        c_all = c
-        r, c, ri, ci, nom = r[keep], c[keep], ri[keep], ci[keep], nom[keep]
-        limit, _, _ = self._cap_model(c_part, c)
-        lo, hi = np.full(len(r), np.inf), np.zeros(len(r))
-        for t in env["ambient_c"].corner_values():
-            for v in env["supply_v"].corner_values():
-                lo = np.minimum(lo, self._width(limit, self._corner(q, r, c, t, v, -1.0)))
-                hi = np.maximum(hi, self._width(limit, self._corner(q, r, c, t, v, +1.0)))
+                   int((start + finite - stop).sum()))
+        ci, ri = window_rows(start, stop)
+        order = np.lexsort((ci, ri))   # R-major, C-minor: the order of the full (R, C) table
+        ci, ri = ci[order], ri[order]
+        r, c = r_values[ri], c_values[ci]
+        nom, lo, hi = np.empty(len(r)), np.full(len(r), np.inf), np.zeros(len(r))
+        for part in chunks(len(r)):
+            limit, _, _ = self._cap_model(c_part, c[part])
+            nom[part] = self._width(limit, {**nominal, "r_timing": r[part], "c_timing": c[part]})
+            for t in env["ambient_c"].corner_values():
+                for v in env["supply_v"].corner_values():
+                    lo[part] = np.minimum(lo[part], self._width(limit, self._corner(q, r[part], c[part], t, v, -1.0)))
+                    hi[part] = np.maximum(hi[part], self._width(limit, self._corner(q, r[part], c[part], t, v, +1.0)))
         stuck = ~np.isfinite(hi)
-        stuck_c = np.concatenate([c_all[never], c[stuck]])
+        stuck_c = np.concatenate([c_values[finite < len(rs)], c[stuck]])
         if len(stuck_c):
             hit = leak_hits.setdefault(c_part.id, [0, np.inf])
-            hit[0] += len(stuck_c)
+            hit[0] += int((len(rs) - finite).sum()) + int(stuck.sum())
             hit[1] = min(hit[1], float(stuck_c.min()))
         ok = ~stuck
         r, ri, ci = r[ok], ri[ok], ci[ok]
