@@ -314,3 +314,14 @@ def test_a_one_volt_supply_is_a_study_not_a_crash(tmp_path):
     path.write_text("title: one volt\ndelay: {nominal: 1 h}\nsupply: {nominal: 1 V}\nload: {dc: {current: 10 mA}}\n")
     data = _study_json(path)
     assert data["infeasible"] and all(d["reasons"] for d in data["infeasible"])
+
+
+def test_a_python_tag_in_a_user_catalog_is_a_located_error(tmp_path):
+    """A tag the safe loader refuses (`!!python/object:...`) is named at its line and column, exit 2,
+    never run and never an internal error."""
+    path = tmp_path / "tagged.yaml"
+    path.write_text("parts:\n  - id: res-tagged\n    category: resistor\n"
+                    "    description: !!python/object:os.system x\n", encoding="utf-8")
+    result = CliRunner().invoke(cli, ["catalog", "res-tagged", "--catalog", str(path)])
+    assert result.exit_code == 2, result.output
+    assert f"{path}:4:18: value: unsupported YAML tag 'tag:yaml.org,2002:python/object:os.system'" in result.output

@@ -169,7 +169,12 @@ class _FileReader:
             return () if nested else tuple(self.scalar(item, nested=True) for item in node.value)
         if isinstance(node, yaml.MappingNode):
             return {}
-        return self.constructor.construct_object(node, deep=True)
+        try:
+            return self.constructor.construct_object(node, deep=True)
+        except yaml.YAMLError:  # a tag the safe loader does not know (`!!python/object:...`)
+            self.problem(node, "value", f"unsupported YAML tag '{node.tag}'; accepted: plain YAML values "
+                         "(text, numbers, true/false, lists)")
+            return {}
 
     def text(self, children, node, key, name, required=True) -> str | None:
         """A non-empty string field `name` of an entry, reporting when missing or of the wrong type."""
