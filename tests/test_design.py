@@ -148,7 +148,7 @@ def test_overrides_reach_the_model_in_si(tmp_path):
     _, topo, design = load_design(_write(tmp_path, text))
     assert design.overrides == {"comparator-nanopower": {"bias_max": pytest.approx(2e-9), "offset_max": 0.002}}
     q = topo.uncertain(design)
-    assert q["bias_a"].hi == pytest.approx(2e-9) and q["offset_v"].hi == pytest.approx(0.002)
+    assert topo._bias_limit_a(design, 85.0) == pytest.approx(2e-9) and q["offset_v"].hi == pytest.approx(0.002)
 
 
 def test_brief_changes_are_validated_and_applied(tmp_path):

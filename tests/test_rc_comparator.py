@@ -34,7 +34,7 @@ def _design(c_f=10e-6, cap="cap-film-pet-10pct", r_ohm=10e6, **options):
 def _no_loss_point(t, d):
     x = {n: np.array([v]) for n, v in t.nominal_point(d).items()}
     x[LEAK_LEVEL] = np.array([-1.0])   # no leakage
-    x["bias_a"] = np.array([0.0])
+    x["bias_frac"] = x["ref_bias_frac"] = np.array([0.0])
     return x
 
 

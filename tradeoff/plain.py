@@ -20,7 +20,7 @@ _LABELS = {
     "r_timing": "timing resistor", "c_timing": "timing capacitor", "r_hold": "hold resistor",
     "c_hold": "hold capacitor", "r_hyst": "hysteresis resistor", "mcu": "microcontroller", "link_stage": "link stage",
     "coil_ohm": "coil resistance", "release_frac": "relay release point", "rail_v": "logic rail",
-    "drain_v": "drain voltage", "offset_v": "comparator offset", "bias_a": "input bias", "v_ref": "reference voltage",
+    "drain_v": "drain voltage", "offset_v": "comparator offset", "bias_frac": "input bias", "ref_bias_frac": "reference-input bias", "v_ref": "reference voltage",
     "threshold_a": "threshold pin current", "gate_leak": "gate leakage", "timer_error": "timer timing error",
     "timer_supply_coef": "timer supply coefficient", "crystal_aging": "crystal ageing",
 }

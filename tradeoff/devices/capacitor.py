@@ -57,6 +57,8 @@ def electrolytic_leakage_a(c_f, v_applied, v_rated, temp_c, part, typical: bool 
         n = leakage_voltage_exponent_limit (worst case; 1, a conservative linear fall)
         or leakage_voltage_exponent (typical: the steeper fall of real parts, from memory)
     temperature:                         * 2 ** ((T - 20 degC) / leakage_temp_doubling)
+        (the limit: never below 1, so below 20 degC it stays at the 20 degC guarantee, which is all a
+        datasheet promises; a typical part follows the law both ways: real parts leak less when cold)
     typical part:                        * leakage_typical_frac
 
     The datasheet guarantees only the 20 degC, rated-voltage limit; the voltage and
@@ -70,7 +72,8 @@ def electrolytic_leakage_a(c_f, v_applied, v_rated, temp_c, part, typical: bool 
     limit = np.maximum(part.value("leakage_k", "A/(F*V)") * c_f * v_rated, part.value("leakage_floor", "A"))
     exponent = part.value("leakage_voltage_exponent" if typical else "leakage_voltage_exponent_limit", "")
     doubling_k = part.value("leakage_temp_doubling", "K")
-    current = limit * (v_applied / v_rated) ** exponent * np.exp2((temp_c - LEAKAGE_REFERENCE_C) / doubling_k)
+    rise = temp_c - LEAKAGE_REFERENCE_C
+    current = limit * (v_applied / v_rated) ** exponent * np.exp2((rise if typical else np.maximum(rise, 0.0)) / doubling_k)
     if typical:
         current = current * part.value("leakage_typical_frac", "")
     return current
@@ -165,9 +168,9 @@ class CapacitorLeakage:
         """(typical, limit) leakage at rated voltage and `temp_c` [degC] [A]."""
         temp_c = np.asarray(temp_c, dtype=float)
         if self.electrolytic:
-            # at rated voltage the voltage law is 1, so the typical part is the limit times its fraction
             limit = electrolytic_leakage_a(self.c_f, self.rated_v, self.rated_v, temp_c, self.part)
-            return limit * self.part.value("leakage_typical_frac", ""), limit
+            typical = electrolytic_leakage_a(self.c_f, self.rated_v, self.rated_v, temp_c, self.part, typical=True)
+            return typical, limit
         limit = self.rated_v / self.insulation_ohm + 0 * temp_c
         return INSULATION_TYPICAL_FRAC * limit, limit
 

@@ -1,8 +1,8 @@
 """RC hold with a micropower comparator and voltage reference.
 
 Circuit: the start charges the hold capacitor c_hold to the logic rail V0; it then discharges
-through r_hold (and its own leakage, the comparator's input bias current and an optional
-shunt). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
+through r_hold (and its own leakage, the comparator's input bias current, an optional
+shunt and the brief's board-surface leakage). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
 divider (R_TOP from the reference, R_BOTTOM to ground) with a hysteresis resistor R_HYST from
 the output MOSFET's drain, an inverted copy of the comparator output. While timing, the output
 is high, the MOSFET conducts and its drain is near 0 V: the threshold is
@@ -15,10 +15,16 @@ The divider is fixed (not a value role): the threshold is set once by the refere
 ratio, and the optimiser picks r_hold and c_hold, which set the delay
     t = C ∫ dV / i(V) from V_th to V0,  i(V) = V/r_hold + leakage(V) + I_bias (+ shunt)
 (tradeoff.devices.quadrature.discharge_integral_s, in u = ln V). With no leakage and no bias this is
-t = r_hold·c_hold·ln(V0/V_th).
+t = r_hold·c_hold·ln(V0/V_th). Both comparator inputs carry a bias current of either sign up to the
+class's limit at the sample's ambient (tradeoff.devices.comparator.input_bias_limit_a): the + input's
+drains or feeds the capacitor, the reference input's shifts the threshold node by I·(R_top ∥ R_bottom ∥
+R_hyst).
 
-The delay is monotone in every spread quantity (each lengthens or shortens it), so the
-optimiser's table uses the two extreme corners; evaluate() searches every corner and agrees.
+The delay is monotone in every spread quantity but the ambient (each lengthens or shortens it): a
+bias current into the capacitor lengthens the delay more at a hot ambient, while leakage and a bias
+out of it shorten it more there. The optimiser's table therefore takes, for each of the two extreme
+corners of the other quantities, the extreme over both ambient ends; evaluate() searches every corner
+and agrees (a test scans the ambient densely).
 """
 from __future__ import annotations
 
@@ -32,7 +38,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.errors import DesignError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.devices import capacitor
-from tradeoff.devices.comparator import threshold_v
+from tradeoff.devices.comparator import input_bias_limit_a, threshold_node_ohm, threshold_v
 from tradeoff.devices.mosfet import on_state_drop_v
 from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
 from tradeoff.topologies import bands, hold_state, logic
@@ -54,8 +60,9 @@ _R_HOLD = (10e3, 10e6)
 _C_HOLD = (1e-6, 4.7e-3)
 
 # Sign of each quantity's effect on the delay: +1 lengthens it when the quantity rises, -1 shortens it.
-_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "bias_a": -1, "v_ref": -1,
-              "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1, "ambient_c": -1}
+_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "bias_frac": -1, "ref_bias_frac": 1,
+              "v_ref": -1, "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1}
+"""Sign of each quantity's effect on the delay; the ambient has none (both ends are tried, see the module)."""
 
 
 class RcComparator(Topology):
@@ -120,7 +127,6 @@ class RcComparator(Topology):
         r_part = self._part(design, "resistor", "r_hold_part")
         c_part, rated = self._cap(design)
         fixed_r = logic.resistor_class(self.catalog, R_TOP_OHM)
-        bias = comp.value("bias_max", "A")
         offset = comp.value("offset_max", "V")
         return {
             "r_hold": bands.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
@@ -134,19 +140,44 @@ class RcComparator(Topology):
             "r_hyst": bands.component_band(R_HYST_OHM, logic.resistor_class(self.catalog, R_HYST_OHM), self.brief,
                                           "ohm: hysteresis resistor"),
             "offset_v": Uncertain(0.0, -offset, offset, unit="V", note=f"{comp.id}: input offset (uniform)"),
-            "bias_a": Uncertain(0.0, -bias, bias, unit="A", note=f"{comp.id}: input bias current, either sign, "
-                                "up to its maximum over temperature (uniform)"),
+            "bias_frac": Uncertain(0.0, -1.0, 1.0, note=f"{comp.id}: + input bias current as a fraction of its "
+                                   f"limit at the ambient, either sign (uniform; {self._bias_basis(comp)})"),
+            "ref_bias_frac": Uncertain(0.0, -1.0, 1.0, note=f"{comp.id}: reference-input bias current as a fraction "
+                                       "of its limit at the ambient, either sign (uniform)"),
             "drain_v": Uncertain(0.0, 0.0, self._drain_max_v(rail), unit="V",
                                  note="output MOSFET drain while on: 0 to its weakest-corner drop (uniform)"),
         }
+
+    @staticmethod
+    def _bias_basis(comp) -> str:
+        """What the bias limit over temperature rests on, in words."""
+        if not comp.has("bias_room_max"):
+            return f"{fq(comp.value('bias_max', 'A'), 'A')} at every ambient, {comp.source('bias_max')}"
+        return (f"datasheet limits {fq(comp.value('bias_room_max', 'A'), 'A')} at 25 °C and "
+                f"{fq(comp.value('bias_max', 'A'), 'A')} at {comp.value('bias_max_temp', 'degC'):g} °C, exponential "
+                "between them, held at the 25 °C limit below it")
+
+    def _bias_limit_a(self, design: Design, ambient_c) -> np.ndarray:
+        """Input bias limit of the comparator class at each sample's ambient [A]."""
+        return input_bias_limit_a(self._ics(design)[0], ambient_c)
 
     def _leakage(self, design: Design) -> capacitor.CapacitorLeakage:
         c_part, rated = self._cap(design)
         return capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated)
 
     def trip_v(self, x: Mapping[str, np.ndarray]) -> np.ndarray:
-        """Capacitor voltage at which the comparator switches [V]: the threshold plus the offset."""
-        return threshold_v(x["v_ref"], x["drain_v"], x["r_top"], x["r_bottom"], x["r_hyst"]) + x["offset_v"]
+        """Capacitor voltage at which the comparator switches [V]: the threshold node (lowered by the
+        reference input's bias current through the node's resistance, `ref_bias_a` [A], 0 when absent)
+        plus the offset."""
+        node = threshold_v(x["v_ref"], x["drain_v"], x["r_top"], x["r_bottom"], x["r_hyst"])
+        shift = np.asarray(x.get("ref_bias_a", 0.0)) * threshold_node_ohm(x["r_top"], x["r_bottom"], x["r_hyst"])
+        return node - shift + x["offset_v"]
+
+    def _with_bias(self, design: Design, x: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
+        """`x` with the bias currents of both inputs in amperes (`bias_a`, `ref_bias_a`) at each sample's ambient."""
+        x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
+        limit = self._bias_limit_a(design, x["ambient_c"])
+        return {**x, "bias_a": x["bias_frac"] * limit, "ref_bias_a": x["ref_bias_frac"] * limit}
 
     @staticmethod
     def _current_terms(leak: capacitor.CapacitorLeakage, x: Mapping[str, np.ndarray], shunt: float | None):
@@ -158,7 +189,7 @@ class RcComparator(Topology):
 
     def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Current leaving the hold capacitor at voltage v [V] > 0: hold resistor, leakage, bias, optional shunt [A]."""
-        x = {k: np.asarray(val, dtype=float) for k, val in x.items()}
+        x = self._with_bias(design, x)
         return capacitor.power_sum(v, self._current_terms(self._leakage(design), x, hold_state.shunt_ohm(design)))
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
@@ -167,7 +198,7 @@ class RcComparator(Topology):
         Long sample arrays are evaluated in chunks (evaluate_in_chunks); the leakage law is built once.
         """
         leak, shunt = self._leakage(design), hold_state.shunt_ohm(design)
-        return evaluate_in_chunks(lambda chunk: self._delay(chunk, leak, shunt), x)
+        return evaluate_in_chunks(lambda chunk: self._delay(self._with_bias(design, chunk), leak, shunt), x)
 
     def _delay(self, x: Mapping[str, np.ndarray], leak: capacitor.CapacitorLeakage, shunt: float | None) -> np.ndarray:
         """Delay [s] of one chunk of samples (see `delay`)."""
@@ -258,7 +289,7 @@ class RcComparator(Topology):
         xa = {k: np.array([v], dtype=float) for k, v in x.items()}
         end = float(self.delay(design, xa)[0])
         span = 1.2 * end if math.isfinite(end) and end > 0 else 10 * x["r_hold"] * x["c_hold"]
-        v0, trip = float(x["rail_v"]), float(self.trip_v(xa)[0])
+        v0, trip = float(x["rail_v"]), float(self.trip_v(self._with_bias(design, xa))[0])
         volts = np.geomspace(v0, max(trip * 0.5, 1e-3), 400)
         current = self.discharge_current_a(design, volts, x)
         # time to reach each voltage: cumulative trapezoid of C dV / i(V) from v0 downwards
@@ -271,8 +302,9 @@ class RcComparator(Topology):
     def selection(self) -> SelectionModel:
         """One block: every (r_hold, c_hold) pair for every logic rail, with the delay at the two extreme corners.
 
-        The delay is monotone in each quantity (`_DIRECTION`), so the shortest delay sits at the corner where
-        every quantity takes its shortening end and the longest at the opposite one; each capacitor
+        The delay is monotone in each quantity but the ambient (`_DIRECTION`), so the shortest delay sits at the
+        corner where every other quantity takes its shortening end, at the ambient end that gives the shorter
+        delay, and the longest at the opposite corner and the ambient end that gives the longer; each capacitor
         candidate's rows are evaluated with the same delay model evaluate() uses.
         """
         band = (self.brief.delay.min_s, self.brief.delay.max_s)
@@ -310,7 +342,10 @@ class RcComparator(Topology):
                     corner = {n: np.full(len(r), u.hi if _DIRECTION.get(n, 1) * sign > 0 else u.lo)
                               for n, u in q.items()}
                     corner["r_hold"] = r * (1 + sign * _DIRECTION["r_hold"] * spread)
-                    delay[row, index] = np.where(inside, self.delay(design, corner), np.nan)
+                    ends = [self.delay(design, {**corner, "ambient_c": np.full(len(r), t)})
+                            for t in q["ambient_c"].corner_values()]
+                    extreme = np.maximum.reduce(ends) if sign > 0 else np.minimum.reduce(ends)
+                    delay[row, index] = np.where(inside, extreme, np.nan)
             tables.append(pairs.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=delay[2],
                                        regulator=rail.option, comparator=comp.id, reference=ref.id,
                                        cost=pairs["cost"] + sum(b.cost for b in fixed),
@@ -332,15 +367,16 @@ class RcComparator(Topology):
                       options=("r_hold_part", "c_hold_part", "c_rated_v", "regulator", "comparator", "reference"),
                       dropped=dict(dropped))
         return SelectionModel(self.id, "sum", [block], rails=1, effort=self.effort(Design(self.id)),
-                              notes=["threshold divider fixed; the delay is monotone in each spread quantity, so the "
-                                     "table's extremes are the two extreme corners"])
+                              notes=["threshold divider fixed; the delay is monotone in each spread quantity but the "
+                                     "ambient, so the table's extremes are the two extreme corners, each at the worse "
+                                     "ambient end"])
 
     def spice(self, design: Design) -> str:
         """ngspice netlist of `design` at nominal values (typical leakage as a behavioural current source,
         behavioural comparator, switch as the output MOSFET, relay coil as its resistance), with
         `.measure tran delay` at the comparator output's falling edge."""
         q = self.quantities(design)
-        x = {n: u.nominal for n, u in q.items()}
+        x = {n: float(v[0]) for n, v in self._with_bias(design, {n: [u.nominal] for n, u in q.items()}).items()}
         leak = self._leakage(design)
         a_typ, a_lim = (float(np.asarray(a).reshape(-1)[0]) for a in leak.coefficients(x["ambient_c"],
                                                                                         x[capacitor.LEAK_LEVEL]))
@@ -361,6 +397,7 @@ class RcComparator(Topology):
             f"Rhold cap 0 {x['r_hold']:.6g}",
             f"Bleak cap 0 I = {a_typ:.6g}*pow(max(V(cap),0),{leak.n_typ:.6g})"
             f" + {a_lim:.6g}*pow(max(V(cap),0),{leak.n_lim:.6g}) + {x['bias_a']:.6g}",
+            f"Iref th 0 {x['ref_bias_a']:.6g}",
             f"Bcomp out 0 V = {rail:.6g}*(0.5+0.5*tanh((V(cap)-V(th)-({x['offset_v']:.6g}))/1e-3))",
             f"Rcoil sup drain {coil:.6g}",
             f"Sdrv drain 0 out 0 swdrv",

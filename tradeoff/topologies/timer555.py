@@ -3,7 +3,8 @@ the threshold comparator trips at 2/3 of the supply, ending the output pulse.
 
 Model (NE555 and TLC555 datasheets, monostable operation; leakage term by standard circuit
 analysis): with the capacitor starting discharged and a constant current Ix drawn from it
-(capacitor leakage plus the threshold input current),
+(capacitor leakage, the threshold input current and, for a class that states it, the discharge
+pin's off-state leakage: the off discharge transistor sits on the capacitor node while timing),
 
     t = R·C·ln((Vcc − Ix·R) / (Vcc/3 − Ix·R)),   1.0986·R·C (ln 3, "1.1 RC") at Ix = 0,
 
@@ -11,7 +12,9 @@ and no unit ever times out once Ix·R reaches Vcc/3. Ix is taken at the highest 
 capacitor reaches (2/3 Vcc, the conservative reading): for an electrolytic, the datasheet
 leakage limit (0.01·C·V or 3 uA, scaled to voltage and temperature by tradeoff.devices.capacitor) in the
 worst case and the class's typical fraction for nominal; for film and ceramic, the minimum
-insulation resistance. The datasheet class adds its initial error, temperature drift and
+insulation resistance. The discharge pin's off-state leakage is the class's 25 degC figure (typical
+for nominal, datasheet limit for the worst case) doubled every 10 K above 25 degC (junction reverse
+leakage, common practice) and held at it below. The datasheet class adds its initial error, temperature drift and
 supply drift as factors on t; R and C carry their tolerance and temperature coefficient.
 
 The quiescent current continues after the timeout, as does the current through R into the
@@ -30,7 +33,7 @@ import pandas as pd
 
 from tradeoff.devices import capacitor
 from tradeoff.devices.supply_current import on_supply
-from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, monostable_width_s
+from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, discharge_leakage_a, monostable_width_s
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import CatalogError
 from tradeoff.candidates import chunks, leading_below, rated_voltage, window_rows
@@ -186,6 +189,13 @@ class Timer555(Topology):
         q["threshold_a"] = typical_to_limit(timer.value("threshold_current_typ", "A"),
                                             timer.value("threshold_current_max", "A"), "A",
                                             f"{timer.id}: threshold current ({timer.source('threshold_current_max')})")
+        if timer.has("discharge_leakage_max"):
+            q["discharge_a"] = typical_to_limit(timer.value("discharge_leakage_typ", "A"),
+                                                timer.value("discharge_leakage_max", "A"), "A",
+                                                f"{timer.id}: discharge pin off-state leakage at 25 °C, doubling every "
+                                                f"10 K above ({timer.source('discharge_leakage_max')})")
+        else:
+            q["discharge_a"] = Uncertain.fixed(0.0, unit="A", note=f"{timer.id}: no discharge pin leakage stated")
         err, tc, sc = (timer.value("initial_error", ""), timer.value("tempco", "1/K"),
                        timer.value("supply_coefficient", "1/V"))
         q["timer_error"] = Uncertain(0.0, -err, err, note=f"{timer.id}: initial error ({timer.source('initial_error')})")
@@ -204,7 +214,7 @@ class Timer555(Topology):
 
     def _width(self, leak_limit, x: Mapping[str, np.ndarray]) -> np.ndarray:
         v, t = x["supply_v"], x["ambient_c"]
-        ix = x["c_timing_leakage"] * leak_limit(v, t) + x["threshold_a"]
+        ix = x["c_timing_leakage"] * leak_limit(v, t) + x["threshold_a"] + discharge_leakage_a(x["discharge_a"], t)
         core = monostable_width_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), ix, v)
         drift = ((1.0 + x["timer_error"]) * (1.0 + x["timer_tempco"] * (t - TEMPCO_REFERENCE_C))
                  * (1.0 + x["timer_supply_coef"] * (v - self.brief.supply.nominal_v)))
@@ -242,10 +252,13 @@ class Timer555(Topology):
         if r > timer.r_max_ohm:
             out.append(Finding("violation", "r-max", self._r_max_reason(timer)))
         limit, _, note = self._cap_model(c_part, c)
-        ix = float(limit(s.min_v, amb.max_c)) + part.value("threshold_current_max", "A")
+        discharge = part.value("discharge_leakage_max", "A") if part.has("discharge_leakage_max") else 0.0
+        ix = (float(limit(s.min_v, amb.max_c)) + part.value("threshold_current_max", "A")
+              + float(discharge_leakage_a(discharge, amb.max_c)))
         if ix * r >= TRIGGER_FRAC * s.min_v:
             out.append(Finding("violation", "leakage",
-                               f"worst-case leakage plus threshold current {fq(ix, 'A')} through R {fq(r, 'ohm')} "
+                               f"worst-case leakage plus threshold and discharge-pin current {fq(ix, 'A')} through "
+                               f"R {fq(r, 'ohm')} "
                                f"drops {fq(ix * r, 'V')}, reaching Vcc/3 = {fq(TRIGGER_FRAC * s.min_v, 'V')} at "
                                f"{fq(s.min_v, 'V')} and {amb.max_c:g} °C: the capacitor never reaches 2/3 Vcc"))
         elif ix * r > 0.1 * TRIGGER_FRAC * s.min_v:
@@ -327,7 +340,7 @@ class Timer555(Topology):
                                                      dropped=dropped)],
                               rails=1, effort=self.entry.value("effort", ""))
 
-    _INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "timer_error")
+    _INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "discharge_a", "timer_error")
     _WITH_TEMPERATURE = ("r_timing_tempco", "c_timing_tempco", "timer_tempco")
     _WITH_SUPPLY = ("timer_supply_coef",)
 
@@ -427,7 +440,9 @@ class Timer555(Topology):
                                   x["supply_v"], f"{self.id}: {self.brief.title}")
 
     def _ix_at(self, design: Design, x: Mapping[str, float]) -> float:
-        """Current drawn from the timing capacitor at the point `x` [A]: leakage plus threshold current."""
+        """Current drawn from the timing capacitor at the point `x` [A]: leakage, threshold current and the
+        discharge pin's off-state leakage."""
         limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
         leak = np.asarray(limit(float(x["supply_v"]), float(x["ambient_c"])), dtype=float).reshape(-1)[0]
-        return float(x["c_timing_leakage"] * leak + x["threshold_a"])
+        discharge = float(np.asarray(discharge_leakage_a(x["discharge_a"], x["ambient_c"])).reshape(-1)[0])
+        return float(x["c_timing_leakage"] * leak + x["threshold_a"] + discharge)
