@@ -68,7 +68,7 @@ MALFORMED = [
     ("missing required option", COMPARATOR.replace("options: {regulator: ldo-micropower}\n", ""),
      (1, 1, "options", "missing option 'regulator'")),
     ("option the topology rejects", COMPARATOR.replace("ldo-micropower", "ldo-nonexistent"),
-     (4, 22, "options.regulator", "no part class 'ldo-nonexistent'")),  # raised inside the model
+     (4, 22, "options.regulator", "unknown regulator class 'ldo-nonexistent'")),  # raised inside the model
     ("unknown override part", COMPARATOR + "overrides: {comparator-nano: {bias_max: 2 nA}}\n",
      (5, 13, "overrides.comparator-nano", "did you mean 'comparator-nanopower'?")),
     ("unknown override parameter", COMPARATOR + "overrides: {comparator-nanopower: {bias_mx: 2 nA}}\n",

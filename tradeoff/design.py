@@ -45,8 +45,9 @@ import yaml
 from tradeoff import inputfile, param_rules, yamlpos
 from tradeoff.brief import brief_from_node, load_brief
 from tradeoff.catalog import load_catalog
-from tradeoff.errors import BriefError, DesignError, InputError, Problem, UnitParseError
+from tradeoff.errors import BriefError, DesignError, DesignKeyError, InputError, Problem, UnitParseError
 from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean, show
+from tradeoff.parts import OVERRIDE_ORIGIN
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.registry import build_topology, topology_class, topology_ids
 from tradeoff.units import LEADING_NUMBER_RE, dimension, format_quantity, parse_fraction, parse_quantity
@@ -298,23 +299,13 @@ def _read_overrides(r: _Reader, raw: object, catalog: "Catalog") -> dict[str, di
     return overrides
 
 
-def _relocated(exc: InputError, r: _Reader, design: Design) -> list[Problem]:
-    """Problems a topology raised while reading the design, placed in the design file: those about the
-    design itself (file 'design', keys 'options.X'; 'design overrides', keys 'part.param'), and those
-    quoting an option's value (a part id the catalog does not know) at that option."""
+def _relocated(exc: InputError, r: _Reader) -> list[Problem]:
+    """Problems about parameters the design's `overrides` replaced, placed at those overrides."""
     out = []
     for p in exc.problems:
-        if p.file == "design":
-            path = tuple(p.key.split("."))
-        elif p.file == "design overrides":
-            path = ("overrides", *p.key.split(".", 1))
-        else:
-            path = next((("options", name) for name, value in design.options.items()
-                         if isinstance(value, str) and f"'{value}'" in p.message), None)
-        if path is None:
-            out.append(p)
-        else:
-            out.append(Problem(r.source, *yamlpos.locate(r.root, path), ".".join(path), p.message))
+        path = ("overrides", *p.key.split(".", 1))
+        out.append(Problem(r.source, *yamlpos.locate(r.root, path), ".".join(path), p.message)
+                   if p.file == OVERRIDE_ORIGIN else p)
     return out
 
 
@@ -326,8 +317,10 @@ def _probe(topology: "Topology", design: Design, r: _Reader) -> None:
         topology.bom(design)
         topology.standby(design)
         topology.rails(design)
+    except DesignKeyError as exc:
+        r.problem(exc.path, exc.message)
     except InputError as exc:
-        r.problems.extend(_relocated(exc, r, design))
+        r.problems.extend(_relocated(exc, r))
     r.raise_if_any()
 
 

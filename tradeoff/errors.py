@@ -21,6 +21,7 @@ __all__ = [
     "BriefError",
     "CatalogError",
     "DesignError",
+    "DesignKeyError",
     "UnitParseError",
     "InfeasibleError",
     "SolverError",
@@ -87,6 +88,21 @@ class CatalogError(InputError):
 
 class DesignError(InputError):
     """A design file (topology plus chosen values) is malformed or names unknown parts."""
+
+
+class DesignKeyError(TradeoffError, ValueError):
+    """A topology's objection to one entry of a design, at its key path (('options', 'shunt')).
+
+    Topologies know designs only as values, so they name the key; the design-file loader adds the
+    file, line and column. Raised outside a design file it reads 'options.shunt: <message>'.
+    """
+
+    exit_code = EXIT_INPUT
+
+    def __init__(self, path: tuple[str, ...], message: str):
+        self.path = tuple(path)
+        self.message = message
+        super().__init__(f"{'.'.join(self.path)}: {message}")
 
 
 class UnitParseError(TradeoffError, ValueError):

@@ -18,10 +18,14 @@ from tradeoff.errors import CatalogError, Problem, UnitParseError
 from tradeoff.fields import did_you_mean
 from tradeoff.units import LEADING_NUMBER_RE, dimension, parse_fraction, parse_quantity
 
-__all__ = ["COST_CURRENCY", "Param", "Part", "plain_source", "range_problems", "value_problem", "VALUE_ACCEPTED"]
+__all__ = ["COST_CURRENCY", "OVERRIDE_ORIGIN", "Param", "Part", "plain_source", "range_problems", "value_problem", "VALUE_ACCEPTED"]
 
 COST_CURRENCY = "EUR"
 """Currency of the indicative costs (users replace them with their own prices)."""
+
+OVERRIDE_ORIGIN = "design overrides"
+"""Origin of a parameter a design file's `overrides` replaced: its errors are keyed `<part>.<param>`
+and the design loader places them at that override."""
 
 _BARE_PREFIXES = set("GMkmunpµμ")
 _DIMENSIONLESS = ("", "1", "dimensionless")
@@ -204,7 +208,7 @@ class Part:
     def param_error(self, name: str, message: str) -> CatalogError:
         """A located error about parameter `name` (in its catalog file, or at a design's override of it)."""
         param = self.param(name)
-        key = f"{self.id}.{name}" if param.file == "design overrides" else f"{self.id}.params.{name}"
+        key = f"{self.id}.{name}" if param.file == OVERRIDE_ORIGIN else f"{self.id}.params.{name}"
         return CatalogError.single(param.file, key, message, param.line, param.column)
 
     def param(self, name: str) -> Param:

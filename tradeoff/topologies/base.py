@@ -16,6 +16,8 @@ import numpy as np
 
 from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, worst_case
 from tradeoff.costing import UnitCost, unit_cost
+from tradeoff.errors import CatalogError, DesignKeyError
+from tradeoff.parts import OVERRIDE_ORIGIN
 from tradeoff.units import format_quantity
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
@@ -360,6 +362,36 @@ class Topology(ABC):
     def description(self) -> str:
         """One-line description from the catalog entry."""
         return self.entry.description
+
+    # ---- reading a design: one way for every topology --------------------------------
+    def design_part(self, design: Design, part_id: str, option: str | None = None) -> "Part":
+        """Catalog class `part_id` with the design's overrides for it applied; an id the catalog
+        lacks is a DesignKeyError at `options.<option>` (the option that named it)."""
+        try:
+            part = self.catalog.part(part_id)
+        except CatalogError:
+            if option is None:
+                raise
+            category = self.option_parts.get(option)
+            known = ", ".join(p.id for p in (self.catalog.parts(category) if category else self.catalog.parts()))
+            raise DesignKeyError(("options", option), f"unknown part class {part_id!r}; accepted: {known} "
+                                 "(see `tradeoff catalog`)") from None
+        own = design.overrides.get(part.id)
+        return part.with_overrides(own, origin=OVERRIDE_ORIGIN) if own else part
+
+    def option_part(self, design: Design, option: str, default: str | None = None) -> "Part":
+        """The class named by design option `option`, else `default`, else the catalog's first class
+        of the option's category (`option_parts`); with the design's overrides."""
+        chosen = design.options.get(option)
+        if chosen in (None, ""):
+            chosen = default if default is not None else self.catalog.parts(self.option_parts[option])[0].id
+        return self.design_part(design, str(chosen), option)
+
+    def design_value(self, design: Design, role: str) -> float:
+        """The design's value of role `role` [ohm or F]; a DesignKeyError at `values.<role>` when missing."""
+        if role not in design.values:
+            raise DesignKeyError(("values", role), "missing; accepted: a value with a unit ('1 Mohm', '470 uF')")
+        return float(design.values[role])
 
     # ---- built once, here ------------------------------------------------------------
     def environment(self) -> dict[str, Uncertain]:

@@ -17,7 +17,7 @@ import numpy as np
 
 from tradeoff import eseries
 from tradeoff.devices.supply_current import on_supply
-from tradeoff.errors import DesignError
+from tradeoff.errors import DesignKeyError
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
@@ -54,13 +54,13 @@ def decoded_count(bits) -> int:
 
 def parse_decode(text: str) -> tuple[tuple[int, int], ...]:
     """Option `decode` ('U1.Q4+U2.Q12': counter U1 output Q4 and counter U2 output Q12) as
-    (counter index from 0, stage) pairs; DesignError naming the option when malformed."""
+    (counter index from 0, stage) pairs; DesignKeyError naming the option when malformed."""
     out = []
     for item in str(text).split("+"):
         match = re.fullmatch(r"\s*U(\d+)\.Q(\d+)\s*", item)
         if not match or int(match.group(1)) < 1:
-            raise DesignError.single("design", "options.decode", f"got {text!r}; accepted: outputs joined by '+', "
-                                     "each 'U<counter from 1>.Q<stage>', e.g. 'U2.Q12+U2.Q13'")
+            raise DesignKeyError(("options", "decode"), f"got {text!r}; accepted: outputs joined by '+', "
+                                 "each 'U<counter from 1>.Q<stage>', e.g. 'U2.Q12+U2.Q13'")
         out.append((int(match.group(1)) - 1, int(match.group(2))))
     return tuple(out)
 

@@ -19,7 +19,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.devices.oscillator import crystal_period_s
 from tradeoff.topologies.base import BomLine, Design, Finding, Role
 from tradeoff.topologies.counter_switch import CounterPlan
-from tradeoff.topologies.ic_common import fixed_part, part_of
+from tradeoff.topologies.ic_common import fixed_part
 from tradeoff.topologies.ripple_counter import CounterTimer
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -49,8 +49,7 @@ class CrystalCounter(CounterTimer):
         return []
 
     def _crystal(self, design: Design) -> "Part":
-        chosen = design.options.get("crystal") or self.catalog.parts("crystal")[0].id
-        return part_of(self, design, str(chosen))
+        return self.option_part(design, "crystal")
 
     def _turnover(self, crystal: "Part") -> tuple[float, float]:
         return crystal.value("turnover", "degC"), crystal.value("turnover_spread", "K")

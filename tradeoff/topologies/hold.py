@@ -25,11 +25,10 @@ from tradeoff.devices.relay import (
     typical_release_band,
 )
 from tradeoff.analysis import Uncertain
-from tradeoff.errors import DesignError
 from tradeoff.topologies.bands import component_band
 from tradeoff.topologies.base import BomLine, Finding, Topology
 from tradeoff.topologies.hold_start import start_checks, start_leakage_a, start_voltage
-from tradeoff.topologies.hold_state import HoldState, HoldWaveform, option, shunt_ohm
+from tradeoff.topologies.hold_state import HoldState, HoldWaveform, shunt_ohm
 from tradeoff.topologies.hold_tables import hold_selection
 
 __all__ = ["RcHoldTopology"]
@@ -141,16 +140,7 @@ class RcHoldTopology(Topology):
     # ---- parts -------------------------------------------------------------------------------
     def part(self, design: "Design", option_name: str, default: str) -> "Part":
         """Catalog part named by design option `option_name` (or `default`), with the design's overrides."""
-        part_id = option(design, option_name, default)
-        try:
-            part = self.catalog.part(part_id)
-        except LookupError:
-            known = ", ".join(p.id for p in self.catalog.parts())
-            raise DesignError.single("design", f"options.{option_name}", f"unknown part class {part_id!r}; "
-                                     f"accepted: one of {known}") from None
-        if part.id in design.overrides:
-            part = part.with_overrides(design.overrides[part.id], origin="design overrides")
-        return part
+        return self.option_part(design, option_name, default)
 
     def entry_default(self, name: str, fallback: str) -> str:
         """A default part class id from the topology's catalog entry (field or param), else `fallback`."""

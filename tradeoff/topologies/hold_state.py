@@ -12,10 +12,10 @@ from typing import TYPE_CHECKING, Any, Mapping
 import numpy as np
 
 from tradeoff.devices.capacitor import CapacitorLeakage
-from tradeoff.errors import DesignError, UnitParseError
+from tradeoff.errors import DesignKeyError, UnitParseError
 from tradeoff.topologies.base import Waveform
 
-__all__ = ["shunt_ohm", "shunt_current_a", "option", "HoldState", "HoldWaveform"]
+__all__ = ["shunt_ohm", "shunt_current_a", "HoldState", "HoldWaveform"]
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
@@ -32,25 +32,19 @@ def shunt_ohm(design: "Design") -> float | None:
         try:
             value = parse_quantity(raw, "ohm")
         except UnitParseError as exc:
-            raise DesignError.single("design", "options.shunt", f"{exc}; accepted: a resistance such as "
-                                     "'10 Mohm', or none") from None
+            raise DesignKeyError(("options", "shunt"), f"{exc}; accepted: a resistance ('10 Mohm') "
+                                 "or none") from None
     else:
         value = float(raw)
     if not (math.isfinite(value) and value > 0):
-        raise DesignError.single("design", "options.shunt", f"{raw!r} is not a positive resistance; "
-                                 "accepted: a resistance such as '10 Mohm', or none")
+        raise DesignKeyError(("options", "shunt"), f"{raw!r} is not a positive resistance; "
+                             "accepted: a resistance ('10 Mohm') or none")
     return value
 
 
 def shunt_current_a(v, shunt: float | None):
     """Current through the optional shunt [A] at capacitor voltage v [V] (0 without one)."""
     return 0.0 if shunt is None else np.asarray(v, dtype=float) / shunt
-
-
-def option(design: "Design", name: str, default: Any) -> Any:
-    """A design option with its default (topology entry or class default)."""
-    value = design.options.get(name)
-    return default if value in (None, "") else value
 
 
 @dataclass

@@ -23,20 +23,13 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Topology
 
 __all__ = [
-    "TEMPCO_REFERENCE_C", "part_of", "role_part", "value_spread", "at_temperature",
+    "TEMPCO_REFERENCE_C", "role_part", "value_spread", "at_temperature",
     "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic",
     "fixed_part", "drop_count", "supply_problem", "drop_dominated", "diode", "start_bom", "start_checks",
 ]
 
 TEMPCO_REFERENCE_C = 25.0
 """Temperature at which resistor and capacitor values hold their nominal value [degC] (passives.yaml)."""
-
-
-def part_of(topo: "Topology", design: Design, part_id: str) -> "Part":
-    """Catalog class `part_id` with the design's overrides for it applied."""
-    part = topo.catalog.part(part_id)
-    own = design.overrides.get(part_id)
-    return part.with_overrides(own, origin="design overrides") if own else part
 
 
 def _holds(part: "Part", role: Role, value: float, supply_max_v: float) -> bool:
@@ -51,13 +44,13 @@ def role_part(topo: "Topology", design: Design, role: Role) -> "Part":
     """The part class filling `role`: design option `<role>_part`, else the cheapest class that holds its value."""
     chosen = design.options.get(f"{role.name}_part")
     if chosen:
-        return part_of(topo, design, str(chosen))
+        return topo.design_part(design, str(chosen), f"{role.name}_part")
     value = design.values[role.name]
     part = logic.cheapest(topo.catalog, role.kind,
                     lambda p: (not role.dielectrics or p.fields.get("dielectric") in role.dielectrics)
                     and _holds(p, role, value, topo.brief.supply.max_v),
                     f"{role.description}: {fq(value, 'ohm' if role.kind == 'resistor' else 'F')}")
-    return part_of(topo, design, part.id)
+    return topo.design_part(design, part.id)
 
 
 def value_spread(name: str, value: float, part: "Part", unit: str) -> dict[str, Uncertain]:

@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Callable
 
 from tradeoff.devices.mosfet import on_state_drop_v
 from tradeoff.devices.relay import derated_power_w
-from tradeoff.errors import CatalogError
+from tradeoff.errors import CatalogError, DesignKeyError
 from tradeoff.topologies.base import BomLine, Finding
 from tradeoff.units import format_quantity as fq
 
@@ -125,15 +125,19 @@ def rail_options(brief: "Brief", catalog: "Catalog", load_min_v: float, load_max
     return rails, reasons
 
 
-def logic_rail(brief: "Brief", catalog: "Catalog", option: str, load_min_v: float, load_max_v: float,
-               origin: str) -> LogicRail:
-    """The rail named by design option `regulator` (a regulator class id or 'none'); DesignError-like
-    CatalogError naming the option when that rail cannot power the IC."""
-    made = (_direct(brief, load_min_v, load_max_v) if option == NO_REGULATOR
-            else _regulated(brief, catalog.part(option), load_min_v, load_max_v))
+def logic_rail(brief: "Brief", catalog: "Catalog", option: str, load_min_v: float, load_max_v: float) -> LogicRail:
+    """The rail named by design option `regulator` (a regulator class id or 'none'); a DesignKeyError
+    at that option when the rail cannot power the IC."""
+    regulators = catalog.parts("ldo")
+    if option == NO_REGULATOR:
+        made = _direct(brief, load_min_v, load_max_v)
+    elif option in (p.id for p in regulators):
+        made = _regulated(brief, catalog.part(option), load_min_v, load_max_v)
+    else:
+        made = f"unknown regulator class {option!r}"
     if isinstance(made, str):
-        raise CatalogError.single(origin, "options.regulator", f"{made}; accepted: {NO_REGULATOR!r} or a regulator "
-                                  f"class id ({', '.join(p.id for p in catalog.parts('ldo'))}) that fits")
+        raise DesignKeyError(("options", "regulator"), f"{made}; accepted: {NO_REGULATOR!r} or a regulator "
+                             f"class id ({', '.join(p.id for p in regulators)}) that fits")
     return made
 
 

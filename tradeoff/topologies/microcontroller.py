@@ -40,7 +40,7 @@ import pandas as pd
 
 from tradeoff.analysis import Uncertain, worst_case
 from tradeoff.devices.oscillator import crystal_frequency, rc_band
-from tradeoff.errors import DesignError
+from tradeoff.errors import DesignKeyError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
@@ -87,12 +87,10 @@ class Microcontroller(Topology):
 
     # ---- parts and options ----------------------------------------------------------
     def _mcu(self, design: Design):
-        mcu_id = design.options.get("mcu")
-        part = self.catalog.parts("mcu")[0] if mcu_id is None else self.catalog.part(mcu_id)
-        return part.with_overrides(design.overrides[part.id], "design") if part.id in design.overrides else part
+        return self.option_part(design, "mcu")
 
-    def _option_error(self, key: str, got, accepted: str) -> DesignError:
-        return DesignError.single("design", f"options.{key}", f"got {got!r}; accepted: {accepted}")
+    def _option_error(self, key: str, got, accepted: str) -> DesignKeyError:
+        return DesignKeyError(("options", key), f"got {got!r}; accepted: {accepted}")
 
     def oscillator_options(self) -> list[str]:
         """Oscillator option values: the two on-chip RC oscillators and every crystal class."""
@@ -122,9 +120,7 @@ class Microcontroller(Topology):
             return _Oscillator(option, f_typ, self._dividers(mcu, dividers[option]),
                                mcu.value("sleep_current_low_power_rc", "A"), q, lambda x: x["lp_rc_frequency"], ())
         if option in self.oscillator_options():
-            xtal = self.catalog.part(option)
-            if xtal.id in design.overrides:
-                xtal = xtal.with_overrides(design.overrides[xtal.id], "design")
+            xtal = self.design_part(design, option, "oscillator")
             f0, tol = xtal.value("frequency", "Hz"), xtal.value("frequency_tolerance", "")
             aging, k = xtal.value("aging", ""), xtal.value("parabolic_coefficient", "1/K^2")
             t0, spread = xtal.value("turnover", "degC"), xtal.value("turnover_spread", "K")
@@ -154,7 +150,7 @@ class Microcontroller(Topology):
         if option is None:
             raise self._option_error("regulator", None, f"{logic.NO_REGULATOR!r} or a regulator class id")
         return logic.logic_rail(self.brief, self.catalog, option, mcu.value("supply_min", "V"),
-                                mcu.value("supply_max", "V"), "design")
+                                mcu.value("supply_max", "V"))
 
     def _prescaler(self, design: Design, osc: _Oscillator) -> int:
         p = design.options.get("prescaler")

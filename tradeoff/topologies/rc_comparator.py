@@ -35,7 +35,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain
-from tradeoff.errors import DesignError
+from tradeoff.errors import DesignKeyError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.devices import capacitor
 from tradeoff.devices.comparator import input_bias_limit_a, threshold_node_ohm, threshold_v
@@ -75,14 +75,8 @@ class RcComparator(Topology):
     required_options = ("regulator",)
 
     # ---- parts ------------------------------------------------------------------------
-    def _part(self, design: Design, category: str, key: str):
-        chosen = design.options.get(key)
-        part = self.catalog.parts(category)[0] if chosen is None else self.catalog.part(chosen)
-        own = design.overrides.get(part.id)
-        return part.with_overrides(own, "design") if own else part
-
     def _ics(self, design: Design):
-        return self._part(design, "comparator", "comparator"), self._part(design, "reference", "reference")
+        return self.option_part(design, "comparator"), self.option_part(design, "reference")
 
     def _ic_range(self, comp, ref) -> tuple[float, float]:
         return (max(comp.value("supply_min", "V"), ref.value("supply_min", "V")),
@@ -91,21 +85,15 @@ class RcComparator(Topology):
     def _rail(self, design: Design) -> logic.LogicRail:
         option = design.options.get("regulator")
         if option is None:
-            raise DesignError.single("design", "options.regulator", f"missing; accepted: {logic.NO_REGULATOR!r} or "
-                                     "a regulator class id")
-        return logic.logic_rail(self.brief, self.catalog, option, *self._ic_range(*self._ics(design)), "design")
+            raise DesignKeyError(("options", "regulator"), f"missing; accepted: {logic.NO_REGULATOR!r} or "
+                                 "a regulator class id")
+        return logic.logic_rail(self.brief, self.catalog, option, *self._ic_range(*self._ics(design)))
 
     def _cap(self, design: Design):
-        part = self._part(design, "capacitor", "c_hold_part")
+        part = self.option_part(design, "c_hold_part")
         rated = design.options.get("c_rated_v") or min(v for v in part.values("rated_voltages", "V")
                                                        if v >= self._rail(design).max_v / 0.8)
         return part, float(rated)
-
-    def _value(self, design: Design, role: str) -> float:
-        if role not in design.values:
-            raise DesignError.single("design", f"values.{role}", f"missing; accepted: a value in SI units or with "
-                                     "a unit ('1 Mohm', '470 uF')")
-        return float(design.values[role])
 
     def _drain_max_v(self, rail: logic.LogicRail) -> float:
         """Largest drain voltage while the MOSFET conducts [V] (square-law model at its weakest corner)."""
@@ -124,14 +112,14 @@ class RcComparator(Topology):
         """Hold R and C, leakage level, rail, reference, divider, comparator offset and bias, drain voltage."""
         comp, ref = self._ics(design)
         rail = self._rail(design)
-        r_part = self._part(design, "resistor", "r_hold_part")
+        r_part = self.option_part(design, "r_hold_part")
         c_part, rated = self._cap(design)
         fixed_r = logic.resistor_class(self.catalog, R_TOP_OHM)
         offset = comp.value("offset_max", "V")
         return {
-            "r_hold": bands.component_band(self._value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
-            "c_hold": bands.component_band(self._value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
-            capacitor.LEAK_LEVEL: capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated).uncertain(),
+            "r_hold": bands.component_band(self.design_value(design, "r_hold"), r_part, self.brief, "ohm: hold resistor"),
+            "c_hold": bands.component_band(self.design_value(design, "c_hold"), c_part, self.brief, "F: hold capacitor"),
+            capacitor.LEAK_LEVEL: capacitor.CapacitorLeakage(c_part, self.design_value(design, "c_hold"), rated).uncertain(),
             "rail_v": Uncertain(rail.nominal_v, rail.min_v, rail.max_v, unit="V",
                                 note=f"start voltage: the logic rail ({rail.option}) the capacitor charges to"),
             "v_ref": bands.component_band(ref.value("output", "V"), ref, self.brief, "V: reference output"),
@@ -163,7 +151,7 @@ class RcComparator(Topology):
 
     def _leakage(self, design: Design) -> capacitor.CapacitorLeakage:
         c_part, rated = self._cap(design)
-        return capacitor.CapacitorLeakage(c_part, self._value(design, "c_hold"), rated)
+        return capacitor.CapacitorLeakage(c_part, self.design_value(design, "c_hold"), rated)
 
     def trip_v(self, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Capacitor voltage at which the comparator switches [V]: the threshold node (lowered by the
@@ -251,10 +239,10 @@ class RcComparator(Topology):
     def bom(self, design: Design) -> list[BomLine]:
         """Comparator, reference, divider, hysteresis, hold R and C, output MOSFET, flyback diode, logic rail."""
         rail = self._rail(design)
-        r_part = self._part(design, "resistor", "r_hold_part")
+        r_part = self.option_part(design, "r_hold_part")
         c_part, rated = self._cap(design)
-        hold_lines = [BomLine("R4", r_part.id, fq(self._value(design, "r_hold"), "ohm"), 1, r_part.cost, "hold"),
-                      BomLine("C4", c_part.id, f"{fq(self._value(design, 'c_hold'), 'F')} {fq(rated, 'V')}", 1,
+        hold_lines = [BomLine("R4", r_part.id, fq(self.design_value(design, "r_hold"), "ohm"), 1, r_part.cost, "hold"),
+                      BomLine("C4", c_part.id, f"{fq(self.design_value(design, 'c_hold'), 'F')} {fq(rated, 'V')}", 1,
                               c_part.cost, "hold")]
         return self._fixed_bom(design, rail) + hold_lines
 

@@ -36,7 +36,6 @@ from typing import Mapping
 import numpy as np
 
 from tradeoff.analysis import Uncertain
-from tradeoff.errors import DesignError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
@@ -173,20 +172,7 @@ class RcSchmitt(Topology):
     # ---- parts ------------------------------------------------------------------------
     def part(self, design: Design, option: str):
         """Catalog class named by design option `option` (default DEFAULTS[option]), with the design's overrides."""
-        part_id = hold_state.option(design, option, self.DEFAULTS[option])
-        try:
-            part = self.catalog.part(part_id)
-        except LookupError:
-            raise DesignError.single("design", f"options.{option}", f"unknown part class {part_id!r}; accepted: "
-                                     "a class id from `tradeoff catalog`") from None
-        own = design.overrides.get(part.id)
-        return part.with_overrides(own, "design overrides") if own else part
-
-    def _value(self, design: Design, role: str) -> float:
-        if role not in design.values:
-            raise DesignError.single("design", f"values.{role}", "missing; accepted: a value with a unit "
-                                     "('1 Mohm', '470 uF')")
-        return float(design.values[role])
+        return self.option_part(design, option, self.DEFAULTS[option])
 
     def _leakage(self, design: Design, c_f=None) -> CapacitorLeakage:
         """Leakage law of the timing capacitor (of `c_f` [F], an array of candidates, if given)."""
@@ -194,7 +180,7 @@ class RcSchmitt(Topology):
         part, rated = self.part(design, "c_hold_part"), design.options.get("c_hold_rated_v")
         if rated in (None, ""):
             rated = rated_voltage(part, self.brief.supply.max_v) or max(part.values("rated_voltages", "V"))
-        return CapacitorLeakage(part, self._value(design, "c_hold") if c_f is None else c_f, float(rated))
+        return CapacitorLeakage(part, self.design_value(design, "c_hold") if c_f is None else c_f, float(rated))
 
     def _network(self) -> dict[str, float]:
         return {name: self.entry.value(name, "ohm") for name in (*NETWORK, "r_q2_collector")}
@@ -217,9 +203,9 @@ class RcSchmitt(Topology):
     def uncertain(self, design: Design) -> dict[str, Uncertain]:
         """Hold R and C, leakage level, both transistors' gain and VBE(on), the threshold network's resistors."""
         npn, frac = self.part(design, "npn"), self.entry.value("low_current_gain_frac", "")
-        q = {"r_hold": bands.component_band(self._value(design, "r_hold"), self.part(design, "r_hold_part"),
+        q = {"r_hold": bands.component_band(self.design_value(design, "r_hold"), self.part(design, "r_hold_part"),
                                            self.brief, "ohm: charge resistor"),
-             "c_hold": bands.component_band(self._value(design, "c_hold"), self.part(design, "c_hold_part"),
+             "c_hold": bands.component_band(self.design_value(design, "c_hold"), self.part(design, "c_hold_part"),
                                            self.brief, "F: timing capacitor"),
              LEAK_LEVEL: self._leakage(design).uncertain()}
         for k in ("q1", "q2"):
@@ -329,8 +315,8 @@ class RcSchmitt(Topology):
     def bom(self, design: Design) -> list[BomLine]:
         """Charge R and C, two NPNs and their network, the P-MOSFET, reset and flyback diodes, the button."""
         r_part, leak = self.part(design, "r_hold_part"), self._leakage(design)
-        return [BomLine("R1", r_part.id, fq(self._value(design, "r_hold"), "Ω"), 1, r_part.cost, "charge resistor"),
-                BomLine("C1", leak.part.id, f"{fq(self._value(design, 'c_hold'), 'F')} {fq(float(leak.rated_v), 'V')}",
+        return [BomLine("R1", r_part.id, fq(self.design_value(design, "r_hold"), "Ω"), 1, r_part.cost, "charge resistor"),
+                BomLine("C1", leak.part.id, f"{fq(self.design_value(design, 'c_hold'), 'F')} {fq(float(leak.rated_v), 'V')}",
                         1, leak.part.cost, "timing capacitor")] + self._fixed_bom(design)
 
     # ---- design rules ---------------------------------------------------------------------

@@ -33,7 +33,7 @@ import pandas as pd
 
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.supply_current import on_supply
-from tradeoff.errors import DesignError
+from tradeoff.errors import DesignKeyError
 from tradeoff.selection import Block, Link, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Standby, Topology
@@ -42,7 +42,7 @@ from tradeoff.topologies.counter_chain import (
     parse_decode, pullup_ohm,
 )
 from tradeoff.topologies.counter_switch import CounterPlan, plan_for, rail_text
-from tradeoff.topologies.ic_common import diode, drop_count, fixed_part, part_of, start_bom, start_checks
+from tradeoff.topologies.ic_common import diode, drop_count, fixed_part, start_bom, start_checks
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -107,8 +107,7 @@ class CounterTimer(Topology):
 
     # -- counter chain
     def _counter(self, design: Design) -> "Part":
-        chosen = design.options.get("counter") or self.catalog.parts("counter")[0].id
-        return part_of(self, design, str(chosen))
+        return self.option_part(design, "counter")
 
     def _chain(self, design: Design) -> tuple[int, int, int]:
         """(output stage N of the last counter, extra counters in cascade, stage L of each earlier
@@ -118,8 +117,8 @@ class CounterTimer(Topology):
                  int(design.options.get("link_stage", last)))
         for name, value, (low, high) in zip(("stage", "cascade", "link_stage"), chain, _CHAIN_LIMITS):
             if not low <= value <= high:  # beyond any counter chain (the class's own limits are findings)
-                raise DesignError.single("design", f"options.{name}", f"{value} is outside what any counter chain "
-                                         f"has; accepted: a whole number from {low} to {high}")
+                raise DesignKeyError(("options", name), f"{value} is outside what any counter chain "
+                                     f"has; accepted: a whole number from {low} to {high}")
         return chain
 
     def outputs(self, design: Design) -> tuple[tuple[int, int], ...]:

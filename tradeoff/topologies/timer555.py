@@ -41,7 +41,7 @@ from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
-    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, part_of, role_bom, role_part,
+    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, role_bom, role_part,
     start_bom, start_checks, supply_problem, timing_candidates, typical_to_limit, value_spread,
 )
 from tradeoff.units import format_quantity as fq
@@ -117,8 +117,7 @@ class Timer555(Topology):
         return list(_ROLES)
 
     def _timer(self, design: Design) -> _Timer:
-        timer_id = design.options.get("timer") or self._timer_ids()[0]
-        return self._timer_class(part_of(self, design, str(timer_id)))
+        return self._timer_class(self.option_part(design, "timer", self._timer_ids()[0]))
 
     def _timer_ids(self) -> list[str]:
         return [p.id for p in self.catalog.parts("timer555")]
