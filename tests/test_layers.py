@@ -10,6 +10,9 @@ from __future__ import annotations
 
 import ast
 import graphlib
+import os
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -188,3 +191,18 @@ def test_no_module_above_the_size_limit():
 def test_oversized_entries_are_still_oversized(module):
     # Once a listed module is split below the limit its entry must go.
     assert _line_counts().get(module, 0) > MAX_LINES, f"{module} is within {MAX_LINES} lines: delete its entry"
+
+
+EXPORT_ONLY = ("matplotlib", "openpyxl")
+"""Heavy libraries only the file exports use (plots, workbook): loaded by the export that writes them."""
+
+
+def test_commands_do_not_load_export_libraries():
+    """A fresh process importing the command shell and the study, sweep and library entry points has
+    loaded neither matplotlib nor openpyxl: a module-level import of one of them anywhere on these
+    paths adds a few hundred milliseconds to every command (bench/bench_startup.py measures it)."""
+    probe = ("import sys, tradeoff.cli, tradeoff.trade_study, tradeoff.grid_sweep, tradeoff.api; "
+             f"print(','.join(m for m in {EXPORT_ONLY!r} if m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", probe], cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)},
+                          capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "", f"loaded at import: {done.stdout.strip()}"
