@@ -9,6 +9,7 @@ from pathlib import Path
 
 import eseries as oracle  # independent IEC 60063 implementation, test-only
 import numpy as np
+import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -79,3 +80,22 @@ def test_window_rows_lists_each_window_in_order():
 def test_chunks_cover_the_range_once():
     parts = list(candidates.chunks(10, 4))
     assert [(s.start, s.stop) for s in parts] == [(0, 4), (4, 8), (8, 10)]
+
+
+@pytest.mark.parametrize("topology", ["rc-darlington", "rc-mosfet"])
+@pytest.mark.parametrize("example, pairs", [("towel_rail_boost.yaml", True), ("glue_pot_warmer.yaml", False)])
+def test_windowed_hold_table_equals_the_full_scan(topology, example, pairs, catalog, monkeypatch):
+    # bisection along the monotone role (r_hold for the MOSFET, c_hold for the Darlington) keeps the rows and
+    # dropped counts a scan of every (r_hold, c_hold) pair keeps; the scan also fails on a decreasing worst case
+    import window_reference
+    from tradeoff.topologies import hold_tables
+    from tradeoff.topologies.registry import build_topology
+
+    brief = load_brief(EXAMPLES / example).replace({"series.resistor": "E6", "series.electrolytic": "E6",
+                                                    "series.film": "E6", "series.pairs": pairs})
+    windowed = build_topology(topology, brief, catalog).selection().blocks[0]
+    monkeypatch.setattr(hold_tables, "leading_below", window_reference.full_scan)
+    scanned = build_topology(topology, brief, catalog).selection().blocks[0]
+    assert sum(scanned.dropped.values()) > 100
+    pd.testing.assert_frame_equal(windowed.table, scanned.table)
+    assert windowed.dropped == scanned.dropped

@@ -14,7 +14,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.candidates import role_candidates
 from tradeoff.devices.capacitor import band_frac
 
-__all__ = ["component_band", "hold_pairs", "Dropped"]
+__all__ = ["component_band", "hold_pairs", "role_tables", "pair_rows", "Dropped"]
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -37,28 +37,47 @@ def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Unc
 
 def hold_pairs(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog",
                r_classes: list["Part"] | None = None, c_classes: list["Part"] | None = None) -> pd.DataFrame:
-    """Every (resistor, capacitor) candidate pair of two value roles, one row each.
+    """Every (resistor, capacitor) candidate pair of two value roles, one row each (`pair_rows`), resistor-major."""
+    r, c = role_tables(r_role, c_role, brief, catalog, r_classes, c_classes)
+    ri, ci = np.meshgrid(np.arange(len(r)), np.arange(len(c)), indexing="ij")
+    return pair_rows(r_role, c_role, r, c, ri.ravel(), ci.ravel())
+
+
+def role_tables(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog",
+                r_classes: list["Part"] | None = None, c_classes: list["Part"] | None = None
+                ) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Resistor and capacitor candidate tables of two value roles with their band fractions (`spread`, as in
+    `component_band`); candidates whose band reaches 100 % (the value could reach zero) left out."""
+    amb = brief.ambient
+    tables = []
+    for role, classes in ((r_role, r_classes), (c_role, c_classes)):
+        table = role_candidates(role, brief, catalog, classes)
+        table = table.assign(spread=band_frac(table["tolerance"], table["tempco"], amb.min_c, amb.max_c)
+                             .to_numpy(float) if len(table) else np.zeros(0))
+        tables.append(table[table["spread"] < 1].reset_index(drop=True))
+    return tables[0], tables[1]
+
+
+def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, ri: np.ndarray,
+              ci: np.ndarray) -> pd.DataFrame:
+    """Rows of the candidate pairs (r.iloc[ri], c.iloc[ci]) of two `role_tables`.
 
     Columns: <r_role>, <c_role> (values [ohm], [F]), r_part, c_part, r_spread, c_spread (band
     fractions as in `component_band`), c_rated_v [V], cost [EUR], placements, first/second
     series parts of the resistor (r_first, r_second).
     """
-    r = role_candidates(r_role, brief, catalog, r_classes)
-    c = role_candidates(c_role, brief, catalog, c_classes)
-    amb = brief.ambient
-    ri, ci = np.meshgrid(np.arange(len(r)), np.arange(len(c)), indexing="ij")
-    ri, ci = ri.ravel(), ci.ravel()
-    rr, cc = r.iloc[ri].reset_index(drop=True), c.iloc[ci].reset_index(drop=True)
+    ri, ci = np.asarray(ri, dtype=np.int64), np.asarray(ci, dtype=np.int64)
+    column = {name: (r[name].to_numpy()[ri], c[name].to_numpy()[ci]) for name in
+              ("value", "part", "spread", "cost", "placements")}
     return pd.DataFrame({
-        r_role.name: rr["value"].to_numpy(float), c_role.name: cc["value"].to_numpy(float),
-        "r_part": rr["part"].to_numpy(), "c_part": cc["part"].to_numpy(),
-        "r_spread": band_frac(rr["tolerance"], rr["tempco"], amb.min_c, amb.max_c).to_numpy(float),
-        "c_spread": band_frac(cc["tolerance"], cc["tempco"], amb.min_c, amb.max_c).to_numpy(float),
-        "c_rated_v": cc["rated_v"].to_numpy(float),
-        "cost": (rr["cost"] + cc["cost"]).to_numpy(float),
-        "placements": (rr["placements"] + cc["placements"]).to_numpy(int),
-        "r_first": rr["first"].to_numpy(float), "r_second": rr["second"].to_numpy(float),
-    }).query("r_spread < 1 and c_spread < 1").reset_index(drop=True)  # a band of 100 % could reach zero
+        r_role.name: column["value"][0].astype(float), c_role.name: column["value"][1].astype(float),
+        "r_part": column["part"][0], "c_part": column["part"][1],
+        "r_spread": column["spread"][0].astype(float), "c_spread": column["spread"][1].astype(float),
+        "c_rated_v": c["rated_v"].to_numpy(float)[ci],
+        "cost": (column["cost"][0] + column["cost"][1]).astype(float),
+        "placements": (column["placements"][0] + column["placements"][1]).astype(int),
+        "r_first": r["first"].to_numpy(float)[ri], "r_second": r["second"].to_numpy(float)[ri],
+    })
 
 
 class Dropped(dict):
@@ -69,5 +88,10 @@ class Dropped(dict):
         mask = np.asarray(mask, dtype=bool)
         if mask.any():
             text = reason(mask)
-            self[text] = self.get(text, 0) + int(mask.sum())
+            self.count(text, int(mask.sum()))
         return ~mask
+
+    def count(self, text: str, removed: int) -> None:
+        """Count `removed` candidates under the reason `text` (none: no entry)."""
+        if removed:
+            self[text] = self.get(text, 0) + int(removed)

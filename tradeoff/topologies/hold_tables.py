@@ -15,7 +15,8 @@ import pandas as pd
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.start import CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS
 from tradeoff.selection import Block, Link, SelectionModel
-from tradeoff.topologies.bands import Dropped, hold_pairs
+from tradeoff.candidates import EVALUATION_CHUNK, chunks, leading_below, window_rows
+from tradeoff.topologies.bands import Dropped, hold_pairs, pair_rows, role_tables
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.hold_start import (
     START_PNP_OFF_V, charge_window, pulse_length_s, start_leakage_a, start_voltage,
@@ -70,8 +71,10 @@ def corner_arrays(q, rows: pd.DataFrame, corners: list[dict], names) -> dict[str
     return x
 
 
-def hold_rows(topo: "Topology", design0: "Design", rows: pd.DataFrame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(delay_lo, delay_nom, delay_hi) [s] of the hold time of every candidate row (no start pulse).
+def hold_rows(topo: "Topology", design0: "Design", rows: pd.DataFrame,
+              kinds: tuple[str, ...] = ("lo", "nom", "hi")) -> tuple[np.ndarray, ...]:
+    """(delay_lo, delay_nom, delay_hi) [s] of the hold time of every candidate row (no start pulse), or
+    only those `kinds` name.
 
     Button start: exactly evaluate()'s corners. Power-on start: from the final voltage V_f for the
     nominal and the maximum, from CHARGE_FRACTION_MIN·V_f for the minimum (the 95 % rule, kept by a Link).
@@ -79,17 +82,78 @@ def hold_rows(topo: "Topology", design0: "Design", rows: pd.DataFrame) -> tuple[
     q = topo.quantities(design0)
     names = [n for n in q if n not in START_QUANTITIES]
     mins, maxs = corner_sets(topo.directions, q, names)
-    out = np.zeros((3, len(rows)))
+    ways = {"lo": (mins, CHARGE_FRACTION_MIN, np.min), "nom": ([{}], 1.0, np.min), "hi": (maxs, 1.0, np.max)}
+    out = np.zeros((len(kinds), len(rows)))
     for part_id, idx in rows.groupby("c_part").indices.items():
         sub = rows.iloc[idx]
         leak = topo.leakage(design0, sub["c_hold"].to_numpy(float)[:, None],
                             sub["c_rated_v"].to_numpy(float)[:, None], topo.catalog.part(part_id))
-        for k, (corners, scale, reduce) in enumerate(((mins, CHARGE_FRACTION_MIN, np.min), ([{}], 1.0, np.min),
-                                                      (maxs, 1.0, np.max))):
+        for k, kind in enumerate(kinds):
+            corners, scale, reduce = ways[kind]
             s = topo.state(design0, corner_arrays(q, sub, corners, names), leak)
             v0 = v0_without_pulse(topo, design0, s, scale)
             out[k, idx] = reduce(topo.hold_s(s, v0), axis=1)
-    return out[0], out[1], out[2]
+    return tuple(out)
+
+
+HOLD_CHUNK = EVALUATION_CHUNK // 4
+"""Hold rows evaluated at once: the Darlington's quadrature keeps about 30 nodes per row and corner (at most
+4 corners) in a few dozen float arrays, so one chunk needs about 16384 x 4 x 30 x 8 bytes x 30, some 470 MB."""
+
+
+def chunked_hold_rows(topo: "Topology", design0: "Design", frame, count: int,
+                      kinds: tuple[str, ...]) -> np.ndarray:
+    """`hold_rows` (kinds x count) of the candidate rows frame(slice) builds, HOLD_CHUNK rows at a time."""
+    out = np.empty((len(kinds), count))
+    for part in chunks(count, HOLD_CHUNK):
+        out[:, part] = hold_rows(topo, design0, frame(part), kinds)
+    return out
+
+
+def windowed_hold_rows(topo: "Topology", design0: "Design", r: pd.DataFrame, c: pd.DataFrame,
+                       dropped: Dropped) -> pd.DataFrame:
+    """Hold rows (`pair_rows` with delay_lo, delay_nom, delay_hi [s]) of every (r, c) candidate pair whose
+    worst case lies in the band, in the order of the full (r, c) table, counting the others in `dropped`.
+
+    The worst-case hold grows with the value of a role whose direction is +1: along the ascending values of
+    one part class of that role (the inner role), for every candidate of the other role, the longest hold
+    stays at most the band's maximum up to a bisected count of rows and the shortest stays below its minimum
+    up to another (button start), so only the rows between are evaluated. The inner role is r_hold where
+    its direction is +1 (few capacitor groups), else c_hold (tests check both directions exhaustively).
+    """
+    roles = {r_role.name: r_role for r_role in topo.roles()}
+    inner_is_r = topo.directions.get("r_hold", 0) > 0
+    inner, outer = (r, c) if inner_is_r else (c, r)
+    by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in dict.fromkeys(inner["part"])]
+    group_outer = np.repeat(np.arange(len(outer)), len(by_part))
+    group_part = np.tile(np.arange(len(by_part)), len(outer))
+    sizes = np.array([len(rows) for rows in by_part], dtype=np.int64)[group_part]
+    offsets = np.concatenate([[0], np.cumsum([len(rows) for rows in by_part])])
+    inner_order = np.concatenate(by_part) if by_part else np.zeros(0, dtype=np.int64)
+
+    def pairs(groups, rows):
+        at_inner, at_outer = inner_order[offsets[group_part[groups]] + rows], group_outer[groups]
+        return (at_inner, at_outer) if inner_is_r else (at_outer, at_inner)
+
+    def extreme(kind):
+        def evaluate(groups, rows):
+            ri, ci = pairs(groups, rows)
+            return chunked_hold_rows(topo, design0, lambda part: pair_rows(roles["r_hold"], roles["c_hold"], r, c,
+                                                                           ri[part], ci[part]), len(ri), (kind,))[0]
+        return evaluate
+
+    lo_band, hi_band = topo.brief.delay.min_s, topo.brief.delay.max_s
+    stop = leading_below(extreme("hi"), sizes, hi_band, inclusive=True)
+    dropped.count(f"worst-case longest hold above the band's maximum {fq(hi_band, 's')}", int((sizes - stop).sum()))
+    start = np.zeros_like(stop)
+    if not topo.power_on:
+        start = np.minimum(leading_below(extreme("lo"), sizes, lo_band), stop)
+        dropped.count(f"worst-case shortest hold below the band's minimum {fq(lo_band, 's')}", int(start.sum()))
+    ri, ci = pairs(*window_rows(start, stop))
+    order = np.lexsort((ci, ri))   # resistor-major: the order of the full (r, c) table
+    rows = pair_rows(roles["r_hold"], roles["c_hold"], r, c, ri[order], ci[order])
+    lo, nom, hi = chunked_hold_rows(topo, design0, lambda part: rows.iloc[part], len(rows), ("lo", "nom", "hi"))
+    return rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi)
 
 
 def v0_without_pulse(topo: "Topology", design: "Design", s: HoldState, scale: float) -> np.ndarray:
@@ -121,22 +185,12 @@ def example_design(topo: "Topology", rows: pd.DataFrame, start: pd.DataFrame | N
 def hold_selection(topo: "Topology") -> SelectionModel:
     """Hold block (r_hold, c_hold and their classes); power-on: start block and the 95 % charge Link."""
     roles = {r.name: r for r in topo.roles()}
-    rows = hold_pairs(roles["r_hold"], roles["c_hold"], topo.brief, topo.catalog)
+    r, c = role_tables(roles["r_hold"], roles["c_hold"], topo.brief, topo.catalog)
     dropped = Dropped()
-    design0 = example_design(topo, rows)
-    ok, reason = topo.start_drive(rows["r_hold"].to_numpy(float) * (1 + rows["r_spread"].to_numpy(float)), design0)
-    rows = rows[dropped.drop(~ok, lambda m: reason)].reset_index(drop=True)
-    lo_band, hi_band = topo.brief.delay.min_s, topo.brief.delay.max_s
-    if len(rows):
-        lo, nom, hi = hold_rows(topo, design0, rows)
-        keep = dropped.drop(hi > hi_band, lambda m: f"worst-case longest hold above the band's maximum "
-                            f"{fq(hi_band, 's')}")
-        if not topo.power_on:
-            keep &= dropped.drop(keep & (lo < lo_band), lambda m: f"worst-case shortest hold below the band's "
-                                 f"minimum {fq(lo_band, 's')}")
-        rows = rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi)[keep].reset_index(drop=True)
-    else:
-        rows = rows.assign(delay_lo=[], delay_nom=[], delay_hi=[])
+    design0 = example_design(topo, pair_rows(roles["r_hold"], roles["c_hold"], r, c, [0], [0]))
+    ok, reason = topo.start_drive(r["value"].to_numpy(float) * (1 + r["spread"].to_numpy(float)), design0)
+    dropped.count(reason, int((~ok).sum()) * len(c))
+    rows = windowed_hold_rows(topo, design0, r[ok].reset_index(drop=True), c, dropped)
     rows = rows.rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part", "c_rated_v": "c_hold_rated_v"})
     rows = rows.assign(lines=2, during_a=0.0, after_a=0.0,
                        log_need=np.log(CHARGE_TIME_CONSTANTS * topo.fixed_ohm(design0, "r_charge")
