@@ -3,8 +3,9 @@ inside functions and under `if TYPE_CHECKING:` alike, since each names a depende
 an import circle, on an input-layer module importing a topology or report module, and on a
 results module importing a report module (reports depend on results, never the other way).
 
-Edges not yet removed are listed in `ALLOWED` with the reason; the list may only shrink: an
-entry whose import has gone fails the test, so it is deleted with the fix.
+Design files are not input of that kind: a design names a topology and is checked against its
+roles and options, so its loader (tradeoff.design) sits above the registry, beside the study;
+no topology imports it (the circle test would fail).
 """
 from __future__ import annotations
 
@@ -15,35 +16,21 @@ import subprocess
 import sys
 from pathlib import Path
 
-import pytest
 
 from conftest import ROOT
 
 PACKAGE = ROOT / "tradeoff"
 
 INPUT_LAYER = ("tradeoff.units", "tradeoff.yamlpos", "tradeoff.inputfile", "tradeoff.fields", "tradeoff.brief",
-               "tradeoff.brief_sections", "tradeoff.catalog", "tradeoff.eseries", "tradeoff.errors", "tradeoff.cautions",
-               "tradeoff.design")
+               "tradeoff.brief_sections", "tradeoff.catalog", "tradeoff.eseries", "tradeoff.errors", "tradeoff.cautions")
 """Modules that load and validate input: they know nothing of topologies or reports."""
 
 REPORT_USERS = ("tradeoff.cli", "tradeoff.__main__")
 """The only modules outside `tradeoff.report` that may import a report module: the command shell."""
 
-ALLOWED = {
-    ("tradeoff.design", "tradeoff.topologies.base"):
-        "design loading builds the Design value object defined with the topology interface; to go when the "
-        "design file's reading (input) is split from its binding to a topology (above the registry)",
-    ("tradeoff.design", "tradeoff.topologies.registry"):
-        "design loading builds the named topology to check roles and options (same split)",
-}
-"""Edges still to remove (input layer, owned elsewhere): (importer, imported) -> why it is there."""
-
-
 MAX_LINES = 600
 """Largest module, in lines, before it is split along its seams."""
 
-OVERSIZED: dict[str, str] = {}
-"""Modules still above MAX_LINES (owned elsewhere) -> the split planned; the list only shrinks."""
 
 
 def module_name(path: Path, root: Path) -> str:
@@ -113,10 +100,6 @@ def cycle(graph: dict[str, set[str]]) -> list[str]:
     return []
 
 
-def _without_allowed(graph: dict[str, set[str]]) -> dict[str, set[str]]:
-    return {m: {t for t in targets if (m, t) not in ALLOWED} for m, targets in graph.items()}
-
-
 def test_the_walk_sees_lazy_and_typing_imports(tmp_path):
     # A synthetic package: a circle closed only by an import inside a function, and one only under
     # TYPE_CHECKING; both must be seen (an import statement anywhere is a dependency).
@@ -142,20 +125,13 @@ def test_the_walk_sees_lazy_and_typing_imports(tmp_path):
 
 
 def test_no_import_circle():
-    graph = _without_allowed(import_graph(PACKAGE))
+    graph = import_graph(PACKAGE)
     assert cycle(graph) == [], "import circle: " + " -> ".join(cycle(graph))
 
 
 def test_layers_point_one_way():
-    broken = [v for v in violations(import_graph(PACKAGE)) if v[:2] not in ALLOWED]
+    broken = violations(import_graph(PACKAGE))
     assert broken == []
-
-
-@pytest.mark.parametrize("edge", sorted(ALLOWED))
-def test_allowed_edges_still_exist(edge):
-    # The allow-list only shrinks: once an import is gone its entry must go too.
-    importer, imported = edge
-    assert imported in import_graph(PACKAGE)[importer], f"{importer} no longer imports {imported}: delete the entry"
 
 
 def test_every_import_names_a_module():
@@ -183,14 +159,8 @@ def _line_counts() -> dict[str, int]:
 
 
 def test_no_module_above_the_size_limit():
-    too_long = {m: n for m, n in _line_counts().items() if n > MAX_LINES and m not in OVERSIZED}
+    too_long = {m: n for m, n in _line_counts().items() if n > MAX_LINES}
     assert too_long == {}, f"split these along their seams (at most {MAX_LINES} lines each)"
-
-
-@pytest.mark.parametrize("module", sorted(OVERSIZED))
-def test_oversized_entries_are_still_oversized(module):
-    # Once a listed module is split below the limit its entry must go.
-    assert _line_counts().get(module, 0) > MAX_LINES, f"{module} is within {MAX_LINES} lines: delete its entry"
 
 
 EXPORT_ONLY = ("matplotlib", "openpyxl")
