@@ -16,7 +16,6 @@ import subprocess
 import sys
 from pathlib import Path
 
-
 from conftest import ROOT
 
 PACKAGE = ROOT / "tradeoff"
