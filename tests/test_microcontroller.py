@@ -9,7 +9,7 @@ import pytest
 from tradeoff.analysis import exhaustive_corners
 from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
-from tradeoff.errors import CatalogError
+from tradeoff.errors import DesignKeyError
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.microcontroller import Microcontroller, programmed_ticks
 from tradeoff.topologies.registry import build_topology
@@ -140,8 +140,9 @@ def test_rails_and_regulator_quiescent_in_standby(towel, catalog):
         sb = towel.standby(d)
         assert sb.after_a == pytest.approx(off + iq, rel=1e-12)
         assert sb.during_a > towel.brief.load.current_a + iq   # the relay coil is fed during timing
-    with pytest.raises(CatalogError, match="unregulated"):
+    with pytest.raises(DesignKeyError, match="unregulated") as caught:
         towel.rails(_design("crystal-32k-20ppm", 32768, regulator="none"))
+    assert caught.value.path == ("options", "regulator")
 
 
 def test_regulated_supply_in_range_runs_direct(catalog):

@@ -25,7 +25,7 @@ def mat():
 
 def rail_of(brief, catalog):
     regulator = catalog.parts("ldo")[0].id
-    return logic.logic_rail(brief, catalog, regulator, 1.8, 5.5, "test")
+    return logic.logic_rail(brief, catalog, regulator, 1.8, 5.5)
 
 
 def test_a_1_7_A_load_gets_the_power_class_and_its_loss_is_i_squared_r_hot(mat):

@@ -128,7 +128,7 @@ def windowed_hold_rows(topo: "Topology", design0: "Design", r: pd.DataFrame, c: 
     group_outer = np.repeat(np.arange(len(outer)), len(by_part))
     group_part = np.tile(np.arange(len(by_part)), len(outer))
     sizes = np.array([len(rows) for rows in by_part], dtype=np.int64)[group_part]
-    offsets = np.concatenate([[0], np.cumsum([len(rows) for rows in by_part])])
+    offsets = np.concatenate([[0], np.cumsum([len(rows) for rows in by_part], dtype=np.int64)]).astype(np.int64)
     inner_order = np.concatenate(by_part) if by_part else np.zeros(0, dtype=np.int64)
 
     def pairs(groups, rows):
