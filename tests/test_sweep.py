@@ -247,3 +247,62 @@ def test_terminal_table_fits_and_names_each_points_winner(local, width):
         if point["runner_up"]:
             assert f"runner-up {point['runner_up']['design']} ({point['runner_up']['score']:.3f})" in text
     assert "min" in text and " s " not in text  # worst cases of minutes-long delays in minutes
+
+
+# ---- a grid beyond the confirmation limits needs --yes (issue 13 item 6) -------------------------
+
+def test_a_grid_over_the_point_limit_is_refused_with_its_estimate(brief_file):
+    from tradeoff.grid_sweep import CONFIRM_POINTS
+    from tradeoff.units import parse_quantity
+
+    result = _run("sweep", brief_file, "--vary", f"weights.cost=0..100:{CONFIRM_POINTS + 1}", "--only", "mcu",
+                  "--samples", 100)
+    assert result.exit_code == 2, result.output
+    found = re.search(r"1,001 points would take about (.+?) on one worker \(estimated from the first point, which "
+                      r"took (.+?)\); accepted without --yes: at most 1,000 points and about 10 min", result.output)
+    assert found, result.output
+    total, first = (parse_quantity(text, "s") for text in found.groups())
+    assert total == pytest.approx(first * 1001, rel=0.06)  # both shown to two digits
+
+
+def test_yes_runs_a_grid_beyond_the_limits(brief_file, monkeypatch):
+    import tradeoff.grid_sweep as grid_sweep
+
+    monkeypatch.setattr(grid_sweep, "CONFIRM_POINTS", 1)  # a 2-point grid is then beyond the limit
+    args = ["sweep", brief_file, "--vary", "weights.cost=1,2", "--only", "mcu", "--samples", 100, "--format", "json"]
+    refused = _run(*args)
+    assert refused.exit_code == 2 and "2 points would take about" in refused.output
+    assert "accepted without --yes: at most 1 points" in refused.output
+    confirmed = _run(*args, "--yes")
+    assert confirmed.exit_code == 0, confirmed.output
+    assert [p["index"] for p in json.loads(confirmed.output)["points"]] == [[0], [1]]
+
+
+def test_an_estimate_over_the_time_limit_is_refused_unless_confirmed(brief_file, monkeypatch):
+    import tradeoff.grid_sweep as grid_sweep
+
+    monkeypatch.setattr(grid_sweep, "CONFIRM_SECONDS", 1e-6)  # every real point takes longer
+    with pytest.raises(InputError, match=r"3 points would take about .+ over 2 workers \(estimated from the first"):
+        sweep(brief_file, ["weights.cost=1,2,3"], only=["mcu"], samples=100, jobs=2)
+    result = sweep(brief_file, ["weights.cost=1,2,3"], only=["mcu"], samples=100, confirmed=True)
+    assert [p["index"] for p in result.points] == [[0], [1], [2]]
+
+
+def test_estimate_is_the_first_point_times_the_points_per_worker():
+    from tradeoff.grid_sweep import estimated_seconds
+
+    assert estimated_seconds(10, 2.0, 1) == 20.0  # ten points one after another
+    assert estimated_seconds(10, 2.0, 2) == 12.0  # the first here, then nine over two workers: five rounds
+    assert estimated_seconds(1, 3.0, 4) == 3.0
+
+
+def test_the_limits_are_documented_as_the_code_has_them():
+    from tradeoff.grid_sweep import CONFIRM_POINTS, CONFIRM_SECONDS, MAX_POINTS
+    from tradeoff.units import format_quantity
+
+    readme = (ROOT / "README.md").read_text(encoding="utf-8").split("## What-if sweeps")[1].split("\n## ")[0]
+    helptext = " ".join(_run("sweep", "--help").output.split())
+    for text in (readme, helptext):
+        assert f"more than {CONFIRM_POINTS:,} points" in text and format_quantity(CONFIRM_SECONDS, "s") in text
+        assert "--yes" in text
+    assert f"{MAX_POINTS:,} points" in readme

@@ -371,19 +371,23 @@ def netlist_command(design, output, force, catalogs):
               help="Monte Carlo seed at every point (overrides analysis.seed).")
 @width_option
 @click.option("--force", is_flag=True, help="Replace existing output files.")
+@click.option("--yes", "confirmed", is_flag=True,
+              help="Run a grid of more than 1,000 points or estimated at more than 10 min (without it such a "
+                   "grid is refused with its estimate after the first point).")
 @timing_option
 @catalog_option
 @_translate_errors
 def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, output_format, only, method,
-                  samples, seed, width, force, timing, catalogs):
+                  samples, seed, width, force, confirmed, timing, catalogs):
     """Run the study at every point of a grid over brief fields and tabulate, per
     point, the winner and the runner-up with their scores, the winner's worst-case
     delay band, yield, standby current after the timeout, parts and cost, and how
     many topologies cannot meet the brief there.
 
     Each --vary takes KEY=V1,V2,... or KEY=START..STOP:COUNT[:lin|:log], values
-    with the field's unit. Every point is checked before any runs. Exits 1 when no
-    point has a feasible design, 2 on input errors.
+    with the field's unit. Every point is checked before any runs; a grid of more
+    than 1,000 points or estimated (from the first point) at more than 10 min needs
+    --yes. Exits 1 when no point has a feasible design, 2 on input errors.
 
     Example:
 
@@ -411,7 +415,7 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     with Progress(console=bar, disable=not bar.is_terminal, transient=True) as progress:
         task = progress.add_task("grid points", total=None)
         result = sweep(brief, list(vary), jobs=jobs, scheduler=scheduler, only=only or None, samples=samples,
-                       seed=seed, method=method, catalog_files=catalogs,
+                       seed=seed, method=method, catalog_files=catalogs, confirmed=confirmed,
                        progress=lambda done, total: progress.update(task, completed=done, total=total))
     if output_format == "json":
         import json

@@ -20,7 +20,11 @@ min, max}`, `supply: {nominal, min, max}`) moves that band with it, keeping its 
 the nominal; the sweep's notes say so. A tolerance or a default band follows the nominal anyway.
 
 Every grid point is validated before anything runs, so a bad value stops the sweep at once
-with an InputError naming the option, the key and what is accepted. Points run through one
+with an InputError naming the option, the key and what is accepted. The first point then runs
+here and its wall time gives the estimate of the whole grid (point count, first point's seconds,
+workers): a grid of more than CONFIRM_POINTS points or an estimate above CONFIRM_SECONDS is
+refused with that estimate unless the caller confirms it (`--yes`, `confirmed=True`); MAX_POINTS
+is the limit even then. Points run through one
 `concurrent.futures.Executor`: in this process (jobs=1), a process pool (jobs=N), or a Dask
 cluster (`scheduler=ADDRESS`, needs `pip install tradeoff[cluster]`). Each point gets its
 own validated brief (the Monte Carlo seed is the brief's), so every engine gives the same
@@ -49,11 +53,16 @@ if TYPE_CHECKING:  # pragma: no cover
     import numpy as np
     import pandas as pd
 
-__all__ = ["Axis", "SweepResult", "sweep", "parse_vary", "VARY_SYNTAX", "MAX_POINTS"]
+__all__ = ["Axis", "SweepResult", "sweep", "parse_vary", "VARY_SYNTAX", "MAX_POINTS", "CONFIRM_POINTS",
+           "CONFIRM_SECONDS"]
 
 VARY_SYNTAX = "KEY=V1,V2,... or KEY=START..STOP:COUNT[:lin|:log]"
 MAX_POINTS = 10_000
-"""Largest grid a sweep accepts (a typo in a count should not start a week of work)."""
+"""Largest grid a sweep accepts, confirmed or not (a typo in a count should not start a week of work)."""
+CONFIRM_POINTS = 1_000
+"""Largest grid a sweep runs without confirmation (`--yes`)."""
+CONFIRM_SECONDS = 600.0
+"""Longest estimated sweep [s] run without confirmation (`--yes`): 10 min."""
 
 FIXED_KEYS = ("title", "topologies")
 """Brief keys a sweep cannot vary (use --only to choose topologies)."""
@@ -119,7 +128,7 @@ def _si(raw: object, unit: str) -> float:
     if unit:
         return parse_quantity(raw, unit)
     if isinstance(raw, bool) or not isinstance(raw, (int, float)):
-        raise ValueError(f"got {raw!r}, a plain number is needed here")
+        raise ValueError(f"got {raw!r}; accepted: a plain number")
     return float(raw)
 
 
@@ -168,8 +177,8 @@ def _range_items(option: str, key: str, text: str, unit: str, current: object) -
     ends = [_scalar(m[name].strip()) for name in ("start", "stop")]
     try:
         lo, hi = (_si(end, unit) for end in ends)
-    except (UnitParseError, ValueError) as exc:
-        raise _option_error(option, key, f"range endpoint: {exc}") from None
+    except (UnitParseError, ValueError) as exc:  # the message says what the field accepts
+        raise InputError(Problem("--vary", None, None, key, f"{option!r}: range endpoint: {exc}")) from None
     if lo == hi:
         raise _option_error(option, key, "START and STOP are equal")
     if spacing == "log" and (lo <= 0 or hi <= 0):
@@ -457,19 +466,40 @@ class SweepResult:
                 "notes": list(self.notes), **({"timing": {"total_s": self.seconds}} if timing else {})}
 
 
+def estimated_seconds(points: int, first_s: float, workers: int) -> float:
+    """Wall time [s] of a grid of `points` whose first point took `first_s` here and whose other
+    points share `workers` workers alike (the first point includes start-up, so this errs long)."""
+    return first_s * (1 + math.ceil((points - 1) / workers))
+
+
+def _check_confirmed(points: int, first_s: float, workers: int) -> None:
+    """InputError with the estimate when the grid exceeds CONFIRM_POINTS or CONFIRM_SECONDS."""
+    seconds = estimated_seconds(points, first_s, workers)
+    if points <= CONFIRM_POINTS and seconds <= CONFIRM_SECONDS:
+        return
+    over = f" over {workers} workers" if workers > 1 else " on one worker"
+    raise InputError(Problem("--vary", None, None, "grid", f"{points:,} points would take about "
+                             f"{format_quantity(seconds, 's', 2)}{over} (estimated from the first point, which "
+                             f"took {format_quantity(first_s, 's', 2)}); accepted without --yes: at most "
+                             f"{CONFIRM_POINTS:,} points and about {format_quantity(CONFIRM_SECONDS, 's')}; "
+                             "give --yes (confirmed=True in Python) to run it, or fewer values"))
+
+
 def sweep(brief: Brief | str | Path, vary: Mapping[str, Sequence[str | float] | str] | Sequence[str], *,
           jobs: int = 1, scheduler: str | None = None, only: Sequence[str] | None = None,
           samples: int | None = None, seed: int | None = None, method: str = "wsm",
           catalog_files: Sequence[str | Path] = (),
-          progress: Callable[[int, int], None] | None = None) -> SweepResult:
+          progress: Callable[[int, int], None] | None = None, confirmed: bool = False) -> SweepResult:
     """Run the study at every point of the grid `vary` spans over `brief` (a Brief or a brief file).
 
     vary: {dotted key: values} (a list of values, or one text in the --vary syntax after '='),
     or a list of `KEY=VALUES` texts; jobs: local worker processes (1 runs here); scheduler: a
     Dask scheduler address (then jobs is ignored); only, method, catalog_files: as for study();
     samples, seed: override the brief's Monte Carlo settings at every point; progress: called
-    as progress(done, total) after each point. Raises InputError before running anything when
-    a value or a grid point is not a valid brief.
+    as progress(done, total) after each point; confirmed: run a grid beyond CONFIRM_POINTS or
+    CONFIRM_SECONDS. Raises InputError before running anything when a value or a grid point is
+    not a valid brief, and after the first point (with the estimate) when an unconfirmed grid is
+    too large.
     """
     from tradeoff.catalog import load_catalog
     from tradeoff.trade_study import resolve_topologies
@@ -485,17 +515,22 @@ def sweep(brief: Brief | str | Path, vary: Mapping[str, Sequence[str | float] | 
     tasks = [_Task(index, point_brief, tuple(only) if only else None, method, files) for index, point_brief in points]
     done = [0]
 
-    def tick(_future: Future) -> None:
+    def tick(_future: Future | None) -> None:
         done[0] += 1
         if progress is not None:
             progress(done[0], len(tasks))
 
     with executor(jobs, scheduler, files) as pool:
-        futures = [pool.submit(run_point, task) for task in tasks]
+        first_start = time.perf_counter()
+        first_record = run_point(tasks[0])  # here, before any worker starts: its time gives the estimate
+        if not confirmed:
+            _check_confirmed(len(tasks), time.perf_counter() - first_start, 1 if scheduler else jobs)
+        tick(None)
+        futures = [pool.submit(run_point, task) for task in tasks[1:]]
         for future in futures:
             future.add_done_callback(tick)
         try:
-            records = [future.result() for future in futures]
+            records = [first_record] + [future.result() for future in futures]
         except BaseException:
             for future in futures:
                 future.cancel()
