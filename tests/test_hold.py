@@ -11,7 +11,7 @@ from tradeoff.topologies.hold_state import shunt_ohm
 def test_shunt_option_parsing():
     assert shunt_ohm(Design("rc-darlington", options={"shunt": "10 Mohm"})) == pytest.approx(1e7)
     assert shunt_ohm(Design("rc-darlington", options={})) is None
-    with pytest.raises(DesignKeyError, match=r"options\.shunt: .*accepted: a resistance.*, or none$") as caught:
+    with pytest.raises(DesignKeyError, match=r"options\.shunt: .*; accepted: a resistance \('10 Mohm'\) or none$") as caught:
         shunt_ohm(Design("rc-darlington", options={"shunt": "10 furlongs"}))
     assert caught.value.path == ("options", "shunt")  # the design loader places it at that key
     with pytest.raises(DesignKeyError, match="not a positive resistance"):

@@ -237,8 +237,13 @@ def test_override_outside_its_range_is_a_located_error(tmp_path, example, extra,
 
 
 @pytest.mark.parametrize("example, old, new, fragment", [
-    ("rc-counter.yaml", "cascade: 0", "cascade: 99", "options.cascade: 99 is outside what any counter chain has"),
+    ("rc-counter.yaml", "cascade: 0", "cascade: 99", "options.cascade: 99 is outside what this chain can have"),
+    # the rc-counter class chains two counters: cascade 15 (16 counters) was accepted with a 5.5e+63 h nominal
+    ("rc-counter.yaml", "cascade: 0", "cascade: 15", "options.cascade: 15 is outside what this chain can have "
+     "(rc-counter chains at most 2 counters); accepted: a whole number from 0 to 1"),
     ("rc-counter.yaml", "stage: 14", "stage: 9223372036854775808", "options.stage: 9223372036854775808 is outside"),
+    ("rc-counter.yaml", "stage: 14", "stage: 40", "options.stage: 40 is outside what this chain can have "
+     "(counter-cmos-14stage has 14 stages); accepted: a whole number from 0 to 14"),
     ("rc-counter.yaml", "c_timing: 5.6 uF", "c_timing: 1e308 F",
      "values.c_timing: '1e308 F' is outside what a capacitor can be; accepted: 1 pF to 100 F"),
     ("rc-darlington.yaml", "r_hold: 470 kohm", "r_hold: 1 pohm", "values.r_hold: '1 pohm' is outside"),
@@ -248,6 +253,9 @@ def test_absurd_design_values_are_refused(tmp_path, example, old, new, fragment)
     path = _design(tmp_path, example, old=old, new=new)
     result = _run("analyze", path)
     assert result.exit_code == EXIT_INPUT and fragment in result.output, result.output
+    line = 1 + path.read_text().split(new)[0].count("\n")
+    assert result.output.startswith(f"Error: {path}:{line}:"), result.output  # located at the value's line
+    assert "e+" not in result.output.replace(new, "")  # no nominal of 5.5e+63 h or any other figure shown
 
 
 @pytest.mark.parametrize("tolerance", ["-5", "-1e300", "1e308"])
@@ -325,3 +333,39 @@ def test_a_python_tag_in_a_user_catalog_is_a_located_error(tmp_path):
     result = CliRunner().invoke(cli, ["catalog", "res-tagged", "--catalog", str(path)])
     assert result.exit_code == 2, result.output
     assert f"{path}:4:18: value: unsupported YAML tag 'tag:yaml.org,2002:python/object:os.system'" in result.output
+
+
+# ---- unit errors say what is accepted, once (issue 13: "such as" rather than "accepted:") --------
+
+@pytest.mark.parametrize("where, old, new, fragment", [
+    ("brief", "nominal: 2 h ", "nominal: 12 V ", "delay.nominal: '12 V' is a voltage; accepted: a time"),
+    ("brief", "tolerance: ±15 %", "tolerance: 15",
+     "the bare number '15' is ambiguous (15 % or 15 times?); accepted: '15 %' for percent or 0.15"),
+    ("design", "c_hold: 470 uF", "c_hold: 470 V", "values.c_hold: '470 V' is a voltage; accepted: a positive"),
+    ("design", "r_hold: 470 kohm, ", "", "missing value role 'r_hold'"),
+    ("design", "values:", "overrides: {darlington-npn-small: {vbe_test_current: 3 V}}\nvalues:",
+     "vbe_test_current: '3 V' is a voltage; accepted: a quantity in mA (as the catalog's '10 mA')"),
+    ("design", "values:", "overrides: {cap-electrolytic-low-leakage: {tolerance: 20}}\nvalues:",
+     "the bare number '20' is ambiguous (20 % or 20 times?); accepted: a percentage ('20 %') or a fraction"),
+    ("design", "options: {", "options: {shunt: 10 V, ", "options.shunt: '10 V' is a voltage; accepted: a "
+     "positive quantity with its unit (in ohm)"),
+])
+def test_unit_errors_say_accepted_once_and_never_such_as(tmp_path, where, old, new, fragment):
+    if where == "brief":
+        path = tmp_path / "brief.yaml"
+        path.write_text(GOOD_BRIEF.replace(old, new, 1), encoding="utf-8")
+        result = _check(path)
+    else:
+        path = _design(tmp_path, "rc-darlington.yaml", old=old, new=new)
+        result = _run("analyze", path)
+    assert result.exit_code == EXIT_INPUT, result.output
+    error = next(line for line in result.output.splitlines() if line.startswith("Error:"))
+    assert error.startswith(f"Error: {path}:") and fragment in error, error
+    assert error.count("accepted:") == 1 and "such as" not in error, error
+
+
+def test_a_sweep_range_endpoint_in_the_wrong_unit_names_the_fields_unit_once():
+    result = _run("sweep", EXAMPLES / "fan_run_on.yaml", "--vary", "delay.nominal=1V..2V:3")
+    assert result.exit_code == EXIT_INPUT
+    assert "range endpoint: '1V' is a voltage; accepted: a time" in result.output
+    assert result.output.count("accepted:") == 1

@@ -80,6 +80,17 @@ def test_plain_labels_only(brief):
         assert internal not in text
 
 
+_EXPONENT = re.compile(r"\d(?:\.\d+)?[eE][-+]?\d")
+"""A number written with an exponent ('4.34e-17 %', '1.29e-25 fs', '8.19e+03'): outside the display range."""
+
+
+@pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
+def test_no_figure_has_an_exponent(brief):
+    """Every figure of every example's report is written out ('< 0.01 %', '0 s', '8190'), never in e-notation."""
+    text = _text(_study(brief), 160, verbose=True)
+    assert _EXPONENT.findall(text) == [], [line for line in text.splitlines() if _EXPONENT.search(line)][:3]
+
+
 def test_counts_per_rule_only_when_verbose():
     result = _study(ROOT / "examples" / "towel_rail_boost.yaml")
     rules = [rule for o in result.infeasible() for r in o.reasons for rule in split_reason(r).rules]
@@ -142,6 +153,7 @@ def test_analyze_report_speaks_plainly(design):
     assert "values: " in head and "worst-case minimum" in head
     assert _INTERNAL_NAME.findall(head) == []
     assert not re.search(r"µ1/K|fraction of|dimensionless", head)  # tempcos in ppm/K, thresholds in % of VDD
+    assert _EXPONENT.findall(out) == []  # no '1.29e-25 fs' anywhere in the report
 
 
 def test_short_reasons_of_the_optimiser_sentences():

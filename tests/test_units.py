@@ -126,7 +126,7 @@ def test_pint_misreads_plus_minus_which_is_why_we_parse_it():
 
 
 @pytest.mark.parametrize("text, fragment", [
-    ("20", "the bare number '20' is ambiguous; write '20 %' for percent"),
+    ("20", "the bare number '20' is ambiguous (20 % or 20 times?); accepted: '20 %' for percent or 0.2"),
     (20, "ambiguous"),
     ("1", "ambiguous"),
     ("±-5 %", "sign after '±'"),
@@ -152,6 +152,22 @@ def test_rejected_fractions(text, fragment):
 ])
 def test_format_quantity(value, unit, text):
     assert format_quantity(value, unit) == text
+
+
+@pytest.mark.parametrize("value, unit, text", [
+    (4.34e-19, "%", "< 0.01 %"), (-4.34e-19, "%", "> -0.01 %"), (1e-4, "%", "0.01 %"),  # was '4.34e-17 %'
+    (1.29e-40, "s", "0 s"), (1.29e-40, "A", "0 A"), (3e-16, "s", "0.3 fs"),  # was '1.29e-25 fs'
+    (8190.4, "", "8190"), (1234567.8, "", "1230000"), (4.2e-17, "", "0"), (0.00047, "", "0.00047"),
+    (1e-17, "degC", "0 °C"), (2.5e-9, "ohm", "2.5 nΩ"),
+])
+def test_tiny_and_large_figures_are_written_out(value, unit, text):
+    """A figure below the display range reads as '< 0.01 %' or '0 s', never in e-notation (issue 13)."""
+    assert format_quantity(value, unit) == text
+
+
+@given(st.floats(min_value=-1e12, max_value=1e12), st.sampled_from(["", "%", "s", "F", "degC", "A"]))
+def test_no_format_uses_an_exponent(value, unit):
+    assert "e" not in format_quantity(value, unit).replace("µ", "")
 
 
 @pytest.mark.parametrize("value", [math.nan, math.inf, -math.inf])

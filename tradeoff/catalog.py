@@ -273,7 +273,7 @@ class _FileReader:
         for required in ("value", "source"):
             if required not in children:
                 self.problem(node, f"{key}.{required}", f"missing '{required}'; accepted: {{value: ..., source: ...}}"
-                                                        " with a source such as a datasheet, 'common practice', "
+                                                        " with a source naming a datasheet, or 'common practice', "
                                                         "'from memory' or 'indicative'")
                 ok = False
         if not ok:

@@ -122,7 +122,7 @@ def _quantity(r: _Reader, path: tuple, raw: object, unit: str) -> float | None:
     try:
         value = float(raw) if isinstance(raw, (int, float)) else parse_quantity(raw, unit)
     except UnitParseError as exc:
-        r.problem(path, f"{exc}; {accepted}")
+        r.problem(path, f"{exc.reason}; {accepted}")
         return None
     if not (math.isfinite(value) and value > 0):
         r.problem(path, f"got {show(raw)}; {accepted}")
@@ -184,7 +184,7 @@ def _read_values(r: _Reader, raw: object, topology: "Topology") -> dict[str, flo
         if name not in given:
             unit = _ROLE_UNITS[role.kind]
             r.problem(("values",), f"missing value role '{name}' ({role.description}); accepted: a quantity in "
-                      f"{unit} such as {name}: {'220 kohm' if unit == 'ohm' else '470 uF'}")
+                      f"{unit}, e.g. {name}: {'220 kohm' if unit == 'ohm' else '470 uF'}")
     return values
 
 
@@ -246,7 +246,7 @@ def _override_value(r: _Reader, path: tuple, raw: object, written: object) -> ob
     if unit == "":
         shown = "a plain number"
     elif unit == "%":
-        shown = "a percentage such as '20 %' or a fraction such as 0.2"
+        shown = "a percentage ('20 %') or a fraction below 1 (0.2)"
     else:
         example = written[0] if isinstance(written, tuple) else written
         shown = f"a quantity in {unit} (as the catalog's {example!r}) or a bare number in SI"
@@ -268,7 +268,7 @@ def _override_value(r: _Reader, path: tuple, raw: object, written: object) -> ob
             else:
                 converted.append(parse_quantity(item, unit))
         except UnitParseError as exc:
-            r.problem(path, f"{exc}; accepted: {shown}")
+            r.problem(path, f"{exc.reason}; accepted: {shown}")
             return None
     outside = param_rules.value_problem(str(path[-1]), converted, "" if unit in ("", "%") else dimension(unit),
                                         unit == "%")

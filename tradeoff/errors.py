@@ -110,6 +110,11 @@ class UnitParseError(TradeoffError, ValueError):
 
     exit_code = EXIT_INPUT
 
+    @property
+    def reason(self) -> str:
+        """What is wrong, without the "; accepted: ..." tail, for a caller that states its own accepted values."""
+        return str(self).split("; accepted: ", 1)[0]
+
 
 class InfeasibleError(TradeoffError, RuntimeError):
     """No design of any allowed topology meets the brief; carries the per-topology reasons."""

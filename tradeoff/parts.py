@@ -69,7 +69,7 @@ def _check_text(text: str) -> str | None:
         except ValueError:  # pint does not know the unit: read as a plain number for the reason
             parse_quantity(text, "")
     except UnitParseError as exc:  # its tail names the dimension we guessed: drop it
-        return str(exc).split("; accepted: ", 1)[0]
+        return exc.reason
     return None
 
 

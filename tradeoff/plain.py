@@ -63,7 +63,7 @@ def quantity_text(value: float, unit: str) -> str:
     """A quantity with its unit as a reader writes it: '100 ppm/K', '30 % of VDD', '4.7 µF'."""
     if unit in FIXED_SCALE_UNITS and unit != "degC":
         shown, factor = FIXED_SCALE_UNITS[unit]
-        number = f"{float(f'{value * factor:.3g}'):g}"
+        number = fq(value * factor, "")
         return number if shown == "—" else f"{number} {shown}"
     return fq(value, unit)
 

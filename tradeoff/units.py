@@ -79,6 +79,12 @@ _DIMENSIONS = (
 
 _SYMBOLS = {"ohm": "Ω", "degC": "°C"}
 _ENGINEERING_PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+_SMALLEST_MANTISSA = 0.01
+"""Smallest mantissa shown on the smallest prefix (0.01 fs); less displays as 0 (a display limit)."""
+_SMALLEST_PLAIN = 1e-4
+"""Smallest plain number or degree Celsius shown as a number; less displays as 0."""
+_SMALLEST_PERCENT = 0.01
+"""Smallest percentage shown as a number [%]; a smaller nonzero one prints "< 0.01 %"."""
 
 
 @functools.lru_cache(maxsize=1)
@@ -231,7 +237,7 @@ def parse_quantity(text: str | int | float, unit: str) -> float:
 
 
 _FRACTION_RE = re.compile(rf"^\s*(±|\+/-|\+-)?\s*({_NUMBER})\s*(%?)\s*$")
-_FRACTION_ACCEPTED = "accepted: '20 %', '±20 %', '+/-20%', or a fraction below 1 such as 0.2"
+_FRACTION_ACCEPTED = "accepted: '20 %', '±20 %', '+/-20%' or a fraction below 1 (0.2)"
 
 
 def parse_fraction(text: str | int | float) -> float:
@@ -256,8 +262,8 @@ def parse_fraction(text: str | int | float) -> float:
     if percent:
         return value / 100.0
     if abs(value) >= 1:
-        raise UnitParseError(f"the bare number '{shown}' is ambiguous; write '{number} %' for percent "
-                             f"or a fraction below 1 such as {value / 100:g}")
+        raise UnitParseError(f"the bare number '{shown}' is ambiguous ({number} % or {number} times?); accepted: "
+                             f"'{number} %' for percent or {value / 100:g}, a fraction below 1")
     return value
 
 
@@ -275,15 +281,16 @@ def engineering_prefix(value: float) -> tuple[str, float]:
 
 
 def _engineering(value: float, symbol: str, digits: int) -> str:
-    """`value` with an engineering prefix on `symbol`, `digits` significant digits."""
-    if value == 0:
-        return f"0 {symbol}"
-    exponent = _exponent(value)
+    """`value` with an engineering prefix on `symbol`, `digits` significant digits; below a
+    hundredth of the smallest prefix (femto) it is "0" (a 1e-25 fs rounding residue is zero)."""
+    exponent = _exponent(value) if value else 0
     mantissa = float(f"{value / 10 ** exponent:.{digits}g}")
     if abs(mantissa) >= 1000 and exponent < 12:
         exponent += 3
         mantissa = float(f"{value / 10 ** exponent:.{digits}g}")
-    return f"{mantissa:.{digits}g} {_ENGINEERING_PREFIXES[exponent]}{symbol}"
+    if abs(mantissa) < _SMALLEST_MANTISSA:
+        return f"0 {symbol}"
+    return f"{_plain(mantissa, digits)} {_ENGINEERING_PREFIXES[exponent]}{symbol}"
 
 
 def _rounded(value: float, digits: int) -> float:
@@ -291,28 +298,46 @@ def _rounded(value: float, digits: int) -> float:
     return float(f"{value:.{digits}g}")
 
 
+def _plain(value: float, digits: int) -> str:
+    """`value` to `digits` significant digits written out without an exponent ('8190', '1230000',
+    '0.00047'); a magnitude of 1e15 or more keeps its exponent, being beyond every accepted input."""
+    rounded = _rounded(value, digits)
+    text = f"{rounded:.{digits}g}"
+    if "e" not in text or abs(rounded) >= 1e15:
+        return text
+    decimals = max(0, digits - 1 - math.floor(math.log10(abs(rounded))))
+    return f"{rounded:.{decimals}f}"
+
+
 def format_quantity(value: float, unit: str, digits: int = 3) -> str:
     """Display text for an SI `value` in `unit`: 2.2e6, "ohm" -> "2.2 MΩ"; 4.7e-5, "F" -> "47 µF".
 
     Times ("s") below a minute use s/ms/µs, below an hour min, otherwise h (14400 -> "4 h");
     "degC" prints "25 °C"; "%" takes a fraction (0.2 -> "20 %"); "" prints a plain number.
-    Raises ValueError for NaN or infinity, which must never reach a display.
+    No figure is written with an exponent: a percentage below 0.01 % prints "< 0.01 %", a time
+    or prefixed quantity below 0.01 of femto "0 s" ("0 A"), a plain number or temperature below
+    1e-4 "0". Raises ValueError for NaN or infinity, which must never reach a display.
     """
     if not math.isfinite(value):
         raise ValueError(f"cannot display a non-finite value {value!r} {unit}")
     value = float(value)
     if unit == "s":
         if abs(_rounded(value / 3600, digits)) >= 1:
-            return f"{_rounded(value / 3600, digits):g} h"
+            return f"{_plain(value / 3600, digits)} h"
         if abs(_rounded(value / 60, digits)) >= 1:
-            return f"{_rounded(value / 60, digits):g} min"
+            return f"{_plain(value / 60, digits)} min"
         return _engineering(value, "s", digits)
     if unit == "%":
-        return f"{_rounded(value * 100, digits):g} %"
+        percent = value * 100
+        if 0 < abs(percent) < _SMALLEST_PERCENT:
+            return f"< {_SMALLEST_PERCENT:g} %" if percent > 0 else f"> -{_SMALLEST_PERCENT:g} %"
+        return f"{_plain(percent, digits)} %"
+    shown = _plain(value, digits) if abs(value) >= _SMALLEST_PLAIN else "0"
     if unit in _CELSIUS:
-        return f"{_rounded(value, digits):g} °C"
+        return f"{shown} °C"
     if unit in ("", "dimensionless", "1"):
         if value.is_integer() and abs(value) < 1e15:
             return str(int(value))
-        return f"{_rounded(value, digits):g}"
+        return shown
     return _engineering(value, _SYMBOLS.get(unit, unit), digits)
+

@@ -32,7 +32,8 @@ def shunt_ohm(design: "Design") -> float | None:
         try:
             value = parse_quantity(raw, "ohm")
         except UnitParseError as exc:
-            raise DesignKeyError(("options", "shunt"), f"{exc}, or none") from None
+            raise DesignKeyError(("options", "shunt"), f"{exc.reason}; accepted: a resistance "
+                                 "('10 Mohm') or none") from None
     else:
         value = float(raw)
     if not (math.isfinite(value) and value > 0):

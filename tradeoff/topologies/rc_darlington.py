@@ -170,7 +170,7 @@ class RcDarlington(RcHoldTopology):
                 v0 = v - self.diode(design).value("vf", "V")
             r_allowed = min(r_allowed, hfe * max(v0 - drop, 0.0) / sat)
         ok = np.asarray(r_hi_ohm, dtype=float) <= r_allowed
-        return ok, (f"base drive at the start cannot saturate the Darlington (hFE min {hfe:.3g} and VBE(on) "
+        return ok, (f"base drive at the start cannot saturate the Darlington (hFE min {fq(hfe, '')} and VBE(on) "
                     f"{fq(vbe, 'V')} at {amb.min_c:g} °C, coil current up to {fq(sat, 'A')}): the hold resistor "
                     f"with its tolerance may be at most {fq(r_allowed, 'Ω')}")
 

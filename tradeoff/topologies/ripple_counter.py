@@ -53,10 +53,6 @@ __all__ = ["CounterTimer", "DECOUPLING_F"]
 DECOUPLING_F = 100e-9
 """Supply decoupling at each counter [F] (common practice)."""
 
-_CHAIN_LIMITS = ((0, 64), (0, 16), (0, 64))
-"""Evaluable (stage, cascade, link_stage) ranges: up to 64 stages per counter, 16 counters in cascade."""
-
-
 class CounterTimer(Topology):
     """Common base of the counter topologies: counter chain, stage or decoded outputs, latch, reset,
     logic rail and load switch.
@@ -112,13 +108,16 @@ class CounterTimer(Topology):
     def _chain(self, design: Design) -> tuple[int, int, int]:
         """(output stage N of the last counter, extra counters in cascade, stage L of each earlier
         counter that clocks the next; default its last stage)."""
-        last = int(self._counter(design).value("stages", ""))
+        counter = self._counter(design)
+        last, most = int(counter.value("stages", "")), int(self.entry.value("max_counters", ""))
         chain = (int(design.options.get("stage", last)), int(design.options.get("cascade", 0)),
                  int(design.options.get("link_stage", last)))
-        for name, value, (low, high) in zip(("stage", "cascade", "link_stage"), chain, _CHAIN_LIMITS):
-            if not low <= value <= high:  # beyond any counter chain (the class's own limits are findings)
-                raise DesignKeyError(("options", name), f"{value} is outside what any counter chain "
-                                     f"has; accepted: a whole number from {low} to {high}")
+        limits = ((f"{counter.id} has {last} stages", last), (f"{self.id} chains at most {most} counters", most - 1),
+                  (f"{counter.id} has {last} stages", last))
+        for name, value, (why, high) in zip(("stage", "cascade", "link_stage"), chain, limits):
+            if not 0 <= value <= high:  # a delay of 2^(stages) periods beyond the chain would be fiction
+                raise DesignKeyError(("options", name), f"{value} is outside what this chain can "
+                                     f"have ({why}); accepted: a whole number from 0 to {high}")
         return chain
 
     def outputs(self, design: Design) -> tuple[tuple[int, int], ...]:
@@ -265,10 +264,10 @@ class CounterTimer(Topology):
         return out
 
     def checks(self, design: Design) -> list[Finding]:
-        """Rail, stages brought out, cascade length, decoding, load switch, output sink, latch, reset, oscillator."""
+        """Rail, stages brought out, decoding, load switch, output sink, latch, reset, oscillator."""
         counter = self._counter(design)
         plan = self.plan(counter)
-        stage, cascade, link = self._chain(design)
+        _, cascade, link = self._chain(design)
         out = [Finding("violation", "rail", p) for p in plan.rail_problems]
         out += [Finding("violation", "load-switch", p) for p in plan.switch_problems]
         outs = [int(v) for v in counter.values("stages_out", "")]
@@ -277,10 +276,6 @@ class CounterTimer(Topology):
             if n not in outs:
                 out.append(Finding("violation", what, f"{what} {n} is not brought out on {counter.id}; "
                                                       f"accepted: {', '.join(map(str, outs))}"))
-        most = int(self.entry.value("max_counters", ""))
-        if not 0 <= cascade < most:
-            out.append(Finding("violation", "cascade", f"cascade {cascade} needs {cascade + 1} counters; "
-                                                       f"accepted: 0 to {most - 1}"))
         pullup = self._design_pullup(design, counter, plan)
         if self._decoded(design):
             out += self._decode_checks(design, counter, plan)
