@@ -187,6 +187,18 @@ def test_suggestions_only_when_really_close():
     assert closest("xyz", ["title", "delay"]) is None
 
 
+@pytest.mark.parametrize("written, fragment", [("1e308", "accepted: a number from 0 to 100"),
+                                               ("9" * 309, "accepted: numbers of at most 100 characters")])
+def test_a_huge_weight_is_refused_not_echoed(tmp_path, written, fragment):
+    # weights.cost=1e308 used to come back as a 309-digit number; it is refused with the accepted range
+    path = tmp_path / "brief.yaml"
+    path.write_text(GOOD_BRIEF.replace("  cost: 1\n", f"  cost: {written}\n", 1), encoding="utf-8")
+    result = _check(path)
+    assert result.exit_code == EXIT_INPUT
+    assert f"{path}:45:" in result.output and fragment in result.output
+    assert "9" * 20 not in result.output  # never echoed as a 309-digit figure
+
+
 @pytest.mark.parametrize("written, fragment", [
     ("\uff11\uff12 V", "supply.nominal: '\uff11\uff12 V' has digits other than ASCII 0-9"),  # never read as 12 V
     ("1e308 V", "supply.nominal: 1e308 V is outside the accepted range; accepted: 1 V to 60 V"),  # not '1e+296 TV'
