@@ -127,8 +127,8 @@ def windowed_hold_rows(topo: "Topology", design0: "Design", r: pd.DataFrame, c: 
     by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in dict.fromkeys(inner["part"])]
     group_outer = np.repeat(np.arange(len(outer)), len(by_part))
     group_part = np.tile(np.arange(len(by_part)), len(outer))
-    sizes = np.array([len(rows) for rows in by_part], dtype=np.int64)[group_part]
-    offsets = np.concatenate([[0], np.cumsum([len(rows) for rows in by_part], dtype=np.int64)]).astype(np.int64)
+    counts = np.array([len(rows) for rows in by_part], dtype=np.int64)
+    sizes, offsets = counts[group_part], np.concatenate([[0], np.cumsum(counts)])
     inner_order = np.concatenate(by_part) if by_part else np.zeros(0, dtype=np.int64)
 
     def pairs(groups, rows):

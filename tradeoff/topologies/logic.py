@@ -128,16 +128,16 @@ def rail_options(brief: "Brief", catalog: "Catalog", load_min_v: float, load_max
 def logic_rail(brief: "Brief", catalog: "Catalog", option: str, load_min_v: float, load_max_v: float) -> LogicRail:
     """The rail named by design option `regulator` (a regulator class id or 'none'); a DesignKeyError
     at that option when the rail cannot power the IC."""
-    regulators = catalog.parts("ldo")
+    regulators = {p.id: p for p in catalog.parts("ldo")}
     if option == NO_REGULATOR:
         made = _direct(brief, load_min_v, load_max_v)
-    elif option in (p.id for p in regulators):
-        made = _regulated(brief, catalog.part(option), load_min_v, load_max_v)
+    elif option in regulators:
+        made = _regulated(brief, regulators[option], load_min_v, load_max_v)
     else:
         made = f"unknown regulator class {option!r}"
     if isinstance(made, str):
         raise DesignKeyError(("options", "regulator"), f"{made}; accepted: {NO_REGULATOR!r} or a regulator "
-                             f"class id ({', '.join(p.id for p in regulators)}) that fits")
+                             f"class id ({', '.join(regulators)}) that fits")
     return made
 
 

@@ -1,8 +1,8 @@
 """RC hold with a micropower comparator and voltage reference.
 
 Circuit: the start charges the hold capacitor c_hold to the logic rail V0; it then discharges
-through r_hold (and its own leakage, the comparator's input bias current, an optional
-shunt and the brief's board-surface leakage). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
+through r_hold (and its own leakage, the comparator's input bias current and an optional
+shunt). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
 divider (R_TOP from the reference, R_BOTTOM to ground) with a hysteresis resistor R_HYST from
 the output MOSFET's drain, an inverted copy of the comparator output. While timing, the output
 is high, the MOSFET conducts and its drain is near 0 V: the threshold is

@@ -117,7 +117,7 @@ class Timer555(Topology):
         return list(_ROLES)
 
     def _timer(self, design: Design) -> _Timer:
-        return self._timer_class(self.option_part(design, "timer", self._timer_ids()[0]))
+        return self._timer_class(self.option_part(design, "timer"))
 
     def _timer_ids(self) -> list[str]:
         return [p.id for p in self.catalog.parts("timer555")]
