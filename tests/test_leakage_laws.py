@@ -121,3 +121,43 @@ def test_comparator_corners_find_the_extremes_of_a_dense_ambient_scan(catalog):
         w = topo.worst_case(d)
         assert (float(row["delay_lo"]), float(row["delay_hi"])) == pytest.approx((w.min_s, w.max_s), rel=1e-6)
         assert LEAK_LEVEL in w.at_min
+
+
+def test_monte_carlo_leakage_assumption_in_every_report(catalog):
+    # the sentence states the spreads the models really draw (tradeoff.analysis.Uncertain: normal and
+    # log-normal with the farther limit at 3 sigma, uniform within the band), once in the terminal
+    # report, in the JSON and on the review page
+    import html
+    import io
+    import json
+
+    from rich.console import Console
+
+    from tradeoff.plain import LEAKAGE_SPREAD_ASSUMPTION
+    from tradeoff.report.html import review_html
+    from tradeoff.report.study_text import render_study
+    from tradeoff.trade_study import study
+
+    brief = load_brief(EXAMPLES / "fan_run_on.yaml")
+    comparator = build_topology("rc-comparator", brief, catalog).quantities(
+        Design("rc-comparator", {"r_hold": 47e6, "c_hold": 10e-6},
+               {"regulator": "ldo-micropower", "c_hold_part": "cap-film-pet-10pct",
+                "r_hold_part": "res-thick-film-high-value-5pct"}))
+    timers = [build_topology("timer555", brief, catalog).quantities(
+        Design("timer555", {"r_timing": 2.2e6, "c_timing": 22e-6},
+               {"timer": "timer555-bipolar", "r_timing_part": "res-metal-film-1pct", "c_timing_part": part}))
+        for part in ("cap-electrolytic-85c", "cap-film-pet-10pct")]
+    assert (comparator[LEAK_LEVEL].dist, comparator[LEAK_LEVEL].lo, comparator[LEAK_LEVEL].hi) == ("normal", -1.0, 1.0)
+    assert "normal about a typical part with the datasheet limit at 3 standard deviations" in LEAKAGE_SPREAD_ASSUMPTION
+    assert {timers[0][n].dist for n in ("c_timing_leakage", "threshold_a", "discharge_a")} == {"lognormal"}
+    assert "electrolytic leakage, threshold and discharge-pin currents log-normal" in LEAKAGE_SPREAD_ASSUMPTION
+    assert (timers[1]["c_timing_leakage"].dist, timers[1]["c_timing_leakage"].nominal) == ("fixed", 1.0)
+    assert "film capacitor at the guaranteed insulation resistance in every unit" in LEAKAGE_SPREAD_ASSUMPTION
+    assert (comparator["bias_frac"].dist, comparator["bias_frac"].lo) == ("uniform", -1.0)
+    assert "input bias uniform between plus and minus its limit" in LEAKAGE_SPREAD_ASSUMPTION
+    result = study(EXAMPLES / "fan_run_on.yaml", samples=200, only=("rc-comparator",))
+    buffer = io.StringIO()
+    render_study(result, Console(file=buffer, width=400, color_system=None, force_terminal=False))
+    assert " ".join(buffer.getvalue().split()).count(LEAKAGE_SPREAD_ASSUMPTION) == 1
+    assert json.loads(json.dumps(result.to_dict()))["assumptions"] == [LEAKAGE_SPREAD_ASSUMPTION]
+    assert LEAKAGE_SPREAD_ASSUMPTION in html.unescape(" ".join(review_html(result).split()))

@@ -11,7 +11,7 @@ import re
 
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["plain_label", "schematic_values", "option_texts", "part_classes", "FIXED_SCALE_UNITS", "quantity_text"]
+__all__ = ["LEAKAGE_SPREAD_ASSUMPTION", "plain_label", "schematic_values", "option_texts", "part_classes", "FIXED_SCALE_UNITS", "quantity_text"]
 
 _LABELS = {
     "ambient_c": "ambient", "supply_v": "supply", "leak_level": "leakage level",
@@ -25,6 +25,16 @@ _LABELS = {
     "timer_supply_coef": "timer supply coefficient", "crystal_aging": "crystal ageing",
 }
 """Names whose plain form is not just the name without its unit suffix and underscores."""
+
+LEAKAGE_SPREAD_ASSUMPTION = (
+    "Monte Carlo leakage (an assumption): a hold capacitor's leakage and a MOSFET's gate leakage are drawn normal "
+    "about a typical part with the datasheet limit at 3 standard deviations (cut off at no leakage and at the "
+    "limit); the 555's electrolytic leakage, threshold and discharge-pin currents log-normal about their typical "
+    "values with the limit at 3 standard deviations (cut off there), its film capacitor at the guaranteed "
+    "insulation resistance in every unit; a comparator's input bias uniform between "
+    "plus and minus its limit at the unit's ambient; the worst case takes the datasheet limits.")
+"""The one sentence every report prints about how leakage is spread in the Monte Carlo (its law:
+tradeoff.devices.capacitor.leakage_level, tradeoff.topologies.ic_common.typical_to_limit)."""
 
 _UNIT_SUFFIX = re.compile(r"_(ohm|hz|s|v|a|f|c|w|frac|ppm|part)$")
 _QUALIFIER = re.compile(r"^(?P<base>.+)_(?P<what>tempco|leakage|part)$")
