@@ -322,6 +322,19 @@ def test_tolerance_spread_wider_than_the_band():
                                        "corners; the band 19 s to 21 s allows ×1.11"]
 
 
+def test_a_spread_wider_than_the_band_is_named_before_a_band_edge_out_of_reach():
+    """A topology keeps only candidates whose nominal delay lies in the band, so 'the longest-delay candidates
+    time out too early' may only say that the longer ones were dropped; a spread wider than the band binds
+    wherever the band lies and comes first. ±20 % spreads the delay by 1.2/0.8 = ×1.5; 19 s..21 s allows ×1.11;
+    the longest worst-case shortest delay is 20 s · 0.8 = 16 s."""
+    model = SelectionModel("t", "sum", [rc_block("hold", [10, 20], spread=0.20)])
+    assert reasons(model, (19, 21)) == [
+        "the tolerances alone spread the delay by ×1.5 between the worst-case corners; the band 19 s to 21 s "
+        "allows ×1.11",
+        "even the longest-delay candidates time out too early: the worst-case shortest delay reaches at most 16 s; "
+        "the band's minimum is 19 s"]
+
+
 def test_sum_mode_smallest_spread_matches_brute_force():
     """Dinkelbach's ratio search against the smallest ratio over every combination."""
     rng = np.random.default_rng(4)
