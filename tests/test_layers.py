@@ -30,6 +30,12 @@ REPORT_USERS = ("tradeoff.cli", "tradeoff.__main__")
 MAX_LINES = 600
 """Largest module, in lines, before it is split along its seams."""
 
+TOPOLOGY_MAX_LINES = 400
+"""Largest module of `tradeoff.topologies`, in lines: a topology is a short composition of device laws, its
+rules, netlist, optimiser tables and load or start network sit in modules beside it."""
+
+SHARED_INTERFACE = ("tradeoff.topologies.base",)
+"""The topology interface every topology implements: held to MAX_LINES only."""
 
 
 def module_name(path: Path, root: Path) -> str:
@@ -160,6 +166,14 @@ def _line_counts() -> dict[str, int]:
 def test_no_module_above_the_size_limit():
     too_long = {m: n for m, n in _line_counts().items() if n > MAX_LINES}
     assert too_long == {}, f"split these along their seams (at most {MAX_LINES} lines each)"
+
+
+def test_no_topology_module_above_its_size_limit():
+    counts = _line_counts()
+    topology_modules = [m for m in counts if m.startswith("tradeoff.topologies.") and m not in SHARED_INTERFACE]
+    assert len(topology_modules) > 10 and set(SHARED_INTERFACE) <= set(counts)  # the walk sees the package
+    too_long = {m: counts[m] for m in topology_modules if counts[m] > TOPOLOGY_MAX_LINES}
+    assert too_long == {}, f"split these along their seams (at most {TOPOLOGY_MAX_LINES} lines each)"
 
 
 EXPORT_ONLY = ("matplotlib", "openpyxl")

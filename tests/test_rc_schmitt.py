@@ -13,7 +13,7 @@ from tradeoff.catalog import load_catalog
 from tradeoff.devices.capacitor import LEAK_LEVEL
 from tradeoff.devices.junction import thermal_voltage_v
 from tradeoff.topologies.base import Design
-from tradeoff.topologies.rc_schmitt import falling_trip_v, rising_trip, saturation_current_a
+from tradeoff.devices.schmitt import falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies.registry import build_topology
 
 from conftest import EXAMPLES

@@ -157,11 +157,11 @@ def test_waveform_crosses_threshold_at_the_delay(short):
 def test_windowed_table_equals_the_full_scan(short, catalog, monkeypatch, pairs):
     # bisection over R per capacitor finds the rows a scan of every (R, C) finds, in the same order
     import window_reference
-    from tradeoff.topologies import timer555
+    from tradeoff.topologies import timer555_tables
 
     brief = short.brief.replace({"series.resistor": "E12", "series.pairs": pairs})
     windowed = build_topology("timer555", brief, catalog).selection().blocks[0]
-    monkeypatch.setattr(timer555, "leading_below", window_reference.full_scan)
+    monkeypatch.setattr(timer555_tables, "leading_below", window_reference.full_scan)
     scanned = build_topology("timer555", brief, catalog).selection().blocks[0]
     assert len(scanned.table) > 50
     pd.testing.assert_frame_equal(windowed.table, scanned.table)

@@ -11,6 +11,8 @@ they hold no device physics of their own.
 - `relay`: release current, coil resistance against temperature, linear-region dissipation
 - `oscillator`: two-inverter RC oscillator, tuning-fork crystal, trimmed on-chip RC boxes
 - `comparator`: threshold divider with hysteresis, 555-class monostable width
+- `schmitt`: emitter-coupled two-transistor Schmitt trigger (transfer curve, trip points), RC charge to a
+  trip point against an extra current
 - `supply_current`: IC and regulator quiescent currents read at the supply
 - `start`: push-button and power-on PNP start of a hold, power-on reset release
 - `quadrature`: Gauss–Legendre discharge integrals, chunked evaluation of long sample arrays

@@ -2,32 +2,31 @@
 
 An RC-hold timer charges a hold capacitor at the start and ends when the capacitor has discharged
 far enough for the output stage (a Darlington base, a MOSFET gate) to let the relay go. The frame
-holds what every such topology shares: the part classes, the relay's release band (`devices.relay`),
-the component spreads, the capacitor's leakage (`devices.capacitor`), BOM, standby, design rules and
-the SPICE skeleton; its seams live beside it: the hold state and the shunt option (`hold_state`), the
-start network (`hold_start`, laws in `devices.start`), the bands and candidate pairs (`bands`) and
-the optimiser blocks (`hold_tables`). The topology modules supply the driver: its load law and its
+holds what every such topology shares: the part classes, the component spreads, the capacitor's
+leakage (`devices.capacitor`), BOM and standby; its seams live beside it: the relay coil and its
+release band (`hold_relay`, laws in `devices.relay`), the hold state and the shunt option
+(`hold_state`), the start network (`hold_start`, laws in `devices.start`), the common design rules
+(`hold_rules`), the SPICE skeleton (`hold_spice`), the bands and candidate pairs (`bands`) and the
+optimiser blocks (`hold_tables`). The topology modules supply the driver: its load law and its
 release condition.
 """
 from __future__ import annotations
 
-import math
 from abc import abstractmethod
 from typing import TYPE_CHECKING, ClassVar, Mapping
 
 import numpy as np
 
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
-from tradeoff.devices.junction import hfe_spread, thermal_voltage_v, vbe_at_v
+from tradeoff.devices.junction import hfe_spread
 from tradeoff.devices.quadrature import evaluate_in_chunks
-from tradeoff.devices.relay import (
-    DEFAULT_RELEASE_TYPICAL, coil_ohm_at, derated_power_w, linear_peak_dissipation_w, release_current_a,
-    typical_release_band,
-)
 from tradeoff.analysis import Uncertain
 from tradeoff.topologies.bands import component_band
 from tradeoff.topologies.base import BomLine, Finding, Topology
-from tradeoff.topologies.hold_start import start_checks, start_leakage_a, start_voltage
+from tradeoff.topologies.hold_relay import RelayLoad
+from tradeoff.topologies.hold_rules import hold_checks
+from tradeoff.topologies.hold_spice import hold_netlist
+from tradeoff.topologies.hold_start import start_leakage_a, start_voltage
 from tradeoff.topologies.hold_state import HoldState, HoldWaveform, shunt_ohm
 from tradeoff.topologies.hold_tables import hold_selection
 
@@ -39,28 +38,14 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Design, Role, Standby
 
 
-CHATTER_RELEASE_TIMES = 10
-"""Warn when the coil current takes longer than 10 relay release times to cross the band between
-must-operate and must-release: far slower than the armature's own motion, the contacts open under
-a slowly falling force and can chatter or arc (common practice; release time from the relay class)."""
-
-DEFAULT_RELEASE_TIME_S = 5e-3
-"""Relay release time when no relay class matches the brief's coil [s] (from memory: small PCB relays)."""
-
-DISSIPATION_DERATING = 0.5
-"""Warn above half the derated dissipation rating (common practice)."""
-
-FLYBACK_REVERSE_FACTOR = 3.0
-"""Flyback diode reverse rating of about 3 times the supply (relay manufacturers' application notes)."""
-
-
-class RcHoldTopology(Topology):
+class RcHoldTopology(RelayLoad, Topology):
     """Frame shared by the transistor RC holds: a hold capacitor charged at the start (push-button or
     power-on PNP pulse) discharging through r_hold into a driver (Darlington, MOSFET) that holds the
     relay until the driver's current falls to the relay's release current.
 
-    The frame owns the start, capacitor leakage, shunt, relay release band, component spreads, BOM,
-    standby, common design rules, the optimiser blocks and the SPICE skeleton; a subclass supplies
+    The frame owns the start, capacitor leakage, shunt, relay coil and release band (`RelayLoad`),
+    component spreads, BOM, standby, common design rules, the optimiser blocks and the SPICE
+    skeleton; a subclass supplies
     the driver: its spread quantities, its hold time from a start voltage, its discharge current,
     its output current, its start-drive rule, its checks and its SPICE elements.
     """
@@ -184,71 +169,6 @@ class RcHoldTopology(Topology):
             return float(raw)
         return self.entry.value(name, "ohm")
 
-    # ---- relay ------------------------------------------------------------------------------
-    def relay_part(self) -> "Part | None":
-        """Relay class whose coil voltage matches the brief's coil (for its tolerance and release time)."""
-        load = self.brief.load
-        if load.kind != "relay":
-            return None
-        for part in self.catalog.parts("relay"):
-            if abs(part.value("coil_voltage", "V") - load.coil_voltage_v) < 1e-9:
-                return part
-        return None
-
-    def coil_nominal_ohm(self) -> float:
-        """Load resistance at 25 degC [ohm]: the relay coil, or supply / current for a dc load."""
-        load = self.brief.load
-        if load.kind == "relay":
-            return load.coil_resistance_ohm
-        return self.brief.supply.nominal_v / load.current_a
-
-    def coil_tolerance(self) -> tuple[float, float]:
-        """Coil resistance tolerance (fraction) and temperature coefficient [1/K]."""
-        relay = self.relay_part()
-        if relay is None:
-            return (0.10, 0.00393) if self.brief.load.kind == "relay" else (0.0, 0.0)
-        return relay.value("coil_resistance_tol", ""), relay.value("coil_tempco", "1/K")
-
-    def release_band_frac(self) -> tuple[float, float, float]:
-        """(must-release, must-operate) fractions of the coil's rated current and that rated voltage [V].
-
-        The datasheet's must-release / must-operate voltages hold for every unit at 20-25 degC with
-        its own coil resistance, and a relay releases at a current (ampere-turns), so a unit releases at
-        release_frac·Vc/R_unit with release_frac anywhere between must-release and must-operate (release
-        never exceeds that unit's pick-up). A dc load ends at half its current (stated assumption).
-        """
-        load = self.brief.load
-        if load.kind != "relay":
-            return 0.5, 0.5, self.brief.supply.nominal_v
-        return load.must_release_frac, load.must_operate_frac, load.coil_voltage_v
-
-    def release_typical_frac(self) -> tuple[tuple[float, float] | None, str]:
-        """Band in which units of the relay really release [fractions of the rated coil voltage] and where
-        it comes from: the relay class's typical band, else DEFAULT_RELEASE_TYPICAL (from memory), clipped
-        to the brief's must-release .. must-operate (`devices.relay.typical_release_band`); None for a dc load."""
-        if self.brief.load.kind != "relay":
-            return None, ""
-        relay = self.relay_part()
-        if relay is not None and "release_typ_min" in relay.params and "release_typ_max" in relay.params:
-            band, basis = (relay.value("release_typ_min", ""), relay.value("release_typ_max", "")), relay.id
-        else:
-            band, basis = DEFAULT_RELEASE_TYPICAL, "small PCB relays, from memory"
-        lo, hi, _ = self.release_band_frac()
-        return typical_release_band(*band, lo, hi), basis
-
-    def release_current_a(self, release_frac, coil_ohm) -> np.ndarray:
-        """Release current [A] of a unit at `release_frac` with coil resistance coil_ohm at 25 degC [ohm]."""
-        return release_current_a(release_frac, self.release_band_frac()[2], coil_ohm)
-
-    def coil_ohm_at(self, coil_ohm, temp_c) -> np.ndarray:
-        """Coil resistance at `temp_c` [degC] from its 25 degC value [ohm] (copper tempco)."""
-        return coil_ohm_at(coil_ohm, self.coil_tolerance()[1], temp_c)
-
-    def release_time_s(self) -> float:
-        """Relay release time [s] (relay class, else DEFAULT_RELEASE_TIME_S)."""
-        relay = self.relay_part()
-        return relay.value("release_time", "s") if relay is not None else DEFAULT_RELEASE_TIME_S
-
     # ---- interface ----------------------------------------------------------------------------
     @property
     def power_on(self) -> bool:
@@ -290,20 +210,6 @@ class RcHoldTopology(Topology):
                                           self.brief, "F: start capacitor")
             q["start_hfe"] = hfe_spread(self.pnp(design), "start PNP")
         return q
-
-    def release_uncertain(self) -> Uncertain:
-        """Release point of a unit as a fraction of its coil's rated current Vc/R_coil: the worst case spans
-        must-release to must-operate (every unit's guarantee), the nominal is the middle of the typical
-        release band and the Monte Carlo draws uniformly over that band."""
-        lo, hi, _ = self.release_band_frac()
-        typical, basis = self.release_typical_frac()
-        note = "release point of a unit as a fraction of its coil's rated current Vc/R_coil: worst case " \
-               "must-release to must-operate"
-        if typical is None:
-            return Uncertain((lo + hi) / 2, lo, hi, unit="", note=f"{note} (uniform)")
-        return Uncertain(sum(typical) / 2, lo, hi, unit="", typical=typical,
-                         note=f"{note}; nominal and Monte Carlo: typical release {typical[0] * 100:g} to "
-                              f"{typical[1] * 100:g} % ({basis}, uniform)")
 
     def leakage(self, design: "Design", c_f=None, rated_v=None, part: "Part | None" = None) -> CapacitorLeakage:
         """Leakage law of the hold capacitor of `design` (or of arrays of candidate values of one class)."""
@@ -384,76 +290,9 @@ class RcHoldTopology(Topology):
         point = {**self.nominal_point(design), **(point or {})}
         return self.state(design, {k: np.array([float(v)]) for k, v in point.items()})
 
-    def linear_dissipation_w(self, design: "Design") -> tuple[float, float]:
-        """(largest driver dissipation in its linear region, derated rating at the hottest ambient) [W].
-
-        Between saturation and cut-off the driver passes every coil current; VCE·I = (V - I·R)·I peaks
-        at V²/(4R) (highest supply, lowest coil resistance: cold, -tolerance). Rating derated linearly
-        from p_tot at 25 degC to zero at tj_max.
-        """
-        driver = self.driver(design)
-        tol, _ = self.coil_tolerance()
-        r_min = float(self.coil_ohm_at(self.coil_nominal_ohm() * (1 - tol), self.brief.ambient.min_c))
-        peak = float(linear_peak_dissipation_w(self.brief.supply.max_v, r_min))
-        return peak, derated_power_w(driver.value("p_tot", "W"), driver.value("tj_max", "degC"), self.brief.ambient.max_c)
-
     def checks(self, design: "Design") -> list[Finding]:
-        """Common design rules (start, chatter band, dissipation, ratings) plus the driver's."""
-        from tradeoff.units import format_quantity as fq
-        brief, out = self.brief, [Finding("info", "leakage-model", self.leakage(design).basis_text())]
-        v_max, v_min = brief.supply.max_v, brief.supply.min_v
-        rated = self.rated_v(design, "c_hold")
-        if v_max > rated:
-            out.append(Finding("violation", "capacitor-rating", f"hold capacitor rated {fq(rated, 'V')} sees up to "
-                               f"{fq(v_max, 'V')}; choose a rating of at least {fq(v_max / 0.8, 'V')}"))
-        elif v_max > 0.8 * rated:
-            out.append(Finding("warning", "capacitor-rating", f"hold capacitor rated {fq(rated, 'V')} runs above "
-                               f"80 % of its rating at {fq(v_max, 'V')} (common practice: derate to 80 %)"))
-        r_hi = np.array([self.uncertain(design)["r_hold"].hi])
-        ok, reason = self.start_drive(r_hi, design)
-        if not ok[0]:
-            out.append(Finding("violation", "start-drive", reason))
-        if brief.load.kind == "relay":
-            s = self.nominal_state(design)
-            load = brief.load
-            i_mo = load.must_operate_frac * load.coil_voltage_v / load.coil_resistance_ohm
-            i_mr = load.must_release_frac * load.coil_voltage_v / load.coil_resistance_ohm
-            band = float(self.band_s(s, np.array([i_mo]), np.array([i_mr]))[0])
-            limit = CHATTER_RELEASE_TIMES * self.release_time_s()
-            text = (f"coil current falls from the must-operate ({fq(i_mo, 'A')}) to the must-release current "
-                    f"({fq(i_mr, 'A')}) in {fq(band, 's')} at nominal")
-            if band > limit:
-                out.append(Finding("warning", "chatter-band", f"{text}: slower than {CHATTER_RELEASE_TIMES} relay "
-                                   f"release times ({fq(limit, 's')}), so the contacts open under a slowly falling "
-                                   "force: chatter and arcing risk (a snap-action threshold avoids it)"))
-            else:
-                out.append(Finding("info", "chatter-band", text))
-            vdrop = self.driver(design).value("vce_sat", "V") if self.driver(design).has("vce_sat") else 0.0
-            need = load.must_operate_frac * load.coil_voltage_v
-            if v_min - vdrop < need:
-                out.append(Finding("violation", "pick-up", f"at the lowest supply {fq(v_min, 'V')} the coil gets "
-                                   f"{fq(v_min - vdrop, 'V')} after the driver's drop, below its must-operate "
-                                   f"voltage {fq(need, 'V')}"))
-        peak, rating = self.linear_dissipation_w(design)
-        if peak > rating:
-            out.append(Finding("violation", "dissipation", f"driver dissipates up to {fq(peak, 'W')} while the coil "
-                               f"current passes the linear region, above its rating {fq(rating, 'W')} at "
-                               f"{brief.ambient.max_c:g} °C"))
-        elif peak > DISSIPATION_DERATING * rating:
-            out.append(Finding("warning", "dissipation", f"driver dissipates up to {fq(peak, 'W')} in its linear "
-                               f"region, above half its rating {fq(rating, 'W')} at {brief.ambient.max_c:g} °C"))
-        diode = self.diode(design)
-        if diode.value("vr_max", "V") < FLYBACK_REVERSE_FACTOR * v_max:
-            out.append(Finding("warning", "flyback-rating", f"flyback diode reverse rating "
-                               f"{fq(diode.value('vr_max', 'V'), 'V')} is below {FLYBACK_REVERSE_FACTOR:g} times the "
-                               f"supply ({fq(FLYBACK_REVERSE_FACTOR * v_max, 'V')})"))
-        if self.power_on:
-            out.extend(start_checks(self, design))
-        out.append(Finding("info", "release-tail", "after the release the coil current keeps falling with the hold "
-                           "capacitor for several time constants; the standby figure after the timeout is the "
-                           "driver's cut-off current once the capacitor is empty"))
-        out.extend(self.driver_checks(design))
-        return out
+        """Common design rules (`hold_rules.hold_checks`) plus the driver's."""
+        return hold_checks(self, design)
 
     # ---- optimiser blocks -----------------------------------------------------------------------
     def selection(self) -> "SelectionModel":
@@ -477,48 +316,6 @@ class RcHoldTopology(Topology):
                             output_a=self.output_a(s, v), release_s=release_s, release_a=float(s.release_a[0]))
 
     def spice(self, design: "Design", point: Mapping[str, float] | None = None) -> str:
-        """ngspice netlist of `design` at `point` (default nominal) with `.measure tran delay`.
-
-        Device parameters are the model's at the point's temperature and the simulator runs at that
-        temperature with TNOM equal to it, so no SPICE temperature law intervenes. The capacitor
-        leakage is a behavioural current source with the model's power laws; the coil is R + L with
-        a flyback diode; the delay is the time the coil current falls through the release current.
-        """
-        s = self.nominal_state(design, point)
-        v0, pulse = start_voltage(self, design, s)
-        t_model = float(self.delay(design, {k: np.array([float(v)]) for k, v in
-                                            {**self.nominal_point(design), **(point or {})}.items()})[0])
-        temp = float(s.temp_c[0])
-        diode = self.diode(design)
-        a_typ, a_lim = float(s.a_typ[0]), float(s.a_lim[0])
-        lines = [f"* {self.id}: {self.brief.title}", f".options temp={temp:.6g} tnom={temp:.6g} reltol=1e-5 "
-                 "abstol=1e-14 vntol=1e-7", f"Vcc vcc 0 dc {float(s.supply_v[0]):.9g}"]
-        if pulse is None:
-            lines.append(f"C1 hold 0 {float(s.c_f[0]):.9g} ic={float(v0[0]):.9g}")
-        else:
-            pnp = self.pnp(design)
-            hfe = float(s.x["start_hfe"][0]) * math.exp(pnp.value("hfe_tempco", "1/K") * (temp - 25.0))
-            vt = float(thermal_voltage_v(temp))
-            veb = float(vbe_at_v(pnp.value("vbe_on_typ", "V"), pnp.value("vbe_tempco", "V/K"), temp))
-            i_s = pnp.value("vbe_test_current", "A") * math.exp(-veb / (pnp.value("ideality", "") * vt))
-            lines += [f"C1 hold 0 {float(s.c_f[0]):.9g} ic=0",
-                      "QS chg b2 vcc QSTART",
-                      f"R3 vcc b2 {self.fixed_ohm(design, 'r_be'):.9g}",
-                      f"R2 b2 st {float(s.x['r_start'][0]):.9g}",
-                      f"C2 st 0 {float(s.x['c_start'][0]):.9g} ic=0",
-                      f"R4 chg hold {self.fixed_ohm(design, 'r_charge'):.9g}",
-                      f".model QSTART PNP(IS={i_s:.6g} BF={hfe:.6g} NF={pnp.value('ideality', ''):.6g} BR=1)"]
-        elements, models = self.driver_spice(s)
-        lines += elements
-        leak_terms = [f"{a:.9g}*pwr(v(hold),{n:g})" for a, n in ((a_typ, s.leak.n_typ), (a_lim, s.leak.n_lim)) if a > 0]
-        if leak_terms:
-            lines.append(f"B1 hold 0 I={'+'.join(leak_terms)}")
-        if s.shunt_ohm is not None:
-            lines.append(f"RSH hold 0 {s.shunt_ohm:.9g}")
-        lines += ["Vsense vcc top dc 0", f"RCOIL top mid {float(s.coil_ohm[0]):.9g}",
-                  f"LCOIL mid col {self.entry.value('coil_inductance', 'H'):.6g}", "D1 col top DFLY",
-                  f".model DFLY D(IS={diode.value('is_sat', 'A'):.6g} N={diode.value('ideality', ''):.6g})", *models]
-        stop = 1.5 * t_model + 1.0
-        lines += [f".tran {stop / 4000:.6g} {stop:.6g} 0 {stop / 4000:.6g} uic",
-                  f".measure tran delay when i(vsense)={float(s.release_a[0]):.9g} fall=1", ".end", ""]
-        return "\n".join(lines)
+        """ngspice netlist of `design` at `point` (default nominal) with `.measure tran delay`
+        (`hold_spice.hold_netlist`)."""
+        return hold_netlist(self, design, point)

@@ -11,22 +11,18 @@ and the loop Q2 -> emitter -> Q1 -> divider -> Q2 regenerates: the gate snaps to
 microseconds and the relay drops out at once, whatever its own release point. A reset diode from
 the capacitor to the supply empties it when the supply is switched off.
 
-Model (per sample, vectorised): the emitter-coupled Schmitt trigger of Millman and Halkias, Integrated
-Electronics, and Horowitz and Hill, The Art of Electronics, solved for the diode law instead of a fixed
-cut-in voltage:
-- both NPNs forward-active, IC = IS·exp(VBE/(n·Vt)), IS from VBE(on) at the class's test current with
-  its tempco (-2 mV/K, Sedra and Smith), IB = IE/(hFE + 1), hFE log-normal between the class limits
-  scaled to microampere currents (`low_current_gain_frac`, from memory), with its tempco; no Early effect;
-- the DC transfer curve against Q2's junction voltage w (`transfer_curve`, linear node equations for
-  Q1's current); the upper trip point is the fold dV_in/dw = 0 nearest to Q1's cut-off (`rising_trip`),
+Model (per sample, vectorised): the emitter-coupled Schmitt trigger of `tradeoff.devices.schmitt`
+(Millman and Halkias; Horowitz and Hill), solved for the diode law instead of a fixed cut-in voltage:
+- both NPNs forward-active, IS from VBE(on) at the class's test current with its tempco (-2 mV/K,
+  Sedra and Smith), hFE log-normal between the class limits scaled to microampere currents
+  (`low_current_gain_frac`, from memory), with its tempco; no Early effect;
+- the upper trip point is the fold of the DC transfer curve nearest to Q1's cut-off (`rising_trip`),
   the falling one the next fold (`falling_trip_v`): resistor ratios set about 0.35 of the supply, shifted
   by the difference of two junction drops whose temperature coefficients largely cancel;
 - charge time t = C ∫ dV / i(V) from 0 V to the trip, i(V) = (V_s - V)/r_hold - leakage(V) - V/R_shunt -
-  IB1(V), by Gauss–Legendre quadrature in u = -ln(V_s - V) (`charge_time_s`; the plain RC gives
-  r·C·ln(V_s/(V_s - V_trip))); IB1 with the emitter node held at its value at the trip; no timeout where
+  IB1(V) (`charge_time_s`); IB1 with the emitter node held at its value at the trip; no timeout where
   i(V_trip) <= 0, so a leaky capacitor holds the load on longer, or for ever.
-Capacitor leakage, junction temperature laws and quadrature come from `tradeoff.devices`; the trigger's
-own laws are the pure functions below.
+Capacitor leakage, junction temperature laws and quadrature come from `tradeoff.devices`.
 """
 from __future__ import annotations
 
@@ -39,122 +35,24 @@ from tradeoff.analysis import Uncertain
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
-from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
+from tradeoff.devices.quadrature import evaluate_in_chunks
+from tradeoff.devices.schmitt import bisect_arrays, charge_time_s, falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies import bands, hold_state
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["RcSchmitt", "transfer_curve", "rising_trip", "falling_trip_v", "saturation_current_a",
-           "charge_time_s", "NETWORK"]
+__all__ = ["RcSchmitt", "NETWORK"]
 
 NETWORK = {"r_emitter": "shared emitter resistor", "r_q1_collector": "Q1 collector resistor",
            "r_divider_top": "divider to Q2's base", "r_divider_bottom": "Q2's base to ground"}
 """Threshold network resistors (catalog entry params [ohm]) and what each does; r_q2_collector (the gate
 pull-up) is the fifth fixed resistor."""
-_GRID = np.geomspace(1e-7, 0.6, 64)
-"""Distances below Q1's cut-off in Q2's junction voltage where the fold is looked for [V]."""
 HYSTERESIS_MIN_V = 0.05
 """Smallest hysteresis for a clean snap against supply ripple and noise [V] (common practice)."""
 _DIRECTION = {"r_hold": 1, "c_hold": 1, LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
               "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
               "supply_v": 0}
 """Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
-
-
-def saturation_current_a(vbe_on_v, test_a, n, temp_c) -> np.ndarray:
-    """Transport saturation current IS [A] from VBE(on) [V] at the test current test_a [A] and temp_c [degC]."""
-    return test_a * np.exp(-np.asarray(vbe_on_v, dtype=float) / (n * thermal_voltage_v(temp_c)))
-
-
-def transfer_curve(w, supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt):
-    """The Schmitt trigger's DC curve at Q2 junction voltage w [V]: (IE1, IE2 [A], V_in [V], dV_in/dw).
-
-    Node equations (both NPNs active): V_E = (IE1 + IE2)·R_E, V_B2 = V_E + w, Q2's base current
-    IE2/(hFE2 + 1) from the divider, Q1's collector current α1·IE1 from the rest of R_C1's current:
-    IE1 = (V_s/R_C1 - k·IE2 - g·(IE2·R_E + w)) / (α1 + g·R_E), k = (1 + R_1/R_C1)/(hFE2 + 1),
-    g = (1 + R_1/R_2)/R_C1 + 1/R_2. IE1 <= 0 means Q1 is cut off (V_in is then -inf).
-    """
-    a1 = hfe1 / (hfe1 + 1)
-    ie2 = is2 * (hfe2 + 1) / hfe2 * np.exp(w / nvt)
-    k = (1 + r_1 / r_c1) / (hfe2 + 1)
-    g = (1 + r_1 / r_2) / r_c1 + 1 / r_2
-    d = a1 + g * r_e
-    ie1 = (supply_v / r_c1 - k * ie2 - g * (ie2 * r_e + w)) / d
-    die2 = ie2 / nvt
-    die1 = (-k * die2 - g * (die2 * r_e + 1)) / d
-    safe = np.maximum(ie1, 1e-300)
-    v_in = np.where(ie1 > 0, (ie1 + ie2) * r_e + nvt * np.log(a1 * safe / is1), -np.inf)
-    slope = r_e * (die1 + die2) + nvt * die1 / safe
-    return ie1, ie2, v_in, slope
-
-
-def _bisect(rises, lo, hi, steps: int, geometric: bool = False):
-    """Bisection where the boolean array rises(mid) says the root lies below mid (arrays, vectorised)."""
-    for _ in range(steps):
-        mid = np.sqrt(lo * hi) if geometric else 0.5 * (lo + hi)
-        below = rises(mid)
-        lo, hi = np.where(below, lo, mid), np.where(below, mid, hi)
-    return lo, hi
-
-
-def _cutoff_w(args) -> np.ndarray:
-    """Q2 junction voltage where Q1's emitter current reaches zero [V] (IE1 falls as w rises)."""
-    shape = np.broadcast_shapes(*(np.shape(a) for a in args))
-    return _bisect(lambda w: transfer_curve(w, *args)[0] <= 0, np.zeros(shape), np.full(shape, 1.5), 56)[0]
-
-
-def rising_trip(supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt, steps: int = 40) -> dict[str, np.ndarray]:
-    """Upper trip point of the Schmitt trigger: the fold of the transfer curve nearest to Q1's cut-off.
-
-    Returns v_trip [V] (input where the snap starts), ie1_a [A] (Q1's emitter current there), ve_v
-    [V] (emitter node there), regenerative (bool: a fold exists; without one the steepest point of a
-    soft transfer curve is returned). All arguments broadcast; supply [V], resistors [ohm], gains,
-    saturation currents [A], nvt = n·kT/q [V].
-    """
-    args = tuple(np.asarray(a, dtype=float) for a in (supply_v, r_e, r_c1, r_1, r_2, hfe1, hfe2, is1, is2, nvt))
-    w0 = _cutoff_w(args)
-    trail = tuple(a[..., None] for a in args)
-    slope = transfer_curve(w0[..., None] - _GRID, *trail)[3]
-    rising = slope > 0
-    regenerative = rising.any(axis=-1)
-    first = np.where(regenerative, np.argmax(rising, axis=-1), np.argmax(slope, axis=-1))
-    hi = _GRID[first]
-    lo = np.where(regenerative, _GRID[np.maximum(first - 1, 0)] * np.where(first > 0, 1.0, 0.1), hi)
-    # slope < 0 at lo (nearer the cut-off), > 0 at hi
-    lo, hi = _bisect(lambda d: transfer_curve(w0 - d, *args)[3] > 0, lo, hi, steps, geometric=True)
-    ie1, ie2, v_in, _ = transfer_curve(w0 - lo, *args)
-    return {"v_trip": v_in, "ie1_a": ie1, "ve_v": (ie1 + ie2) * args[1], "regenerative": regenerative}
-
-
-def falling_trip_v(*args) -> np.ndarray:
-    """Lower trip point [V]: the lowest input on the curve's unstable middle, beyond the upper fold
-    (same arguments as `rising_trip`; active-region model, used for the hysteresis check)."""
-    args = tuple(np.asarray(a, dtype=float) for a in args)
-    w0 = _cutoff_w(args)
-    grid = np.geomspace(1e-7, 1.0, 400)
-    ie1, _, v_in, slope = transfer_curve(w0[..., None] - grid, *(a[..., None] for a in args))
-    past = np.cumsum(slope > 0, axis=-1) > 0
-    return np.min(np.where(past & (ie1 > 0), v_in, np.inf), axis=-1)
-
-
-def charge_time_s(c_f, r_ohm, supply_v, v_end, extra_a) -> np.ndarray:
-    """Time to charge c_f [F] through r_ohm [ohm] from 0 V to v_end [V] against extra_a(V) [A] [s].
-
-    t = C ∫ dV / ((V_s - V)/r - extra(V)) in u = -ln(V_s - V) (dV/du = V_s - V), Gauss–Legendre;
-    extra_a(v) receives voltages with a trailing node axis. inf where the current at v_end is not
-    positive (the capacitor never gets there); 0 where v_end <= 0.
-    """
-    c_f, r, vs, v_end = (np.asarray(a, dtype=float) for a in (c_f, r_ohm, supply_v, v_end))
-    top = np.clip(v_end, 0.0, vs * (1 - 1e-9))
-    ends = ((vs - top) / r - extra_a(top[..., None])[..., 0]) > 0
-
-    def integrand(u):
-        headroom = np.exp(-u)
-        v = vs[..., None] - headroom
-        return headroom / (headroom / r[..., None] - extra_a(v))
-
-    t = discharge_integral_s(c_f, -np.log(vs), -np.log(vs - top), integrand)
-    return np.where(ends, t, np.inf)
 
 
 class RcSchmitt(Topology):
@@ -279,7 +177,7 @@ class RcSchmitt(Topology):
             v_in = ve + tr["nvt"] * np.log(np.maximum(alpha * ie, 1e-300) / tr["is1"])
             leak_a = leak.current_a(np.maximum(v_in, 0.0), a_typ, a_lim)
             return (vs - v_in) / x["r_hold"] - (ie - ic) - leak_a, v_in, vc1, leak_a
-        lo = _bisect(lambda ve: state(ve)[0] <= 0, np.zeros(np.shape(vs)), vs - vce_sat, 50)[0]
+        lo = bisect_arrays(lambda ve: state(ve)[0] <= 0, np.zeros(np.shape(vs)), vs - vce_sat, 50)[0]
         _, v_in, vc1, leak_a = state(lo)
         off = self.part(design, "switch").value("idss", "A")
         return {"v_in": v_in, "ve_v": lo, "vc1_v": vc1, "supply_a": lo / r_e + vc1 / r_div + leak_a + off}

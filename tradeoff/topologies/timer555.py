@@ -25,25 +25,23 @@ a push-button to ground (brief.start).
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import TYPE_CHECKING, Mapping
 
 import numpy as np
-import pandas as pd
 
 from tradeoff.devices import capacitor
 from tradeoff.devices.supply_current import on_supply
 from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, discharge_leakage_a, monostable_width_s
 from tradeoff.analysis import Uncertain
-from tradeoff.errors import CatalogError
-from tradeoff.candidates import chunks, leading_below, rated_voltage, window_rows
-from tradeoff.selection import Block, SelectionModel
+from tradeoff.candidates import rated_voltage
+from tradeoff.selection import SelectionModel
 from tradeoff.topologies import logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
-    TEMPCO_REFERENCE_C, at_temperature, diode, drop_count, fixed_part, role_bom, role_part,
-    start_bom, start_checks, supply_problem, timing_candidates, typical_to_limit, value_spread,
+    TEMPCO_REFERENCE_C, at_temperature, diode, fixed_part, role_bom, role_part, start_bom, start_checks,
+    supply_problem, typical_to_limit, value_spread,
 )
+from tradeoff.topologies.timer555_tables import TimerClass, timer_selection
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -94,17 +92,6 @@ def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, titl
     ])
 
 
-@dataclass(frozen=True)
-class _Timer:
-    """Per-class quantities of one 555-class timer at the brief's supply."""
-
-    part: "Part"
-    direct: bool            # the output drives the load itself
-    quiescent_typ_a: float  # at the nominal supply
-    quiescent_max_a: float
-    r_max_ohm: float        # largest practical timing resistance at the minimum supply
-
-
 class Timer555(Topology):
     """555-class monostable (bipolar or CMOS class) with power-on or push-button trigger."""
 
@@ -116,19 +103,21 @@ class Timer555(Topology):
         """Timing resistor [ohm] and timing capacitor [F]."""
         return list(_ROLES)
 
-    def _timer(self, design: Design) -> _Timer:
-        return self._timer_class(self.option_part(design, "timer"))
+    def _timer(self, design: Design) -> TimerClass:
+        return self.timer_class(self.option_part(design, "timer"))
 
-    def _timer_ids(self) -> list[str]:
+    def timer_ids(self) -> list[str]:
+        """Ids of every 555-class timer class in the catalog."""
         return [p.id for p in self.catalog.parts("timer555")]
 
-    def _timer_class(self, part: "Part") -> _Timer:
+    def timer_class(self, part: "Part") -> TimerClass:
+        """The quantities of timer class `part` at the brief's supply and load."""
         s = self.brief.supply
         load = self.brief.load
         direct = load.current_a <= part.value("output_source_max", "A")
         if direct and load.kind == "relay":
             direct = s.min_v - part.value("output_high_drop", "V") >= load.must_operate_frac * load.coil_voltage_v
-        return _Timer(
+        return TimerClass(
             part, direct,
             on_supply(part, "quiescent_supply", "quiescent_typ", "A", s.nominal_v),
             on_supply(part, "quiescent_supply", "quiescent_max", "A", s.nominal_v),
@@ -139,7 +128,7 @@ class Timer555(Topology):
         s = self.brief.supply
         return logic.LogicRail(None, s.nominal_v, s.min_v, s.max_v, 0.0, 0.0)
 
-    def _support(self, timer: _Timer) -> list[BomLine]:
+    def support_bom(self, timer: TimerClass) -> list[BomLine]:
         """Every BOM line except the timing R and C: timer, decoupling, trigger network, output stage."""
         part = timer.part
         lines = [BomLine("U1", part.id, part.description, 1, part.cost, "555-class timer, monostable"),
@@ -158,10 +147,10 @@ class Timer555(Topology):
         """Timer, timing R and C, decoupling, trigger network and output stage; the relay coil is the load."""
         return [*role_bom(self, design, _ROLES[0], "R1", "timing resistor"),
                 *role_bom(self, design, _ROLES[1], "C1", "timing capacitor"),
-                *self._support(self._timer(design))]
+                *self.support_bom(self._timer(design))]
 
     # ---- device laws --------------------------------------------------------------------
-    def _cap_model(self, c_part: "Part", c_nominal_f):
+    def cap_model(self, c_part: "Part", c_nominal_f):
         """Leakage limit at (supply [V], ambient [degC]) -> [A] for the timing capacitor, and the nominal fraction."""
         if c_part.fields.get("dielectric") == "electrolytic":
             rated = rated_voltage(c_part, self.brief.supply.max_v) or max(c_part.values("rated_voltages", "V"))
@@ -181,8 +170,10 @@ class Timer555(Topology):
 
         return limit, 1.0, "film/ceramic insulation: minimum insulation resistance for every unit (conservative)"
 
-    def _quantities(self, timer: "Part", r_part: "Part", c_part: "Part", r_ohm, c_f, leak_frac: float,
-                    leak_note: str) -> dict[str, Uncertain]:
+    def spread_quantities(self, timer: "Part", r_part: "Part", c_part: "Part", r_ohm, c_f, leak_frac: float,
+                          leak_note: str) -> dict[str, Uncertain]:
+        """Spread quantities of timer class `timer` with R [ohm] and C [F] of the given classes (values may be
+        1.0 to give relative bands) and the capacitor's nominal leakage fraction."""
         q = {**value_spread("r_timing", r_ohm, r_part, "ohm"), **value_spread("c_timing", c_f, c_part, "F")}
         q["c_timing_leakage"] = typical_to_limit(leak_frac, 1.0, "", leak_note + " (fraction of the limit)")
         q["threshold_a"] = typical_to_limit(timer.value("threshold_current_typ", "A"),
@@ -207,11 +198,12 @@ class Timer555(Topology):
         """R and C tolerance and tempco, capacitor leakage, threshold current, the class's three drifts."""
         timer = self._timer(design).part
         c = design.values["c_timing"]
-        _, frac, note = self._cap_model(role_part(self, design, _ROLES[1]), c)
-        return self._quantities(timer, role_part(self, design, _ROLES[0]), role_part(self, design, _ROLES[1]),
+        _, frac, note = self.cap_model(role_part(self, design, _ROLES[1]), c)
+        return self.spread_quantities(timer, role_part(self, design, _ROLES[0]), role_part(self, design, _ROLES[1]),
                                 design.values["r_timing"], c, frac, note)
 
-    def _width(self, leak_limit, x: Mapping[str, np.ndarray]) -> np.ndarray:
+    def width_s(self, leak_limit, x: Mapping[str, np.ndarray]) -> np.ndarray:
+        """Pulse width [s] of the samples `x` with the capacitor leakage limit `leak_limit(v, t)` [A]."""
         v, t = x["supply_v"], x["ambient_c"]
         ix = x["c_timing_leakage"] * leak_limit(v, t) + x["threshold_a"] + discharge_leakage_a(x["discharge_a"], t)
         core = monostable_width_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), ix, v)
@@ -221,11 +213,11 @@ class Timer555(Topology):
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Pulse width [s] per sample; inf where leakage and threshold current stop the charge short of 2/3 Vcc."""
-        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
-        return self._width(limit, x)
+        limit, _, _ = self.cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
+        return self.width_s(limit, x)
 
     # ---- metrics and rules -------------------------------------------------------------
-    def _currents(self, timer: _Timer, r_ohm):
+    def currents_a(self, timer: TimerClass, r_ohm):
         """Supply current during timing and after the timeout at nominal supply [A] (typical quiescent current)."""
         v = self.brief.supply.nominal_v
         load = self.brief.load.current_a
@@ -237,7 +229,7 @@ class Timer555(Topology):
 
     def standby(self, design: Design) -> Standby:
         """During: timer, load, charging current, gate pull-down; after: timer plus Vcc/R into the discharge pin."""
-        during, after = self._currents(self._timer(design), design.values["r_timing"])
+        during, after = self.currents_a(self._timer(design), design.values["r_timing"])
         return Standby(float(during), float(after))
 
     def checks(self, design: Design) -> list[Finding]:
@@ -249,8 +241,8 @@ class Timer555(Topology):
         out = []
         out += [Finding("violation", "supply-range", p) for p in [supply_problem(self, part)] if p]
         if r > timer.r_max_ohm:
-            out.append(Finding("violation", "r-max", self._r_max_reason(timer)))
-        limit, _, note = self._cap_model(c_part, c)
+            out.append(Finding("violation", "r-max", self.r_max_reason(timer)))
+        limit, _, note = self.cap_model(c_part, c)
         discharge = part.value("discharge_leakage_max", "A") if part.has("discharge_leakage_max") else 0.0
         ix = (float(limit(s.min_v, amb.max_c)) + part.value("threshold_current_max", "A")
               + float(discharge_leakage_a(discharge, amb.max_c)))
@@ -280,7 +272,7 @@ class Timer555(Topology):
                            f"{fq(s.nominal_v, 'V')}; the datasheet maximum is {fq(timer.quiescent_max_a, 'A')}"))
         return out
 
-    def _drive_checks(self, timer: _Timer) -> list[Finding]:
+    def _drive_checks(self, timer: TimerClass) -> list[Finding]:
         if not timer.direct:
             return logic.output_driver_checks(self.brief, self.catalog, self._rail())
         load, s = self.brief.load, self.brief.supply
@@ -292,132 +284,17 @@ class Timer555(Topology):
                     f"{fq(load.must_operate_frac * load.coil_voltage_v, 'V')}")
         return [Finding("info", "output-drive", msg)]
 
-    def _r_max_reason(self, timer: _Timer) -> str:
+    def r_max_reason(self, timer: TimerClass) -> str:
+        """Why a timing resistance above the class's largest practical value is refused."""
         p = timer.part
         return (f"timing resistance above the {p.id} class's largest practical value {fq(timer.r_max_ohm, 'ohm')} "
                 f"at the minimum supply {fq(self.brief.supply.min_v, 'V')} ({p.source('r_max')})")
 
     # ---- optimiser tables --------------------------------------------------------------
     def selection(self) -> SelectionModel:
-        """One block: every (timer class, R, C) with its exact worst-case delay over the corners.
-
-        Within an (ambient, supply) corner every other quantity moves the delay one way only
-        (R, C, leakage, threshold current and initial error lengthen it; tempcos act with the
-        sign of T − 25 degC, the supply drift with the sign of V − nominal), so the extremes over
-        the 2^11 corner lattice are the extremes of 4 environment corners × 2 monotone choices:
-        equal to the exhaustive search evaluate() runs.
-        """
-        dropped: dict[str, int] = {}
-        leak_hits: dict[str, list[float]] = {}
-        rs = timing_candidates(self, _ROLES[0], dropped)
-        cs = timing_candidates(self, _ROLES[1], dropped)
-        tables = []
-        r_groups = [g for _, g in rs.groupby("part", sort=False)]
-        c_groups = [g for _, g in cs.groupby("part", sort=False)]
-        for timer_id in self._timer_ids():
-            timer = self._timer_class(self.catalog.part(timer_id))
-            problem = supply_problem(self, timer.part)
-            if problem:
-                drop_count(dropped, f"{timer_id}: {problem}", len(rs) * len(cs))
-                continue
-            try:
-                support = self._support(timer)
-            except CatalogError as exc:
-                drop_count(dropped, f"{timer_id}: {str(exc).split(': ', 2)[-1]}", len(rs) * len(cs))
-                continue
-            for rg in r_groups:
-                fits = rg["value"].to_numpy() <= timer.r_max_ohm * (1 + 1e-9)
-                drop_count(dropped, self._r_max_reason(timer), int((~fits).sum()) * len(cs))
-                if fits.any():
-                    tables += [self._rows(timer, support, rg[fits], cg, dropped, leak_hits) for cg in c_groups]
-        for c_id, (count, c_min) in leak_hits.items():
-            drop_count(dropped, f"{c_id}: leakage plus threshold current times R reaches Vcc/3 at the worst corner "
-                                f"(the capacitor never reaches 2/3 Vcc; smallest such capacitance {fq(c_min, 'F')})", count)
-        table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=self._columns())
-        return SelectionModel(self.id, "sum", [Block("timing", table, roles=("r_timing", "c_timing"),
-                                                     options=("timer", "r_timing_part", "c_timing_part"),
-                                                     dropped=dropped)],
-                              rails=1, effort=self.entry.value("effort", ""))
-
-    _INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "discharge_a", "timer_error")
-    _WITH_TEMPERATURE = ("r_timing_tempco", "c_timing_tempco", "timer_tempco")
-    _WITH_SUPPLY = ("timer_supply_coef",)
-
-    @staticmethod
-    def _columns() -> list[str]:
-        return ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
-                "r_timing", "c_timing", "timer", "r_timing_part", "c_timing_part", "r_timing_first",
-                "r_timing_second"]
-
-    def _corner(self, q: Mapping[str, Uncertain], r, c, ambient_c: float, supply_v: float, sign: float) -> dict:
-        """The corner that pushes the delay furthest in direction `sign` at a given ambient and supply."""
-        def pick(name: str, direction: float):
-            return q[name].hi if sign * direction > 0 else q[name].lo
-
-        x = {n: pick(n, 1.0) for n in self._INCREASING}
-        x.update({n: pick(n, ambient_c - TEMPCO_REFERENCE_C) for n in self._WITH_TEMPERATURE})
-        x.update({n: pick(n, supply_v - self.brief.supply.nominal_v) for n in self._WITH_SUPPLY})
-        x["r_timing"], x["c_timing"] = x["r_timing"] * r, x["c_timing"] * c
-        return {**x, "ambient_c": ambient_c, "supply_v": supply_v}
-
-    def _rows(self, timer: _Timer, support: list[BomLine], rs: pd.DataFrame, cs: pd.DataFrame,
-              dropped: dict[str, int], leak_hits: dict[str, list[float]]) -> pd.DataFrame:
-        """Block rows for every (R, C) of one R class and one C class with `timer`: nominal and
-        worst-case delays [s], cost, parts and currents; rows that cannot meet the band are counted.
-
-        The nominal delay grows with R (R·C·ln((Vcc − Ix·R)/(Vcc/3 − Ix·R)), inf once Ix·R reaches
-        Vcc/3), so for each C bisection over the class's ascending R values finds the window whose
-        nominal delay lies in the band; only the rows inside it are evaluated at the corners, in chunks."""
-        r_part, c_part = self.catalog.part(rs["part"].iat[0]), self.catalog.part(cs["part"].iat[0])
-        r_values, c_values = rs["value"].to_numpy(float), cs["value"].to_numpy(float)
-        _, frac, note = self._cap_model(c_part, c_values)
-        q = self._quantities(timer.part, r_part, c_part, 1.0, 1.0, frac, note)   # R, C relative: scaled below
-        env = self.environment()
-        nominal = {n: u.nominal for n, u in {**q, **env}.items()}
-
-        def nominal_s(ci, ri):
-            limit, _, _ = self._cap_model(c_part, c_values[ci])
-            return self._width(limit, {**nominal, "r_timing": r_values[ri], "c_timing": c_values[ci]})
-
-        band = self.brief.delay
-        sizes = np.full(len(cs), len(rs))
-        start = leading_below(nominal_s, sizes, band.min_s)
-        stop = leading_below(nominal_s, sizes, band.max_s, inclusive=True)
-        finite = leading_below(nominal_s, sizes, np.inf)
-        drop_count(dropped, f"nominal delay outside the band {fq(band.min_s, 's')} to {fq(band.max_s, 's')}",
-                   int((start + finite - stop).sum()))
-        ci, ri = window_rows(start, stop)
-        order = np.lexsort((ci, ri))   # R-major, C-minor: the order of the full (R, C) table
-        ci, ri = ci[order], ri[order]
-        r, c = r_values[ri], c_values[ci]
-        nom, lo, hi = np.empty(len(r)), np.full(len(r), np.inf), np.zeros(len(r))
-        for part in chunks(len(r)):
-            limit, _, _ = self._cap_model(c_part, c[part])
-            nom[part] = self._width(limit, {**nominal, "r_timing": r[part], "c_timing": c[part]})
-            for t in env["ambient_c"].corner_values():
-                for v in env["supply_v"].corner_values():
-                    lo[part] = np.minimum(lo[part], self._width(limit, self._corner(q, r[part], c[part], t, v, -1.0)))
-                    hi[part] = np.maximum(hi[part], self._width(limit, self._corner(q, r[part], c[part], t, v, +1.0)))
-        stuck = ~np.isfinite(hi)
-        stuck_c = np.concatenate([c_values[finite < len(rs)], c[stuck]])
-        if len(stuck_c):
-            hit = leak_hits.setdefault(c_part.id, [0, np.inf])
-            hit[0] += int((len(rs) - finite).sum()) + int(stuck.sum())
-            hit[1] = min(hit[1], float(stuck_c.min()))
-        ok = ~stuck
-        r, ri, ci = r[ok], ri[ok], ci[ok]
-        during, after = self._currents(timer, r)
-        first, second = rs["first"].to_numpy()[ri], rs["second"].to_numpy()[ri]
-        return pd.DataFrame({
-            "delay_lo": lo[ok], "delay_nom": nom[ok], "delay_hi": hi[ok],
-            "cost": rs["cost"].to_numpy()[ri] + cs["cost"].to_numpy()[ci] + sum(b.cost for b in support),
-            "placements": rs["placements"].to_numpy()[ri] + 1 + sum(b.quantity for b in support),
-            "lines": np.where((second > 0) & (first != second), 2, 1) + 1 + len(support),
-            "during_a": during, "after_a": after,
-            "r_timing": r, "c_timing": c[ok],
-            "timer": timer.part.id, "r_timing_part": r_part.id, "c_timing_part": c_part.id,
-            "r_timing_first": first, "r_timing_second": second,
-        }, columns=self._columns())
+        """One block: every (timer class, R, C) with its exact worst-case delay over the corners
+        (`timer555_tables.timer_selection`)."""
+        return timer_selection(self)
 
     # ---- plots and simulation ----------------------------------------------------------
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
@@ -441,7 +318,7 @@ class Timer555(Topology):
     def _ix_at(self, design: Design, x: Mapping[str, float]) -> float:
         """Current drawn from the timing capacitor at the point `x` [A]: leakage, threshold current and the
         discharge pin's off-state leakage."""
-        limit, _, _ = self._cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
+        limit, _, _ = self.cap_model(role_part(self, design, _ROLES[1]), design.values["c_timing"])
         leak = np.asarray(limit(float(x["supply_v"]), float(x["ambient_c"])), dtype=float).reshape(-1)[0]
         discharge = float(np.asarray(discharge_leakage_a(x["discharge_a"], x["ambient_c"])).reshape(-1)[0])
         return float(x["c_timing_leakage"] * leak + x["threshold_a"] + discharge)
