@@ -88,13 +88,13 @@ def test_windowed_hold_table_equals_the_full_scan(topology, example, pairs, cata
     # bisection along the monotone role (r_hold for the MOSFET, c_hold for the Darlington) keeps the rows and
     # dropped counts a scan of every (r_hold, c_hold) pair keeps; the scan also fails on a decreasing worst case
     import window_reference
-    from tradeoff.topologies import hold_tables
+    from tradeoff.topologies import bands
     from tradeoff.topologies.registry import build_topology
 
     brief = load_brief(EXAMPLES / example).replace({"series.resistor": "E6", "series.electrolytic": "E6",
                                                     "series.film": "E6", "series.pairs": pairs})
     windowed = build_topology(topology, brief, catalog).selection().blocks[0]
-    monkeypatch.setattr(hold_tables, "leading_below", window_reference.full_scan)
+    monkeypatch.setattr(bands, "leading_below", window_reference.full_scan)
     scanned = build_topology(topology, brief, catalog).selection().blocks[0]
     assert sum(scanned.dropped.values()) > 100
     pd.testing.assert_frame_equal(windowed.table, scanned.table)

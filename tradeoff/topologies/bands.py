@@ -1,7 +1,8 @@
 """Value bands and candidate tables shared by the RC timing topologies: the uniform band of a resistor
 or capacitor (tolerance plus tempco over the brief's ambient, `devices.capacitor.band_frac`), every
-(resistor, capacitor) candidate pair of two value roles, and the count of candidates a design rule
-removed (by reason, for the optimiser's infeasibility explanations).
+(resistor, capacitor) candidate pair of two value roles, the pairs whose worst case can lie in the band
+(found by bisection where the worst case grows with one role's value), and the count of candidates a
+design rule removed (by reason, for the optimiser's infeasibility explanations).
 """
 from __future__ import annotations
 
@@ -11,10 +12,11 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain
-from tradeoff.candidates import role_candidates
+from tradeoff.candidates import leading_below, role_candidates, window_rows
 from tradeoff.devices.capacitor import band_frac
+from tradeoff.units import format_quantity as fq
 
-__all__ = ["component_band", "hold_pairs", "role_tables", "pair_rows", "Dropped"]
+__all__ = ["component_band", "hold_pairs", "role_tables", "pair_rows", "window_pairs", "Dropped"]
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -78,6 +80,69 @@ def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, 
         "placements": (column["placements"][0] + column["placements"][1]).astype(int),
         "r_first": r["first"].to_numpy(float)[ri], "r_second": r["second"].to_numpy(float)[ri],
     })
+
+
+def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,
+                 delay: Callable[[np.ndarray, np.ndarray, str], np.ndarray], band: tuple[float, float],
+                 dropped: "Dropped", above: str, below: str | None, quote_nearest: bool = True
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """(ri, ci): positions in `r` and `c` (two `role_tables`) of every pair whose delays lie in the band [s], in
+    the order of the full resistor-major (r, c) table; the other pairs are counted in `dropped`.
+
+    delay(ri, ci, end) is the delay [s] of those pairs held against the band's maximum (end 'hi') or minimum
+    ('lo'), for example the worst-case longest and shortest delay; it must not decrease along the ascending
+    values of one part class of the inner role (r where `inner_is_r`, else c) for a fixed candidate of the
+    other. For every such group, bisection finds how many leading rows keep delay(.., 'hi') at most the
+    maximum and how many keep delay(.., 'lo') below the minimum, so only the rows between are listed. Rows
+    beyond are counted under the reason `above`, rows before under `below` (None: the minimum is not applied),
+    each quoting the nearest (finite) delay its rows reach where `quote_nearest`.
+    """
+    inner, outer = (r, c) if inner_is_r else (c, r)
+    by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in dict.fromkeys(inner["part"])]
+    group_outer = np.repeat(np.arange(len(outer)), len(by_part))
+    group_part = np.tile(np.arange(len(by_part)), len(outer))
+    counts = np.array([len(rows) for rows in by_part], dtype=np.int64)
+    sizes, offsets = counts[group_part], np.concatenate([[0], np.cumsum(counts)])
+    inner_order = np.concatenate(by_part) if by_part else np.zeros(0, dtype=np.int64)
+
+    def pairs(groups, rows):
+        at_inner, at_outer = inner_order[offsets[group_part[groups]] + rows], group_outer[groups]
+        return (at_inner, at_outer) if inner_is_r else (at_outer, at_inner)
+
+    def along(end):
+        return lambda groups, rows: delay(*pairs(groups, rows), end)
+
+    stop = leading_below(along("hi"), sizes, band[1], inclusive=True)
+    nearest = _nearest(along("hi"), stop < sizes, stop, np.min) if quote_nearest else None
+    dropped.count(above + _beside(" (at least {})", nearest, band[1]), int((sizes - stop).sum()))
+    start = np.zeros_like(stop)
+    if below is not None:
+        start = np.minimum(leading_below(along("lo"), sizes, band[0]), stop)
+        nearest = _nearest(along("lo"), start > 0, start - 1, np.max) if quote_nearest else None
+        dropped.count(below + _beside(" (at most {})", nearest, band[0]), int(start.sum()))
+    ri, ci = pairs(*window_rows(start, stop))
+    order = np.lexsort((ci, ri))   # resistor-major: the order of the full (r, c) table
+    return ri[order], ci[order]
+
+
+def _nearest(evaluate, groups: np.ndarray, rows: np.ndarray, reduce) -> float | None:
+    """reduce() of evaluate at one row of each group where `groups` is set [s]; None where none is or it is
+    not finite (the figure a dropped reason quotes: the nearest the dropped rows come to the band)."""
+    at = np.flatnonzero(groups)
+    if not at.size:
+        return None
+    value = float(reduce(np.asarray(evaluate(at, rows[at]), dtype=float)))
+    return value if np.isfinite(value) else None
+
+
+def _beside(template: str, value: float | None, edge: float) -> str:
+    """template filled with `value` [s] in as few digits (3 to 6) as tell it from the band's `edge` [s]; '' for None."""
+    if value is None:
+        return ""
+    digits = 3
+    while digits < 6 and fq(value, "s", digits) == fq(edge, "s", digits):
+        digits += 1
+    return template.format(fq(value, "s", digits))
 
 
 class Dropped(dict):

@@ -15,8 +15,8 @@ import pandas as pd
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.start import CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS
 from tradeoff.selection import Block, Link, SelectionModel
-from tradeoff.candidates import EVALUATION_CHUNK, chunks, leading_below, window_rows
-from tradeoff.topologies.bands import Dropped, hold_pairs, pair_rows, role_tables
+from tradeoff.candidates import EVALUATION_CHUNK, chunks
+from tradeoff.topologies.bands import Dropped, hold_pairs, pair_rows, role_tables, window_pairs
 from tradeoff.topologies.base import Design
 from tradeoff.topologies.hold_start import (
     START_PNP_OFF_V, charge_window, pulse_length_s, start_leakage_a, start_voltage,
@@ -115,43 +115,24 @@ def windowed_hold_rows(topo: "Topology", design0: "Design", r: pd.DataFrame, c: 
     """Hold rows (`pair_rows` with delay_lo, delay_nom, delay_hi [s]) of every (r, c) candidate pair whose
     worst case lies in the band, in the order of the full (r, c) table, counting the others in `dropped`.
 
-    The worst-case hold grows with the value of a role whose direction is +1: along the ascending values of
-    one part class of that role (the inner role), for every candidate of the other role, the longest hold
-    stays at most the band's maximum up to a bisected count of rows and the shortest stays below its minimum
-    up to another (button start), so only the rows between are evaluated. The inner role is r_hold where
-    its direction is +1 (few capacitor groups), else c_hold (tests check both directions exhaustively).
+    The worst-case hold grows with the value of a role whose direction is +1, so `window_pairs` bisects along
+    it (against the band's minimum only for the button start). The inner role is r_hold where its direction is +1 (few
+    capacitor groups), else c_hold (tests check both directions exhaustively).
     """
     roles = {r_role.name: r_role for r_role in topo.roles()}
-    inner_is_r = topo.directions.get("r_hold", 0) > 0
-    inner, outer = (r, c) if inner_is_r else (c, r)
-    by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in dict.fromkeys(inner["part"])]
-    group_outer = np.repeat(np.arange(len(outer)), len(by_part))
-    group_part = np.tile(np.arange(len(by_part)), len(outer))
-    counts = np.array([len(rows) for rows in by_part], dtype=np.int64)
-    sizes, offsets = counts[group_part], np.concatenate([[0], np.cumsum(counts)])
-    inner_order = np.concatenate(by_part) if by_part else np.zeros(0, dtype=np.int64)
 
-    def pairs(groups, rows):
-        at_inner, at_outer = inner_order[offsets[group_part[groups]] + rows], group_outer[groups]
-        return (at_inner, at_outer) if inner_is_r else (at_outer, at_inner)
+    def frame(ri, ci):
+        return lambda part: pair_rows(roles["r_hold"], roles["c_hold"], r, c, ri[part], ci[part])
 
-    def extreme(kind):
-        def evaluate(groups, rows):
-            ri, ci = pairs(groups, rows)
-            return chunked_hold_rows(topo, design0, lambda part: pair_rows(roles["r_hold"], roles["c_hold"], r, c,
-                                                                           ri[part], ci[part]), len(ri), (kind,))[0]
-        return evaluate
+    def extreme(ri, ci, end):
+        return chunked_hold_rows(topo, design0, frame(ri, ci), len(ri), (end,))[0]
 
     lo_band, hi_band = topo.brief.delay.min_s, topo.brief.delay.max_s
-    stop = leading_below(extreme("hi"), sizes, hi_band, inclusive=True)
-    dropped.count(f"worst-case longest hold above the band's maximum {fq(hi_band, 's')}", int((sizes - stop).sum()))
-    start = np.zeros_like(stop)
-    if not topo.power_on:
-        start = np.minimum(leading_below(extreme("lo"), sizes, lo_band), stop)
-        dropped.count(f"worst-case shortest hold below the band's minimum {fq(lo_band, 's')}", int(start.sum()))
-    ri, ci = pairs(*window_rows(start, stop))
-    order = np.lexsort((ci, ri))   # resistor-major: the order of the full (r, c) table
-    rows = pair_rows(roles["r_hold"], roles["c_hold"], r, c, ri[order], ci[order])
+    ri, ci = window_pairs(r, c, topo.directions.get("r_hold", 0) > 0, extreme, (lo_band, hi_band), dropped,
+                          f"worst-case longest hold above the band's maximum {fq(hi_band, 's')}",
+                          None if topo.power_on else f"worst-case shortest hold below the band's minimum "
+                                                     f"{fq(lo_band, 's')}")
+    rows = pair_rows(roles["r_hold"], roles["c_hold"], r, c, ri, ci)
     lo, nom, hi = chunked_hold_rows(topo, design0, lambda part: rows.iloc[part], len(rows), ("lo", "nom", "hi"))
     return rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi)
 

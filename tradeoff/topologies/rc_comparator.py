@@ -22,8 +22,8 @@ R_hyst).
 
 The delay is monotone in every spread quantity but the ambient (each lengthens or shortens it): a
 bias current into the capacitor lengthens the delay more at a hot ambient, while leakage and a bias
-out of it shorten it more there. The optimiser's table therefore takes, for each of the two extreme
-corners of the other quantities, the extreme over both ambient ends; evaluate() searches every corner
+out of it shorten it more there. The optimiser's table (`comparator_tables`) therefore takes, for each of the two
+extreme corners of the other quantities, the extreme over both ambient ends; evaluate() searches every corner
 and agrees (a test scans the ambient densely).
 """
 from __future__ import annotations
@@ -32,17 +32,17 @@ import math
 from typing import Mapping
 
 import numpy as np
-import pandas as pd
 
 from tradeoff.analysis import Uncertain
 from tradeoff.errors import DesignKeyError
-from tradeoff.selection import Block, SelectionModel
+from tradeoff.selection import SelectionModel
 from tradeoff.devices import capacitor
 from tradeoff.devices.comparator import input_bias_limit_a, threshold_node_ohm, threshold_v
 from tradeoff.devices.mosfet import on_state_drop_v
 from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
 from tradeoff.topologies import bands, hold_state, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.topologies.comparator_tables import comparator_selection
 from tradeoff.units import format_quantity as fq
 
 __all__ = ["RcComparator", "R_TOP_OHM", "R_BOTTOM_OHM", "R_HYST_OHM", "HYSTERESIS_MIN_V"]
@@ -59,10 +59,6 @@ HYSTERESIS_MIN_V = 20e-3
 _R_HOLD = (10e3, 10e6)
 _C_HOLD = (1e-6, 4.7e-3)
 
-# Sign of each quantity's effect on the delay: +1 lengthens it when the quantity rises, -1 shortens it.
-_DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "bias_frac": -1, "ref_bias_frac": 1,
-              "v_ref": -1, "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1}
-"""Sign of each quantity's effect on the delay; the ambient has none (both ends are tried, see the module)."""
 
 
 class RcComparator(Topology):
@@ -288,76 +284,9 @@ class RcComparator(Topology):
 
     # ---- optimiser --------------------------------------------------------------------
     def selection(self) -> SelectionModel:
-        """One block: every (r_hold, c_hold) pair for every logic rail, with the delay at the two extreme corners.
-
-        The delay is monotone in each quantity but the ambient (`_DIRECTION`), so the shortest delay sits at the
-        corner where every other quantity takes its shortening end, at the ambient end that gives the shorter
-        delay, and the longest at the opposite corner and the ambient end that gives the longer; each capacitor
-        candidate's rows are evaluated with the same delay model evaluate() uses.
-        """
-        band = (self.brief.delay.min_s, self.brief.delay.max_s)
-        r_role, c_role = self.roles()
-        pairs = bands.hold_pairs(r_role, c_role, self.brief, self.catalog)
-        dropped = bands.Dropped()
-        comp, ref = self.catalog.parts("comparator")[0], self.catalog.parts("reference")[0]
-        rails, reasons = logic.rail_options(self.brief, self.catalog, *self._ic_range(comp, ref))
-        for reason in reasons:
-            dropped[f"logic rail: {reason}"] = len(pairs)
-        for rail in list(rails):
-            for finding in logic.output_driver_checks(self.brief, self.catalog, rail):
-                if finding.severity == "violation" and rail in rails:
-                    dropped[f"logic rail {rail.option}: {finding.message}"] = len(pairs)
-                    rails.remove(rail)
-        groups = list(pairs.groupby(["c_part", "c_hold", "c_rated_v"], sort=False).indices.items())
-        tables = []
-        for rail in rails:
-            fixed = self._fixed_bom(Design(self.id, {}, {"regulator": rail.option}), rail)
-            during, after = self._currents(Design(self.id), rail)
-            delay = np.full((3, len(pairs)), np.nan)  # shortest corner, nominal, longest corner
-            for (c_part, c_value, rated), index in groups:
-                rows = pairs.iloc[index]
-                design = Design(self.id, {"r_hold": float(rows["r_hold"].iloc[0]), "c_hold": float(c_value)},
-                                {"regulator": rail.option, "c_hold_part": c_part, "c_rated_v": float(rated),
-                                 "r_hold_part": rows["r_part"].iloc[0], "comparator": comp.id, "reference": ref.id})
-                q = self.quantities(design)
-                r, spread = rows["r_hold"].to_numpy(float), rows["r_spread"].to_numpy(float)
-                x = {n: np.full(len(r), u.nominal) for n, u in q.items()}
-                delay[1, index] = self.delay(design, {**x, "r_hold": r})
-                inside = (delay[1, index] >= band[0]) & (delay[1, index] <= band[1])
-                if not inside.any():
-                    continue
-                for row, sign in ((0, -1), (2, 1)):  # the corner where every quantity shortens / lengthens the delay
-                    corner = {n: np.full(len(r), u.hi if _DIRECTION.get(n, 1) * sign > 0 else u.lo)
-                              for n, u in q.items()}
-                    corner["r_hold"] = r * (1 + sign * _DIRECTION["r_hold"] * spread)
-                    ends = [self.delay(design, {**corner, "ambient_c": np.full(len(r), t)})
-                            for t in q["ambient_c"].corner_values()]
-                    extreme = np.maximum.reduce(ends) if sign > 0 else np.minimum.reduce(ends)
-                    delay[row, index] = np.where(inside, extreme, np.nan)
-            tables.append(pairs.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=delay[2],
-                                       regulator=rail.option, comparator=comp.id, reference=ref.id,
-                                       cost=pairs["cost"] + sum(b.cost for b in fixed),
-                                       placements=pairs["placements"] + sum(b.quantity for b in fixed),
-                                       lines=len(fixed) + 2, during_a=during, after_a=after, rails=rail.rails - 1))
-        table = pd.concat(tables, ignore_index=True) if tables else pairs.iloc[:0].assign(
-            delay_lo=0.0, delay_nom=0.0, delay_hi=0.0, regulator="", comparator="", reference="", lines=0,
-            during_a=0.0, after_a=0.0, rails=0)
-        nom = table["delay_nom"].to_numpy(float)
-        keep = dropped.drop((nom < band[0]) | (nom > band[1]), lambda m: (
-            f"nominal delay outside the band {fq(band[0], 's')} to {fq(band[1], 's')} "
-            f"(time constant too short or too long)"))
-        table = table[keep]
-        never = ~np.isfinite(table["delay_hi"].to_numpy(float))
-        keep = dropped.drop(never, lambda m: "at the longest-delay corner the comparator's bias current into the "
-                            "capacitor exceeds the hold resistor's current at the trip voltage: never times out")
-        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part"})
-        block = Block("hold", table, roles=("r_hold", "c_hold"),
-                      options=("r_hold_part", "c_hold_part", "c_rated_v", "regulator", "comparator", "reference"),
-                      dropped=dict(dropped))
-        return SelectionModel(self.id, "sum", [block], rails=1, effort=self.effort(Design(self.id)),
-                              notes=["threshold divider fixed; the delay is monotone in each spread quantity but the "
-                                     "ambient, so the table's extremes are the two extreme corners, each at the worse "
-                                     "ambient end"])
+        """One block: the (r_hold, c_hold) pairs of every logic rail whose nominal delay lies in the band, with the
+        delay at the two extreme corners (`comparator_tables.comparator_selection`)."""
+        return comparator_selection(self)
 
     def spice(self, design: Design) -> str:
         """ngspice netlist of `design` at nominal values (typical leakage as a behavioural current source,
