@@ -8,6 +8,8 @@ import itertools
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from spice_measures import measures
 from tradeoff.analysis import worst_case
@@ -431,3 +433,41 @@ def test_dominated_rows_are_dropped_and_counted():
     dropped: dict[str, int] = {}
     kept = drop_dominated(table, ("value",), ("cost", "tolerance"), "dominated", dropped, higher=("gain",))
     assert sorted(kept.cost.tolist()) == [0.5, 1.0, 1.0, 9.0] and dropped == {"dominated": 1}
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(st.sampled_from([0.0, 1.0, 2.0, 3.0]), st.integers(0, 3), st.integers(0, 3),
+                          st.integers(0, 3)), min_size=0, max_size=40))
+def test_dominated_rows_match_a_pairwise_check(rows):
+    # every row another row of its group beats (no worse in each column, better in one) goes, and only those:
+    # the definition checked pair by pair
+    import pandas as pd
+    from tradeoff.topologies.ic_common import drop_dominated
+    table = pd.DataFrame(rows, columns=["value", "cost", "tolerance", "gain"], dtype=float)
+    table["id"] = np.arange(len(table))
+    kept = drop_dominated(table, ("value",), ("cost", "tolerance"), "dominated", {}, higher=("gain",))
+
+    def beats(j, i):
+        a, b = table.iloc[j], table.iloc[i]
+        no_worse = a.cost <= b.cost and a.tolerance <= b.tolerance and a.gain >= b.gain
+        return a.value == b.value and no_worse and (a.cost, a.tolerance, -a.gain) != (b.cost, b.tolerance, -b.gain)
+
+    expected = [i for i in range(len(table)) if not any(beats(j, i) for j in range(len(table)))]
+    assert kept["id"].tolist() == (expected if len(table) >= 2 else list(range(len(table))))
+
+
+@pytest.mark.parametrize("changes", [{}, {"series.resistor": "E12", "series.pairs": True}])
+def test_oscillator_block_pruned_while_built_equals_the_full_table(rc, monkeypatch, changes):
+    # the oscillator rows no counter output can bring into the band are dropped while the (Rt, Ct) pairs are
+    # evaluated; keeping every pair until the frame's own pruning gives the same blocks and the same total dropped
+    from tradeoff.topologies.rc_counter import RCCounter
+
+    brief = rc.brief.replace(changes)
+    pruned = build_topology("rc-counter", brief, rc.catalog).selection()
+    monkeypatch.setattr(RCCounter, "_reachable", lambda self, lo, hi, path, stages: np.arange(len(lo)))
+    full = build_topology("rc-counter", brief, rc.catalog).selection()
+    assert len(full.blocks[0].table) > 1000
+    for a, b in zip(pruned.blocks, full.blocks):
+        pd.testing.assert_frame_equal(a.table, b.table)
+    assert sum(pruned.blocks[0].dropped.values()) == sum(full.blocks[0].dropped.values())
+    assert pruned.blocks[0].dropped != full.blocks[0].dropped   # the pairs pruned early are counted as such

@@ -127,6 +127,12 @@ class CounterTables:
                    "pull-up in series lowers it by at most its share of the latch path"] if self.roles() else [],
         )
 
+    def _no_output_reason(self) -> str:
+        """Why an oscillator row is dropped when no counter output brings its worst-case periods into the band."""
+        band = self.brief.delay
+        return (f"oscillator: at no counter output do the worst-case periods stay inside {fq(band.min_s, 's')} to "
+                f"{fq(band.max_s, 's')}")
+
     def _prune(self, osc: pd.DataFrame, stages: pd.DataFrame, dropped: dict[str, int]):
         """Remove oscillator rows no stage row brings inside the band at every corner, and stage rows no
         oscillator row does (exact: sorted searches, no pair matrix); a decoded row counts only the
@@ -157,8 +163,7 @@ class CounterTables:
             top = np.searchsorted(factors, band.max_s / hi[eligible], side="right")
             osc_ok[np.flatnonzero(eligible)[top > first]] = True
         span = f"{fq(band.min_s, 's')} to {fq(band.max_s, 's')}"
-        drop_count(dropped, f"oscillator: at no counter output do the worst-case periods stay inside {span}",
-                   int((~osc_ok).sum()))
+        drop_count(dropped, self._no_output_reason(), int((~osc_ok).sum()))
         drop_count(dropped, f"counter output: no oscillator candidate keeps its worst-case periods inside {span}",
                    int((~stage_ok).sum()))
         return osc[osc_ok], stages[stage_ok]

@@ -192,27 +192,35 @@ def supply_problem(topo: "Topology", part: "Part") -> str | None:
     return None
 
 
+DOMINANCE_CELLS = 1 << 22
+"""Row-pair column comparisons `drop_dominated` makes at once (some 4 MB of booleans per temporary)."""
+
+
 def drop_dominated(table: "pd.DataFrame", group: tuple[str, ...], lower: tuple[str, ...], reason: str,
                    dropped: dict[str, int], higher: tuple[str, ...] = ()) -> "pd.DataFrame":
     """`table` without the rows another row of the same `group` beats: no worse in every column
     of `lower` (smaller is better) and `higher` (larger is better) and better in one. Exact when
     the rows act only through those columns; the removed rows are counted under `reason`.
-    Group columns are numbers >= 0, compared to 1e-9 relative."""
+    Group columns are numbers >= 0, compared to 1e-9 relative. Groups of one size are compared
+    together, every pair of rows at once, DOMINANCE_CELLS comparisons at a time."""
     if len(table) < 2:
         return table
     values = [table[c].to_numpy(dtype=float) for c in group]
     keys = np.stack([np.where(v > 0, np.round(np.log(np.where(v > 0, v, 1.0)) * 1e9), -1e300) for v in values], axis=1)
-    _, label, counts = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
-    label = label.reshape(-1)
+    order = np.lexsort(keys.T[::-1])
+    ordered = keys[order]
+    starts = np.flatnonzero(np.concatenate([[True], (ordered[1:] != ordered[:-1]).any(axis=1)]))
+    counts = np.diff(np.append(starts, len(order)))
     a = table[[*lower, *higher]].to_numpy(dtype=float) * np.array([1.0] * len(lower) + [-1.0] * len(higher))
     worse = np.zeros(len(table), dtype=bool)
-    order = np.argsort(label, kind="stable")
-    starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
-    for start, n in zip(starts[counts > 1], counts[counts > 1]):
-        rows = order[start:start + n]
-        g = a[rows]
-        no_better = (g[:, None, :] >= g[None, :, :]).all(axis=2)
-        strictly = (g[:, None, :] > g[None, :, :]).any(axis=2)
-        worse[rows[(no_better & strictly).any(axis=1)]] = True
+    for size in np.unique(counts[counts > 1]):
+        first = starts[counts == size]
+        step = max(1, DOMINANCE_CELLS // (int(size) ** 2 * a.shape[1]))
+        for at in range(0, len(first), step):
+            rows = order[first[at:at + step, None] + np.arange(size)]   # (groups, size)
+            g = a[rows]
+            no_better = (g[:, :, None, :] >= g[:, None, :, :]).all(axis=3)
+            strictly = (g[:, :, None, :] > g[:, None, :, :]).any(axis=3)
+            worse[rows[(no_better & strictly).any(axis=2)]] = True
     drop_count(dropped, reason, int(worse.sum()))
     return table[~worse].reset_index(drop=True)

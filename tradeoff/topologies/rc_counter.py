@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff import eseries
+from tradeoff.candidates import EVALUATION_CHUNK
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.oscillator import (
     rc_half_periods_s, rc_junction_v, rc_period_s, rc_running_current_a, threshold_factor,
@@ -21,7 +22,7 @@ from tradeoff.devices.oscillator import (
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
 from tradeoff.topologies.counter_switch import CounterPlan
 from tradeoff.topologies.ic_common import (
-    at_temperature, drop_dominated, fixed_part, role_bom, role_part, timing_candidates, value_spread,
+    at_temperature, drop_count, drop_dominated, fixed_part, role_bom, role_part, timing_candidates, value_spread,
     TEMPCO_REFERENCE_C,
 )
 from tradeoff.topologies.ripple_counter import CounterTimer
@@ -119,15 +120,16 @@ class RCCounter(CounterTimer):
                 *role_bom(self, design, _CT, "C1", "oscillator timing capacitor Ct"),
                 fixed_part(self, "resistor", rs, "R2", "oscillator series resistor Rs (about 2·Rt)")]
 
-    def _currents_of(self, rt, ct, period, rail_v: float):
+    def _currents_of(self, latch_path_ohm, ct, period, rail_v: float):
         """Supply current of the running oscillator, 2·Ct·VDD per period, and the latch current
-        (VDD − Vf)/(Rs + Rt) after the timeout [A] on a `rail_v` [V] rail (standard circuit analysis)."""
-        return rc_running_current_a(ct, rail_v, period), (rail_v - self._vf()) / (self.rs_ohm(rt) + rt)
+        (VDD − Vf)/(Rs + Rt) after the timeout through `latch_path_ohm` = Rs + Rt [A] on a `rail_v` [V] rail
+        (standard circuit analysis)."""
+        return rc_running_current_a(ct, rail_v, period), (rail_v - self._vf()) / latch_path_ohm
 
     def _osc_running_a(self, design: Design, rail_v: float) -> float:
-        rt, ct = design.values["r_timing"], design.values["c_timing"]
+        ct = design.values["c_timing"]
         period = self.period_s(design, {n: np.array([v]) for n, v in self.nominal_point(design).items()})[0]
-        return float(self._currents_of(rt, ct, period, rail_v)[0])
+        return float(self._currents_of(self._latch_path_ohm(design), ct, period, rail_v)[0])
 
     def _latch_path_ohm(self, design: Design) -> float:
         """Rs + Rt: the latched input drives DC through them into the first inverter's low output [ohm]."""
@@ -140,39 +142,77 @@ class RCCounter(CounterTimer):
                         f"{counter.id}: k = {counter.value('k', ''):g} ({counter.source('k')})")]
 
     def _osc_block(self, counters: list["Part"], plans: list[CounterPlan], dropped: dict[str, int]) -> pd.DataFrame:
-        """Every (counter class, Rt, Ct) with its period [s] at the worst corners and its currents on the
-        counter's rail; `latch_path_ohm` = Rs + Rt for the diode-AND link.
+        """Every (counter class, Rt, Ct) that some counter output can bring into the band, with its period [s] at
+        the worst corners and its currents on the counter's rail; `latch_path_ohm` = Rs + Rt for the diode-AND link.
 
         Within an ambient corner the period rises with Rt, Ct and |v − 1/2|; tempcos act with the
         sign of T − 25 degC, so the extremes are the 2 ambient corners × monotone choices, with
-        the threshold at 1/2 (minimum of F) or at the limit farther from it (maximum)."""
+        the threshold at 1/2 (minimum of F) or at the limit farther from it (maximum).
+
+        The (Rt, Ct) pairs are evaluated EVALUATION_CHUNK at a time and a pair is kept only where the counter
+        frame's pruning (`_prune`) keeps it against the stage block of the periods' whole range: exact, since
+        the stage block of the kept rows' narrower range differs only by outputs no oscillator row fits, and a
+        row that dominates a kept row is kept too (as long a latch path, no wider a spread)."""
         rs, cs = (drop_dominated(timing_candidates(self, role, dropped), ("value",),
                                  ("tolerance", "tempco", "cost", "placements"),
                                  f"{role.description}: another class of the same value is as good or better in "
                                  "tolerance, tempco, cost and parts", dropped) for role in (_RT, _CT))
         env = self.environment()
-        tables = []
+        groups = []
         for index, (counter, plan) in enumerate(zip(counters, plans)):
-            vt = self._threshold(counter)
-            vt_corners = np.array(vt.corner_values())
+            vt_corners = np.array(self._threshold(counter).corner_values())
             f = threshold_factor(vt_corners) / threshold_factor(counter.value("vt_typ", ""))
-            k = counter.value("k", "")
             for _, rg in rs.groupby("part", sort=False):
                 for _, cg in cs.groupby("part", sort=False):
-                    tables.append(self._rc_rows(index, plan.rail.nominal_v, k, f, rg, cg, env))
+                    groups.append((index, plan.rail.nominal_v, counter.value("k", ""), f, rg, cg))
         columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
                    "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
                    "counter_index", "latch_path_ohm"]
-        if not tables:
+        if not groups:
             return pd.DataFrame(columns=columns)
+        # the period's extremes grow with Rt and Ct: the longest shortest period at each group's largest pair,
+        # the shortest longest period at its smallest
+        ends = [(self._extremes(k, f, rg, cg, env, [len(rg) - 1], [len(cg) - 1])[0][0],
+                 self._extremes(k, f, rg, cg, env, [0], [0])[1][0]) for _, _, k, f, rg, cg in groups]
+        band = self.brief.delay
+        stages = self._stage_block(counters, plans, (band.min_s / max(lo for lo, _ in ends),
+                                                     band.max_s / min(hi for _, hi in ends)), None, {})
+        tables, outside = [], 0
+        for index, rail_v, k, f, rg, cg in groups:
+            latch_path = self.rs_ohm(rg["value"].to_numpy()) + rg["value"].to_numpy()   # Rs + Rt of each Rt
+            step = max(1, EVALUATION_CHUNK // len(cg))
+            for first in range(0, len(rg), step):
+                ri, ci = (a.ravel() for a in np.meshgrid(np.arange(first, min(first + step, len(rg))),
+                                                         np.arange(len(cg)), indexing="ij"))
+                lo, hi = self._extremes(k, f, rg, cg, env, ri, ci)
+                path = latch_path[ri]
+                at = self._reachable(lo, hi, path, stages)
+                outside += len(ri) - len(at)
+                tables.append(self._rc_rows(index, rail_v, k, rg, cg, ri[at], ci[at], lo[at], hi[at], path[at]))
+        drop_count(dropped, self._no_output_reason(), outside)
         return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
                               ("delay_hi", "cost", "placements", "lines", "during_a", "after_a"),
                               "oscillator: another Rt, Ct pair with the same nominal period is as good or better "
                               "in spread, cost, parts, current and latch path", dropped,
                               higher=("delay_lo", "latch_path_ohm"))
 
-    def _rc_rows(self, index, rail_v, k, f_corners, rg, cg, env) -> pd.DataFrame:
-        ri, ci = (a.ravel() for a in np.meshgrid(np.arange(len(rg)), np.arange(len(cg)), indexing="ij"))
+    def _reachable(self, lo: np.ndarray, hi: np.ndarray, path: np.ndarray, stages: pd.DataFrame) -> np.ndarray:
+        """Positions of the oscillator rows (shortest and longest period lo, hi [s], latch path Rs + Rt [ohm]) that
+        the counter frame's pruning (`_prune`) keeps against the stage block `stages`: some stage row whose latch
+        path the row's allows has a count f with lo·f at least the band's minimum and hi·f at most its maximum."""
+        band, f, need = self.brief.delay, stages["delay_nom"].to_numpy(), stages["latch_path_min_ohm"].to_numpy()
+        ok = np.zeros(len(lo), dtype=bool)
+        for limit in np.unique(need):
+            factors, eligible = np.sort(f[need == limit]), path >= limit
+            first = np.searchsorted(factors, band.min_s / lo[eligible], side="left")
+            top = np.searchsorted(factors, band.max_s / hi[eligible], side="right")
+            ok[np.flatnonzero(eligible)[top > first]] = True
+        return np.flatnonzero(ok)
+
+    @staticmethod
+    def _extremes(k, f_corners, rg, cg, env, ri, ci) -> tuple[np.ndarray, np.ndarray]:
+        """Shortest and longest period [s] of the pairs (rg.iloc[ri], cg.iloc[ci]) of one Rt class and one Ct
+        class over the ambient corners, the threshold factors `f_corners` and the parts' tolerances and tempcos."""
         rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
         r_tol, r_tc = rg["tolerance"].to_numpy()[ri], rg["tempco"].to_numpy()[ri]
         c_tol, c_tc = cg["tolerance"].to_numpy()[ci], cg["tempco"].to_numpy()[ci]
@@ -182,9 +222,15 @@ class RCCounter(CounterTimer):
             dt = abs(t - TEMPCO_REFERENCE_C)
             lo = np.minimum(lo, base * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt) * f_corners.min())
             hi = np.maximum(hi, base * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt) * f_corners.max())
+        return lo, hi
+
+    def _rc_rows(self, index, rail_v, k, rg, cg, ri, ci, lo, hi, latch_path) -> pd.DataFrame:
+        """Block rows of the pairs (rg.iloc[ri], cg.iloc[ci]) with their shortest and longest periods lo, hi [s] and
+        latch paths Rs + Rt [ohm]."""
+        rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
         # nominal: tempcos at 0 and the threshold at its typical value, so F(v_typ)/F(v_typ) = 1
-        nom = base
-        running, latched = self._currents_of(rt, ct, nom, rail_v)
+        nom = k * rt * ct
+        running, latched = self._currents_of(latch_path, ct, nom, rail_v)
         rs_part_cost = fixed_part(self, "resistor", RS_MIN_OHM, "R2", "Rs").unit_cost
         first, second = rg["first"].to_numpy()[ri], rg["second"].to_numpy()[ri]
         return pd.DataFrame({
@@ -195,7 +241,7 @@ class RCCounter(CounterTimer):
             "during_a": running, "after_a": latched, "r_timing": rt, "c_timing": ct,
             "r_timing_part": rg["part"].iat[0], "c_timing_part": cg["part"].iat[0],
             "r_timing_first": first, "r_timing_second": second, "counter_index": float(index),
-            "latch_path_ohm": self.rs_ohm(rt) + rt,
+            "latch_path_ohm": latch_path,
         })
 
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform | None:
