@@ -248,3 +248,20 @@ def test_q2_saturation_is_flagged_where_the_active_region_model_stops(fan):
     high = build_topology("rc-schmitt", fan.brief.replace({"supply.nominal": "50 V", "supply.min": "48 V",
                                                            "supply.max": "52 V"}), fan.catalog)
     assert "q2-saturation" in {f.code for f in high.checks(_design(cap="cap-film-pet-5pct"))}
+
+
+def test_windowed_table_equals_the_full_scan(fan, monkeypatch):
+    # bisection along r_hold per capacitor keeps the rows and dropped counts a scan of every (r_hold, c_hold) pair
+    # keeps; the scan also fails where the nominal delay decreases along r_hold
+    import pandas as pd
+    import window_reference
+    from tradeoff.topologies import bands
+
+    brief = fan.brief.replace({**SHORT, "series.resistor": "E6", "series.electrolytic": "E6", "series.film": "E6",
+                               "series.pairs": True})
+    windowed = build_topology("rc-schmitt", brief, fan.catalog).selection().blocks[0]
+    monkeypatch.setattr(bands, "leading_below", window_reference.full_scan)
+    scanned = build_topology("rc-schmitt", brief, fan.catalog).selection().blocks[0]
+    assert len(scanned.table) > 20 and sum(scanned.dropped.values()) > 1000
+    pd.testing.assert_frame_equal(windowed.table, scanned.table)
+    assert windowed.dropped == scanned.dropped

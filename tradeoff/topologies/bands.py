@@ -79,7 +79,7 @@ def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, 
         "cost": (column["cost"][0] + column["cost"][1]).astype(float),
         "placements": (column["placements"][0] + column["placements"][1]).astype(int),
         "r_first": r["first"].to_numpy(float)[ri], "r_second": r["second"].to_numpy(float)[ri],
-    })
+    }).astype({"r_part": r["part"].dtype, "c_part": c["part"].dtype})   # also when no pair is listed
 
 
 def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,

@@ -32,13 +32,14 @@ from typing import Mapping
 import numpy as np
 
 from tradeoff.analysis import Uncertain
-from tradeoff.selection import Block, SelectionModel
+from tradeoff.selection import SelectionModel
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
 from tradeoff.devices.quadrature import evaluate_in_chunks
 from tradeoff.devices.schmitt import bisect_arrays, charge_time_s, falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies import bands, hold_state
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.topologies.schmitt_tables import schmitt_selection
 from tradeoff.units import format_quantity as fq
 
 __all__ = ["RcSchmitt", "NETWORK"]
@@ -49,10 +50,6 @@ NETWORK = {"r_emitter": "shared emitter resistor", "r_q1_collector": "Q1 collect
 pull-up) is the fifth fixed resistor."""
 HYSTERESIS_MIN_V = 0.05
 """Smallest hysteresis for a clean snap against supply ripple and noise [V] (common practice)."""
-_DIRECTION = {"r_hold": 1, "c_hold": 1, LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
-              "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
-              "supply_v": 0}
-"""Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
 
 
 class RcSchmitt(Topology):
@@ -291,56 +288,9 @@ class RcSchmitt(Topology):
 
     # ---- optimiser ------------------------------------------------------------------------
     def selection(self) -> SelectionModel:
-        """One block: every (r_hold, c_hold) pair with its delay at the corners `_DIRECTION` selects
-        (quantities of direction 0 at both ends), by the same model as evaluate(); standby after per row."""
-        band = (self.brief.delay.min_s, self.brief.delay.max_s)
-        rows = bands.hold_pairs(*self.roles(), self.brief, self.catalog)
-        delay, after = np.full((3, len(rows)), np.nan), np.zeros(len(rows))
-        for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
-            sub = rows.iloc[index]
-            design = Design(self.id, {"r_hold": float(sub["r_hold"].iloc[0]), "c_hold": float(sub["c_hold"].iloc[0])},
-                            {"c_hold_part": c_part, "c_hold_rated_v": float(rated),
-                             "r_hold_part": sub["r_part"].iloc[0]})
-            q = self.quantities(design)
-            values = {n: sub[n].to_numpy(float)[:, None] for n in ("r_hold", "c_hold")}
-            spread = {n: sub[f"{n[0]}_spread"].to_numpy(float)[:, None] for n in values}
-            leak = self._leakage(design, values["c_hold"])
-            for k, sign in enumerate((-1, 0, 1)):
-                corners = self._table_corners(q, sign)
-                x = {n: np.array([[c[n] for c in corners]]) for n in q}
-                x.update({n: v * (1 + sign * spread[n]) + 0 * x[n] for n, v in values.items()})
-                tr = self.trip(design, x)
-                t = charge_time_s(x["c_hold"], x["r_hold"], x["supply_v"], tr["v_trip"], self._extra(x, tr, leak, None))
-                delay[k, index] = (t.min(axis=1), t[:, 0], t.max(axis=1))[k]
-            nominal = {**{n: np.full(len(sub), u.nominal) for n, u in q.items()},
-                       **{n: v[:, 0] for n, v in values.items()}}
-            after[index] = self.after_state(design, nominal, self._leakage(design, values["c_hold"][:, 0]))["supply_a"]
-        dropped = bands.Dropped()
-        nom, hi = rows["c_hold"].to_numpy(float) * 0 + delay[1], delay[2]
-        keep = dropped.drop((nom < band[0]) | (nom > band[1]), lambda m: f"nominal delay outside the band "
-                            f"{fq(band[0], 's')} to {fq(band[1], 's')} (time constant too short or too long)")
-        keep &= dropped.drop(keep & ~np.isfinite(hi), lambda m: "at the longest-delay corner the capacitor's leakage "
-                             "and Q1's base current reach the charge current below the trip point: never times out")
-        table = rows.assign(delay_lo=delay[0], delay_nom=delay[1], delay_hi=hi, after_a=after, lines=2, during_a=0.0)
-        table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part",
-                                            "c_rated_v": "c_hold_rated_v"})
-        design0 = Design(self.id, {"r_hold": 10e6, "c_hold": 1e-6})
-        fixed = self._fixed_bom(design0)
-        return SelectionModel(self.id, "sum", [Block("hold", table, roles=("r_hold", "c_hold"), dropped=dict(dropped),
-                                                     options=("r_hold_part", "c_hold_part", "c_hold_rated_v"))],
-                              fixed_cost=float(sum(b.cost for b in fixed)),
-                              fixed_placements=sum(b.quantity for b in fixed),
-                              fixed_lines=len(fixed), fixed_during_a=self.standby(design0).during_a, rails=1,
-                              effort=self.effort(design0),
-                              notes=["threshold network fixed; table delays at the corners of the model's directions"])
-
-    def _table_corners(self, q: Mapping[str, Uncertain], sign: int) -> list[dict[str, float]]:
-        """Corners (name -> value) of the shortest (sign -1) or longest (+1) delay; sign 0: the nominal point."""
-        base = {n: (u.hi if _DIRECTION.get(n, 0) * sign > 0 else u.lo) if u.spreads and sign else u.nominal
-                for n, u in q.items()}
-        either = [n for n in q if sign and _DIRECTION.get(n, 0) == 0 and q[n].spreads]
-        return [{**base, **{n: (q[n].lo, q[n].hi)[b] for n, b in zip(either, combo)}}
-                for combo in np.ndindex(*([2] * len(either)))]
+        """One block: the (r_hold, c_hold) pairs whose nominal delay lies in the band, with their delays at the corners
+        the model's directions select and the standby after (`schmitt_tables.schmitt_selection`)."""
+        return schmitt_selection(self)
 
     # ---- plots and SPICE ------------------------------------------------------------------
     def waveform(self, design: Design, x: Mapping[str, float]) -> Waveform:
