@@ -209,6 +209,20 @@ def test_every_design_failing_verification_is_an_infeasibility():
         "Carlo); the best of them: worst-case longest delay 1 h exceeds the band's maximum 50 min"]}
 
 
+def test_the_search_without_the_margin_reuses_the_candidate_tables():
+    # A topology's selection is its costliest step (seconds for the dense tables); the second search,
+    # for a design short only of the margin, must not build it again.
+    model = SelectionModel("fake", "sum", [rc_block("hold", [10])])
+    topology = FakeTopology(model)
+    built = []
+    topology.selection = lambda: built.append(1) or model
+    brief = brief_for((60, 70))
+    brief.analysis.margin = 0.05
+    with pytest.raises(InfeasibleError) as caught:
+        verified_designs(topology, brief)
+    assert len(built) == 1 and "too early" in caught.value.reasons["fake"][0]
+
+
 def test_an_infeasible_program_raises_with_reasons_per_topology():
     model = SelectionModel("fake", "sum", [rc_block("hold", [10])])
     with pytest.raises(InfeasibleError) as caught:

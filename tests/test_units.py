@@ -186,3 +186,35 @@ def test_format_then_parse_round_trips_to_three_digits(value, units):
 @given(st.floats(min_value=0.01, max_value=7 * 86400.0))
 def test_format_time_round_trips(value):
     assert parse_quantity(format_quantity(value, "s"), "s") == pytest.approx(value, rel=5e-3)
+
+
+# ---- the cache of pint's parsed definitions ---------------------------------------------------------
+
+_CACHED_PROBE = ("from tradeoff.units import parse_quantity; "
+                 "print(repr([parse_quantity(t, u) for t, u in (('47 uF', 'F'), ('2.2 Mohm', 'ohm'), ('90 min', 's'), "
+                 "('-10 °C', 'degC'), ('50 ppm/K', '1/K'), ('3 mA/V**2', 'A/V**2'))]))")
+
+
+def test_pint_definitions_are_cached_per_installation_and_read_back_alike(tmp_path):
+    """A cache keyed by pint's install folder (pint's shared one breaks for every installation once the
+    first that wrote it is deleted); the values read with a fresh and with a filled cache are those of
+    an uncached pint registry (pint's own conversions, computed here)."""
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    from tradeoff.units import pint_cache_folder
+
+    here = Path(pint.__file__).parent
+    assert pint_cache_folder(here) == pint_cache_folder(here) != pint_cache_folder(tmp_path)
+    env = {**os.environ, "XDG_CACHE_HOME": str(tmp_path), "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    runs = [subprocess.run([sys.executable, "-c", _CACHED_PROBE], env=env, capture_output=True, text=True,
+                           check=True).stdout for _ in range(2)]
+    folder = pint_cache_folder(here)
+    written = list((tmp_path / folder.parent.name / folder.name).glob("*.pickle"))
+    registry = pint.UnitRegistry()
+    expected = [float(registry.Quantity(m, unit).to(base).magnitude) for m, unit, base in (
+        (47, "uF", "F"), (2.2, "Mohm", "ohm"), (90, "min", "s"), (-10, "degC", "degC"), (50, "ppm/K", "1/K"),
+        (3, "mA/V**2", "A/V**2"))]
+    assert written and runs[0] == runs[1] == repr(expected) + "\n"

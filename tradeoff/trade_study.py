@@ -33,6 +33,7 @@ if TYPE_CHECKING:  # pragma: no cover
     import pandas as pd
 
     from tradeoff.ranking import Ranking
+    from tradeoff.selection import SelectionModel
     from tradeoff.topologies.base import Evaluation, Topology
 
 __all__ = ["VerifiedDesign", "TopologyOutcome", "StudyResult", "study", "verified_designs", "resolve_topologies",
@@ -218,13 +219,14 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
     if k < 1 or max_rounds < 1:
         raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
     margin = brief.analysis.margin
+    tables = topology.selection()  # built once: the search without the margin below reuses it
     try:
-        return _search(topology, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible)
+        return _search(topology, tables, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible)
     except InfeasibleError as exc:
         if margin == 0:
             raise
         try:  # the band alone: a design short only of the margin is reported, not dropped
-            near = _search(topology, brief, 1, solver, max_rounds, 0.0,
+            near = _search(topology, tables, brief, 1, solver, max_rounds, 0.0,
                            lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)))[0].evaluation
         except InfeasibleError:
             raise exc from None
@@ -235,10 +237,11 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
         raise InfeasibleError(str(exc), {topology.id: [why, *exc.reasons.get(topology.id, [])]}) from None
 
 
-def _search(topology: "Topology", brief: Brief, k: int, solver: str, max_rounds: int, margin: float,
-            accept: Callable[["Evaluation"], bool]) -> list[VerifiedDesign]:
-    """Solve, verify by the full model (`accept`), cut and solve again; the band less `margin` in the program."""
-    problem = SelectionProblem(topology.selection(), (brief.delay.min_s, brief.delay.max_s), brief.limits,
+def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int, solver: str, max_rounds: int,
+            margin: float, accept: Callable[["Evaluation"], bool]) -> list[VerifiedDesign]:
+    """Solve over `tables` (the topology's selection), verify by the full model (`accept`), cut and solve
+    again; the band less `margin` in the program."""
+    problem = SelectionProblem(tables, (brief.delay.min_s, brief.delay.max_s), brief.limits,
                                brief.weights, solver=solver, margin=margin)
     found: list[VerifiedDesign] = []
     failed: list["Evaluation"] = []
