@@ -189,3 +189,19 @@ def test_commands_do_not_load_export_libraries():
     done = subprocess.run([sys.executable, "-c", probe], cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)},
                           capture_output=True, text=True, check=True)
     assert done.stdout.strip() == "", f"loaded at import: {done.stdout.strip()}"
+
+
+def test_a_plain_study_run_loads_no_export_library():
+    """The whole `tradeoff study BRIEF` command, report written, has loaded neither matplotlib nor
+    openpyxl, nor rich's progress bar when stderr is not a terminal: an import inside a function on
+    the report or progress path is caught here, which the import-only check above cannot see."""
+    heavy = (*EXPORT_ONLY, "rich.progress")
+    probe = ("import atexit, sys; "
+             f"atexit.register(lambda: print('loaded:' + ','.join(m for m in {heavy!r} if m in sys.modules))); "
+             "sys.argv = ['tradeoff', 'study', 'examples/fan_run_on.yaml', '--only', 'mcu,rc-counter', '--samples', "
+             "'200']; from tradeoff.cli import main; main()")
+    done = subprocess.run([sys.executable, "-c", probe], cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)},
+                          capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    assert "Every topology considered" in done.stdout  # the report was written
+    assert done.stdout.rstrip().splitlines()[-1] == "loaded:"

@@ -206,11 +206,13 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
 
         tradeoff study examples/glue_pot_warmer.yaml --width 80 --verbose
     """
+    from tradeoff.report.progress import TerminalProgress
     from tradeoff.trade_study import study
 
     only = [name.strip() for item in only for name in item.split(",") if name.strip()]
-    result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
-                   samples=samples, seed=seed, catalog_files=catalogs)
+    with TerminalProgress("topologies") as shown:
+        result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
+                       samples=samples, seed=seed, catalog_files=catalogs, progress=shown.update)
     if relax:
         from tradeoff.relax import relax as relax_study
 
@@ -395,10 +397,8 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
         tradeoff sweep examples/fan_run_on.yaml --vary delay.nominal=10min..4h:5:log \\
             --vary weights.effort=0,1,2,4 --jobs 2 --samples 2000 --plot map.png
     """
-    from rich.console import Console
-    from rich.progress import Progress
-
     from tradeoff.report.files import check_writable
+    from tradeoff.report.progress import TerminalProgress
     from tradeoff.report.sweep_report import (check_mappable, plot_decision_map, render_sweep, write_csv,
                                               write_workbook)
     from tradeoff.grid_sweep import sweep
@@ -411,12 +411,10 @@ def sweep_command(brief, vary, jobs, scheduler, csv_path, xlsx_path, plot_path, 
     if plot_path:
         check_mappable([item.partition("=")[0].strip() for item in vary])
     only = [name.strip() for item in only for name in item.split(",") if name.strip()]
-    bar = Console(stderr=True)
-    with Progress(console=bar, disable=not bar.is_terminal, transient=True) as progress:
-        task = progress.add_task("grid points", total=None)
+    with TerminalProgress("grid points") as shown:
         result = sweep(brief, list(vary), jobs=jobs, scheduler=scheduler, only=only or None, samples=samples,
                        seed=seed, method=method, catalog_files=catalogs, confirmed=confirmed,
-                       progress=lambda done, total: progress.update(task, completed=done, total=total))
+                       progress=lambda done, total: shown.update(done, total))
     if output_format == "json":
         import json
 

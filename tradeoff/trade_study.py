@@ -11,6 +11,7 @@ reasons, in the designer's terms, and the other topologies go on.
 """
 from __future__ import annotations
 
+import functools
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -37,7 +38,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Evaluation, Topology
 
 __all__ = ["VerifiedDesign", "TopologyOutcome", "StudyResult", "study", "verified_designs", "resolve_topologies",
-           "MAX_ROUNDS"]
+           "MAX_ROUNDS", "Progress"]
 
 MAX_ROUNDS = 20
 """Solves tried per kept design before a topology's verification gives up."""
@@ -207,27 +208,30 @@ def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | Non
 
 
 def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str = "highs",
-                     max_rounds: int = MAX_ROUNDS) -> list[VerifiedDesign]:
+                     max_rounds: int = MAX_ROUNDS, step: Callable[[str], None] | None = None) -> list[VerifiedDesign]:
     """The k best distinct designs of `topology` for `brief`, best first, each proven by the full
     model (see the module docstring) with the brief's margin kept at both band edges; fewer than k
     when the candidate tables run out.
 
     Raises InfeasibleError (reasons keyed by the topology id) when no design is found: the
     program's own explanation when it has no solution, or the best rejected design's shortfalls;
-    when a design meets the band but not the margin, the reasons say so and name it.
+    when a design meets the band but not the margin, the reasons say so and name it. `step`, when
+    given, is told what runs now (the candidate tables, each round of solve and verify).
     """
     if k < 1 or max_rounds < 1:
         raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
     margin = brief.analysis.margin
+    step = step or _quiet
+    step("candidate tables")
     tables = topology.selection()  # built once: the search without the margin below reuses it
     try:
-        return _search(topology, tables, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible)
+        return _search(topology, tables, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible, step)
     except InfeasibleError as exc:
         if margin == 0:
             raise
         try:  # the band alone: a design short only of the margin is reported, not dropped
             near = _search(topology, tables, brief, 1, solver, max_rounds, 0.0,
-                           lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)))[0].evaluation
+                           lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)), step)[0].evaluation
         except InfeasibleError:
             raise exc from None
         why = (f"no design keeps the brief's margin of {format_quantity(margin, '%')} of the band at both ends; "
@@ -238,9 +242,11 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
 
 
 def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int, solver: str, max_rounds: int,
-            margin: float, accept: Callable[["Evaluation"], bool]) -> list[VerifiedDesign]:
+            margin: float, accept: Callable[["Evaluation"], bool], step: Callable[[str], None]) -> list[VerifiedDesign]:
     """Solve over `tables` (the topology's selection), verify by the full model (`accept`), cut and solve
-    again; the band less `margin` in the program."""
+    again; the band less `margin` in the program; `step` is told each round."""
+    rows = sum(len(block.table) for block in tables.blocks)
+    step(f"{rows:,} candidate rows, building the program")
     problem = SelectionProblem(tables, (brief.delay.min_s, brief.delay.max_s), brief.limits,
                                brief.weights, solver=solver, margin=margin)
     found: list[VerifiedDesign] = []
@@ -248,6 +254,7 @@ def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int
     seen: set[tuple] = set()
     rounds = 0
     while len(found) < k and rounds < max_rounds:
+        step(f"{rows:,} candidate rows, solve and verify round {rounds + 1}")
         result = problem.solve()
         rounds += 1
         if not result.feasible:
@@ -273,13 +280,14 @@ def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int
 
 
 def topology_outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int,
-                     solver: str) -> TopologyOutcome:
-    """One topology's verified designs for `brief`, or the reasons it has none (never raises for infeasibility)."""
+                     solver: str, step: Callable[[str], None] | None = None) -> TopologyOutcome:
+    """One topology's verified designs for `brief`, or the reasons it has none (never raises for infeasibility);
+    `step` is told what runs now (see verified_designs)."""
     start = time.perf_counter()
     model = build_topology(topology_id, brief, catalog)
     outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
     try:
-        outcome.verified = verified_designs(model, brief, k=alternatives, solver=solver)
+        outcome.verified = verified_designs(model, brief, k=alternatives, solver=solver, step=step)
     except InfeasibleError as exc:
         outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
     except CatalogError as exc:  # no part class of the catalog fits: this topology cannot be built, the rest go on
@@ -293,14 +301,30 @@ def topology_outcome(topology_id: str, brief: Brief, catalog: Catalog, alternati
     return outcome
 
 
+Progress = Callable[[int, int, str], None]
+"""A study's progress hook: progress(done, total, step) with the topologies finished, the number studied
+and what runs now ("rc-schmitt: candidate tables"); the command shell shows it on a terminal."""
+
+
+def _quiet(step: str) -> None:
+    """A step hook that reports nothing."""
+
+
+def _topology_step(tell: Progress, done: int, total: int, topology_id: str, step: str) -> None:
+    """Tell the hook `tell` the step now running for the topology `topology_id` (done of total finished)."""
+    tell(done, total, f"{topology_id}: {step}")
+
+
 def study(brief: Brief | str | Path, catalog: Catalog | None = None, *, only: Sequence[str] | None = None,
           alternatives: int = 1, method: str = "wsm", solver: str = "highs", samples: int | None = None,
-          seed: int | None = None, catalog_files: Sequence[str | Path] = ()) -> StudyResult:
+          seed: int | None = None, catalog_files: Sequence[str | Path] = (),
+          progress: Progress | None = None) -> StudyResult:
     """Run the trade study for `brief` (a Brief, or a path to a brief file).
 
     alternatives: designs kept per topology (the k best distinct ones); method: 'wsm' or
     'topsis'; solver: 'highs' or 'cbc'; samples, seed: override the brief's Monte Carlo settings;
-    catalog_files: user catalogs merged over the shipped ones (ignored when `catalog` is given).
+    catalog_files: user catalogs merged over the shipped ones (ignored when `catalog` is given);
+    progress: called as progress(done, total, step) while the topologies are studied (quiet when None).
     """
     from tradeoff.ranking import rank
 
@@ -311,7 +335,14 @@ def study(brief: Brief | str | Path, catalog: Catalog | None = None, *, only: Se
     if changes:
         brief = brief.replace(changes)
     catalog = catalog if catalog is not None else load_catalog(extra=tuple(catalog_files))
-    outcomes = [topology_outcome(t, brief, catalog, alternatives, solver) for t in resolve_topologies(brief, catalog, only)]
+    chosen = resolve_topologies(brief, catalog, only)
+    tell = progress or (lambda done, total, step: None)
+    outcomes = []
+    for done, topology_id in enumerate(chosen):
+        step = functools.partial(_topology_step, tell, done, len(chosen), topology_id)
+        step("building the model")
+        outcomes.append(topology_outcome(topology_id, brief, catalog, alternatives, solver, step))
+    tell(len(chosen), len(chosen), "ranking")
     evaluations = [ev for o in outcomes for ev in o.evaluations]
     ranking = rank(evaluations, brief.weights, method=method) if evaluations else None
     return StudyResult(brief=brief, outcomes=outcomes, ranking=ranking, method=method, solver=solver,
