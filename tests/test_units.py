@@ -104,6 +104,24 @@ def test_rejected_quantities_say_what_and_what_is_accepted(text, unit, fragment)
     assert isinstance(info.value, ValueError)
 
 
+def test_the_reason_is_data_not_cut_back_out_of_the_message():
+    # Callers that state their own accepted values read `reason`; a user's text that itself contains
+    # "; accepted: " stays whole in it, and both parts survive the pickling a sweep worker's error goes through.
+    import pickle
+
+    with pytest.raises(UnitParseError) as info:
+        parse_quantity("5 parsecs; accepted: 3", "s")
+    err = info.value
+    assert err.reason == "'parsecs; accepted: 3' in '5 parsecs; accepted: 3' is not a unit pint knows"
+    assert err.accepted == "a time, e.g. '4 h', '90 min', '30 s'"
+    assert str(err) == f"{err.reason}; accepted: {err.accepted}"
+    copy = pickle.loads(pickle.dumps(err))
+    assert (copy.reason, copy.accepted, str(copy)) == (err.reason, err.accepted, str(err))
+    with pytest.raises(UnitParseError) as info:
+        parse_fraction("±-5 %")
+    assert (info.value.reason, info.value.accepted) == ("'±-5 %' puts a sign after '±'; write '±5 %'", "")
+
+
 def test_mohm_is_rejected_but_milliohm_spelled_out_is_accepted():
     with pytest.raises(UnitParseError):
         parse_quantity("0.5 mohm", "ohm")

@@ -106,14 +106,22 @@ class DesignKeyError(TradeoffError, ValueError):
 
 
 class UnitParseError(TradeoffError, ValueError):
-    """A quantity or percentage string is malformed or has the wrong dimension (no location: callers add it)."""
+    """A quantity or percentage string is malformed or has the wrong dimension (no location: callers add it).
+
+    Carries its parts as data: `reason`, what is wrong (for a caller that states its own accepted
+    values), and `accepted`, what the field accepts ("" when the reason itself says what to write).
+    The message is "<reason>; accepted: <accepted>".
+    """
 
     exit_code = EXIT_INPUT
 
-    @property
-    def reason(self) -> str:
-        """What is wrong, without the "; accepted: ..." tail, for a caller that states its own accepted values."""
-        return str(self).split("; accepted: ", 1)[0]
+    def __init__(self, reason: str, accepted: str = ""):
+        self.reason, self.accepted = reason, accepted
+        super().__init__(f"{reason}; accepted: {accepted}" if accepted else reason)
+
+    def __reduce__(self):
+        """Pickle with both parts (a sweep worker's error crosses a process boundary)."""
+        return type(self), (self.reason, self.accepted)
 
 
 class InfeasibleError(TradeoffError, RuntimeError):

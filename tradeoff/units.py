@@ -173,7 +173,7 @@ def dimension(unit_text: str) -> str:
 def _reject(text: object, unit: str, what: str) -> UnitParseError:
     """Error saying what is wrong with `text` and what the field accepts."""
     name, examples = _describe(unit)
-    return UnitParseError(f"{what}; accepted: {name}, e.g. {examples}")
+    return UnitParseError(what, f"{name}, e.g. {examples}")
 
 
 def _spelling_problem(text: str, number: str, unit_text: str, unit: str) -> str | None:
@@ -253,7 +253,7 @@ def parse_quantity(text: str | int | float, unit: str) -> float:
 
 
 _FRACTION_RE = re.compile(rf"^\s*(±|\+/-|\+-)?\s*({_NUMBER})\s*(%?)\s*$")
-_FRACTION_ACCEPTED = "accepted: '20 %', '±20 %', '+/-20%' or a fraction below 1 (0.2)"
+_FRACTION_ACCEPTED = "'20 %', '±20 %', '+/-20%' or a fraction below 1 (0.2)"
 
 
 def parse_fraction(text: str | int | float) -> float:
@@ -264,21 +264,21 @@ def parse_fraction(text: str | int | float) -> float:
     non-negative number. Raises UnitParseError.
     """
     if isinstance(text, bool) or not isinstance(text, (str, int, float)):
-        raise UnitParseError(f"got {type(text).__name__} {text!r}, not a percentage; {_FRACTION_ACCEPTED}")
+        raise UnitParseError(f"got {type(text).__name__} {text!r}, not a percentage", _FRACTION_ACCEPTED)
     shown = text.strip() if isinstance(text, str) else repr(text)
     match = _FRACTION_RE.match(repr(text) if isinstance(text, (int, float)) else text.replace("\u2212", "-"))
     if not match:
-        raise UnitParseError(f"'{shown}' is not a percentage or fraction; {_FRACTION_ACCEPTED}")
+        raise UnitParseError(f"'{shown}' is not a percentage or fraction", _FRACTION_ACCEPTED)
     plus_minus, number, percent = match.groups()
     value = float(number)
     if not math.isfinite(value):
-        raise UnitParseError(f"'{shown}' is too large to be a number; {_FRACTION_ACCEPTED}")
+        raise UnitParseError(f"'{shown}' is too large to be a number", _FRACTION_ACCEPTED)
     if plus_minus and value < 0:
         raise UnitParseError(f"'{shown}' puts a sign after '±'; write '±{number.lstrip('+-')} %'")
     if percent:
         return value / 100.0
     if abs(value) >= 1:
-        raise UnitParseError(f"the bare number '{shown}' is ambiguous ({number} % or {number} times?); accepted: "
+        raise UnitParseError(f"the bare number '{shown}' is ambiguous ({number} % or {number} times?)",
                              f"'{number} %' for percent or {value / 100:g}, a fraction below 1")
     return value
 
