@@ -5,19 +5,18 @@ by the 95 % charge Link. Functions of the hold topology `topo` (an RcHoldTopolog
 """
 from __future__ import annotations
 
-import itertools
 import math
-from typing import TYPE_CHECKING, Mapping
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-from tradeoff.analysis import Uncertain
 from tradeoff.devices.start import CHARGE_FRACTION_MIN, CHARGE_TIME_CONSTANTS
 from tradeoff.selection import Block, Link, SelectionModel
 from tradeoff.candidates import EVALUATION_CHUNK, chunks
 from tradeoff.topologies.bands import Dropped, hold_pairs, pair_rows, role_tables, window_pairs
 from tradeoff.topologies.base import Design
+from tradeoff.topologies.corners import corner_sets
 from tradeoff.topologies.hold_start import (
     START_PNP_OFF_V, charge_window, pulse_length_s, start_leakage_a, start_voltage,
 )
@@ -27,7 +26,7 @@ from tradeoff.units import format_quantity as fq
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Topology
 
-__all__ = ["START_QUANTITIES", "ROW_QUANTITIES", "corner_sets", "corner_arrays", "hold_rows", "hold_selection",
+__all__ = ["START_QUANTITIES", "ROW_QUANTITIES", "corner_arrays", "hold_rows", "hold_selection",
            "start_block", "load_max_a"]
 
 START_QUANTITIES = ("r_start", "c_start", "start_hfe")
@@ -35,25 +34,6 @@ START_QUANTITIES = ("r_start", "c_start", "start_hfe")
 
 ROW_QUANTITIES = {"r_hold": ("r_hold", "r_spread"), "c_hold": ("c_hold", "c_spread")}
 """Quantities each candidate row carries itself: name -> (value column, band-fraction column)."""
-
-
-def corner_sets(directions: Mapping[str, int], q: Mapping[str, Uncertain], names) -> tuple[list[dict], list[dict]]:
-    """Corners (name -> 'lo' | 'hi') holding the smallest and the largest delay under `directions`.
-
-    A quantity with direction +1 sits at 'lo' for the minimum and 'hi' for the maximum (-1 the
-    reverse); direction 0 tries both. Quantities without spread stay nominal.
-    """
-    fixed_min, fixed_max, either = {}, {}, []
-    for n in names:
-        if not q[n].spreads:
-            continue
-        d = directions.get(n, 0)
-        if d == 0:
-            either.append(n)
-        else:
-            fixed_min[n], fixed_max[n] = ("lo", "hi") if d > 0 else ("hi", "lo")
-    combos = [dict(zip(either, c)) for c in itertools.product(("lo", "hi"), repeat=len(either))]
-    return [{**fixed_min, **c} for c in combos], [{**fixed_max, **c} for c in combos]
 
 
 def corner_arrays(q, rows: pd.DataFrame, corners: list[dict], names) -> dict[str, np.ndarray]:

@@ -5,17 +5,17 @@ selects and the supply current long after the timeout, by the models evaluate() 
 """
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Mapping
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tradeoff.analysis import Uncertain
 from tradeoff.candidates import chunks
 from tradeoff.devices.capacitor import LEAK_LEVEL
 from tradeoff.devices.schmitt import charge_time_s
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import bands
 from tradeoff.topologies.base import Design
+from tradeoff.topologies.corners import corner_values, extreme_corners
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -23,7 +23,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
     from tradeoff.topologies.base import Topology
 
-__all__ = ["DIRECTION", "SCHMITT_CHUNK", "schmitt_selection", "table_delays", "table_corners"]
+__all__ = ["DIRECTION", "SCHMITT_CHUNK", "schmitt_selection", "table_delays"]
 
 DIRECTION = {"r_hold": 1, "c_hold": 1, LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
              "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
@@ -71,8 +71,8 @@ def schmitt_selection(topo: "Topology") -> SelectionModel:
 def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
                  with_after: bool = False) -> list[np.ndarray]:
     """Per candidate pair of `rows` (`bands.pair_rows`): for each sign the shortest (-1), nominal (0) or longest
-    (+1) delay over the corners `table_corners` selects [s], and with `with_after` the supply current long after
-    the timeout [A]; SCHMITT_CHUNK rows at a time."""
+    (+1) delay over the corners `corners.extreme_corners` selects [s], and with `with_after` the supply current
+    long after the timeout [A]; SCHMITT_CHUNK rows at a time."""
     out = [np.full(len(rows), np.nan) for _ in range(len(signs) + with_after)]
     for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
         first = rows.iloc[index[0]]
@@ -85,7 +85,7 @@ def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
             spread = {n: sub[f"{n[0]}_spread"].to_numpy(float)[:, None] for n in values}
             leak = topo._leakage(design, values["c_hold"])
             for k, sign in enumerate(signs):
-                corners = table_corners(q, sign)
+                corners = [corner_values(q, c) for c in extreme_corners(q, DIRECTION, sign)]
                 x = {n: np.array([[c[n] for c in corners]]) for n in q}
                 x.update({n: v * (1 + sign * spread[n]) + 0 * x[n] for n, v in values.items()})
                 tr = topo.trip(design, x)
@@ -97,12 +97,3 @@ def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
                 out[-1][index[part]] = topo.after_state(design, nominal,
                                                         topo._leakage(design, values["c_hold"][:, 0]))["supply_a"]
     return out
-
-
-def table_corners(q: Mapping[str, Uncertain], sign: int) -> list[dict[str, float]]:
-    """Corners (name -> value) of the shortest (sign -1) or longest (+1) delay; sign 0: the nominal point."""
-    base = {n: (u.hi if DIRECTION.get(n, 0) * sign > 0 else u.lo) if u.spreads and sign else u.nominal
-            for n, u in q.items()}
-    either = [n for n in q if sign and DIRECTION.get(n, 0) == 0 and q[n].spreads]
-    return [{**base, **{n: (q[n].lo, q[n].hi)[b] for n, b in zip(either, combo)}}
-            for combo in np.ndindex(*([2] * len(either)))]

@@ -15,6 +15,7 @@ from tradeoff.candidates import chunks, leading_below, window_rows
 from tradeoff.errors import CatalogError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies.base import BomLine
+from tradeoff.topologies.corners import corner_values, extreme_corners
 from tradeoff.topologies.ic_common import TEMPCO_REFERENCE_C, drop_count, supply_problem, timing_candidates
 from tradeoff.units import format_quantity as fq
 
@@ -92,16 +93,19 @@ def _columns() -> list[str]:
             "r_timing_second"]
 
 
-def _corner(topo: "Topology", q: Mapping[str, Uncertain], r, c, ambient_c: float, supply_v: float, sign: float) -> dict:
-    """The corner that pushes the delay furthest in direction `sign` at a given ambient and supply."""
-    def pick(name: str, direction: float):
-        return q[name].hi if sign * direction > 0 else q[name].lo
-
-    x = {n: pick(n, 1.0) for n in INCREASING}
-    x.update({n: pick(n, ambient_c - TEMPCO_REFERENCE_C) for n in WITH_TEMPERATURE})
-    x.update({n: pick(n, supply_v - topo.brief.supply.nominal_v) for n in WITH_SUPPLY})
-    x["r_timing"], x["c_timing"] = x["r_timing"] * r, x["c_timing"] * c
-    return {**x, "ambient_c": ambient_c, "supply_v": supply_v}
+def _corners(topo: "Topology", q: Mapping[str, Uncertain], r, c, ambient_c: float, supply_v: float,
+             sign: float) -> list[dict]:
+    """The corners that push the delay furthest in direction `sign` at a given ambient and supply
+    (`corners.extreme_corners`; at 25 degC a tempco, at the nominal supply the supply drift moves
+    nothing, so both of its ends are tried); R and C scaled to the candidates' values."""
+    directions = {**dict.fromkeys(INCREASING, 1.0), **dict.fromkeys(WITH_TEMPERATURE, ambient_c - TEMPCO_REFERENCE_C),
+                  **dict.fromkeys(WITH_SUPPLY, supply_v - topo.brief.supply.nominal_v)}
+    out = []
+    for corner in extreme_corners(q, directions, sign):
+        x = corner_values(q, corner)
+        x["r_timing"], x["c_timing"] = x["r_timing"] * r, x["c_timing"] * c
+        out.append({**x, "ambient_c": ambient_c, "supply_v": supply_v})
+    return out
 
 
 def _rows(topo: "Topology", timer: TimerClass, support: list[BomLine], rs: pd.DataFrame, cs: pd.DataFrame,
@@ -140,8 +144,10 @@ def _rows(topo: "Topology", timer: TimerClass, support: list[BomLine], rs: pd.Da
         nom[part] = topo.width_s(limit, {**nominal, "r_timing": r[part], "c_timing": c[part]})
         for t in env["ambient_c"].corner_values():
             for v in env["supply_v"].corner_values():
-                lo[part] = np.minimum(lo[part], topo.width_s(limit, _corner(topo, q, r[part], c[part], t, v, -1.0)))
-                hi[part] = np.maximum(hi[part], topo.width_s(limit, _corner(topo, q, r[part], c[part], t, v, +1.0)))
+                for x in _corners(topo, q, r[part], c[part], t, v, -1.0):
+                    lo[part] = np.minimum(lo[part], topo.width_s(limit, x))
+                for x in _corners(topo, q, r[part], c[part], t, v, +1.0):
+                    hi[part] = np.maximum(hi[part], topo.width_s(limit, x))
     stuck = ~np.isfinite(hi)
     stuck_c = np.concatenate([c_values[finite < len(rs)], c[stuck]])
     if len(stuck_c):
