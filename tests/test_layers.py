@@ -21,6 +21,7 @@ from conftest import ROOT
 PACKAGE = ROOT / "tradeoff"
 
 INPUT_LAYER = ("tradeoff.units", "tradeoff.yamlpos", "tradeoff.inputfile", "tradeoff.fields", "tradeoff.brief",
+               "tradeoff.environment",
                "tradeoff.brief_sections", "tradeoff.catalog", "tradeoff.eseries", "tradeoff.errors", "tradeoff.cautions")
 """Modules that load and validate input: they know nothing of topologies or reports."""
 

@@ -14,6 +14,8 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
                                                    (then nominal = their midpoint); no tolerance and
                                                    no min/max: tolerance ±10 %
     ambient:    min, max                           0 degC .. 40 degC (indoor, common practice)
+    environment: board, life                       board none (no board-surface leakage), life not
+                                                   stated (parts as delivered); see tradeoff.environment
     supply:     nominal, min, max, kind,           nominal required; kind unregulated; min/max:
                 no_load_power                      unregulated -10 % / +20 %, regulated ±5 % of
                                                    nominal (common practice); no_load_power none
@@ -41,7 +43,8 @@ Accepted ranges (outside them is almost surely a typo): delays 10 ms .. 7 days; 
 under load.switched); no-load power 0 .. 10 W; coil 1 V .. 60 V and 1 ohm .. 100 kohm; dc
 load 1 uA .. 10 A; switched 1 V .. 440 V and 1 mA .. 32 A; standby limit 1 nA .. 1 A; rails
 1 .. 10; parts 1 .. 500; cost 0 .. 10000; weights 0 .. 100; samples 100 .. 10,000,000; seed
-0 .. 2**32-1; coverage strictly between 0.5 and 1; margin 0 .. below 50 % of the band.
+0 .. 2**32-1; coverage strictly between 0.5 and 1; margin 0 .. below 50 % of the band; board-surface
+resistance 1 Mohm .. 10 Tohm; life 1 .. 50 years.
 """
 from __future__ import annotations
 
@@ -55,13 +58,14 @@ from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 
 from tradeoff import inputfile, yamlpos
 from tradeoff.brief_sections import BriefValue, SectionReader, read_sections, sorted_values
+from tradeoff.environment import Environment
 from tradeoff.errors import BriefError, Problem
 from tradeoff.fields import closest, dotted
 from tradeoff.production import Production
 
 __all__ = [
     "Brief", "Delay", "Ambient", "Supply", "Load", "Switched", "Limits", "Weights", "Series",
-    "Analysis", "BriefValue", "load_brief", "brief_from_node",
+    "Analysis", "Environment", "BriefValue", "load_brief", "brief_from_node",
 ]
 
 SeriesName = Literal["E3", "E6", "E12", "E24", "E48", "E96", "E192"]
@@ -162,6 +166,7 @@ class Brief(_Frozen):
     title: str
     delay: Delay
     ambient: Ambient
+    environment: Environment
     supply: Supply
     start: Literal["power-on", "button"]
     load: Load

@@ -1,6 +1,7 @@
 """Reading a brief's YAML sections: the reader that collects every problem (at its file, line and
 column) and every value's origin, and one reader per section (delay, ambient, supply, load with its
-switched circuit, limits, weights, series, topologies, analysis) returning model input in SI units.
+switched circuit, limits, weights, series, topologies, analysis; environment and production in their
+own modules) returning model input in SI units.
 `tradeoff.brief` validates the result into the frozen `Brief`; the shapes, defaults and accepted
 ranges are listed in its docstring.
 """
@@ -15,6 +16,7 @@ import yaml
 
 from tradeoff import yamlpos
 from tradeoff.errors import Problem, UnitParseError
+from tradeoff.environment import read_environment
 from tradeoff.production import read_production
 from tradeoff.fields import (Invalid, Problems, boolean, choice, closest, dotted, first_unknown, fraction, number,
                              quantity, show, text)
@@ -332,7 +334,7 @@ def _read_topologies(r: SectionReader, raw: object) -> tuple[str, ...] | None:
     return tuple(names)
 
 
-TOP_KEYS = ("title", "delay", "ambient", "supply", "start", "load", "limits", "weights", "series",
+TOP_KEYS = ("title", "delay", "ambient", "environment", "supply", "start", "load", "limits", "weights", "series",
              "topologies", "analysis", "production")
 
 
@@ -349,6 +351,7 @@ def read_sections(r: SectionReader, data: object, base_dir: Path, weight_names: 
         "title": r.get((), top, "title", text),
         "delay": _read_delay(r, top["delay"]) if "delay" in top else None,
         "ambient": _read_ambient(r, top.get("ambient")),
+        "environment": read_environment(r, top.get("environment")),
         "supply": supply,
         "start": r.get((), top, "start", choice(("power-on", "button")), default="power-on",
                        note="timing starts when power is applied"),

@@ -9,9 +9,14 @@ from __future__ import annotations
 
 import re
 
+from typing import TYPE_CHECKING
+
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["LEAKAGE_SPREAD_ASSUMPTION", "plain_label", "schematic_values", "option_texts", "part_classes", "FIXED_SCALE_UNITS", "quantity_text"]
+if TYPE_CHECKING:  # pragma: no cover
+    from tradeoff.brief import Brief
+
+__all__ = ["LEAKAGE_SPREAD_ASSUMPTION", "assumptions", "plain_label", "schematic_values", "option_texts", "part_classes", "FIXED_SCALE_UNITS", "quantity_text"]
 
 _LABELS = {
     "ambient_c": "ambient", "supply_v": "supply", "leak_level": "leakage level",
@@ -21,7 +26,8 @@ _LABELS = {
     "c_hold": "hold capacitor", "r_hyst": "hysteresis resistor", "mcu": "microcontroller", "link_stage": "link stage",
     "coil_ohm": "coil resistance", "release_frac": "relay release point", "rail_v": "logic rail",
     "drain_v": "drain voltage", "offset_v": "comparator offset", "bias_frac": "input bias", "ref_bias_frac": "reference-input bias", "v_ref": "reference voltage",
-    "threshold_a": "threshold pin current", "gate_leak": "gate leakage", "timer_error": "timer timing error",
+    "threshold_a": "threshold pin current", "gate_leak": "gate leakage", "board_leak": "board-surface leakage",
+    "timer_error": "timer timing error",
     "timer_supply_coef": "timer supply coefficient", "crystal_aging": "crystal ageing",
 }
 """Names whose plain form is not just the name without its unit suffix and underscores."""
@@ -35,6 +41,20 @@ LEAKAGE_SPREAD_ASSUMPTION = (
     "plus and minus its limit at the unit's ambient; the worst case takes the datasheet limits.")
 """The one sentence every report prints about how leakage is spread in the Monte Carlo (its law:
 tradeoff.devices.capacitor.leakage_level, tradeoff.topologies.ic_common.typical_to_limit)."""
+
+
+def assumptions(brief: "Brief") -> list[str]:
+    """The stated assumptions of a study of `brief`, as every report prints them: the leakage spread, and
+    for a brief with a board-surface leakage how that is placed and spread (tradeoff.topologies.bands.board_leak)."""
+    out = [LEAKAGE_SPREAD_ASSUMPTION]
+    env = brief.environment
+    if env.surface_ohm is not None:
+        label = "the brief's figure" if env.board == "given" else f"{env.board} board"
+        out.append(f"Board-surface leakage (an assumption): a path from each high-impedance timing node to ground, "
+                   f"anywhere from none to {fq(env.surface_ohm, 'ohm')} ({label}), uniform in conductance in the "
+                   "Monte Carlo, both ends in the worst case; a leak to the supply instead would lengthen a hold "
+                   "and is not modelled.")
+    return out
 
 _UNIT_SUFFIX = re.compile(r"_(ohm|hz|s|v|a|f|c|w|frac|ppm|part)$")
 _QUALIFIER = re.compile(r"^(?P<base>.+)_(?P<what>tempco|leakage|part)$")

@@ -23,7 +23,7 @@ from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
 from tradeoff.economics import BreakEven, break_even_of, economics
-from tradeoff.plain import LEAKAGE_SPREAD_ASSUMPTION, part_classes, schematic_values
+from tradeoff.plain import assumptions, part_classes, schematic_values
 from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
 from tradeoff.topologies.base import margin_shortfalls
@@ -164,7 +164,7 @@ class StudyResult:
             "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
             "relaxations": None if self.relaxations is None else [r.to_dict() for r in self.relaxations],
             "cautions": list(self.cautions),
-            "assumptions": [LEAKAGE_SPREAD_ASSUMPTION],
+            "assumptions": assumptions(self.brief),
             **({"timing": {"total_s": self.seconds, "topologies": [o.timing() for o in self.outcomes]}}
                if timing else {}),
         }

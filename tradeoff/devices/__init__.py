@@ -16,4 +16,6 @@ they hold no device physics of their own.
 - `supply_current`: IC and regulator quiescent currents read at the supply
 - `start`: push-button and power-on PNP start of a hold, power-on reset release
 - `quadrature`: Gauss–Legendre discharge integrals, chunked evaluation of long sample arrays
+- `life`: electrolytic endurance against a service life (10 K rule), crystal ageing past the first
+  year (log law), board-surface leakage as a conductance
 """

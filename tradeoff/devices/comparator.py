@@ -14,8 +14,8 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = ["THRESHOLD_FRAC", "TRIGGER_FRAC", "JUNCTION_LEAKAGE_DOUBLING_K", "LIMIT_REFERENCE_C", "threshold_v",
-           "monostable_width_s", "limit_over_temperature_a", "doubling_interval_k", "input_bias_limit_a",
-           "threshold_node_ohm", "discharge_leakage_a"]
+           "monostable_width_s", "shunted_charge", "limit_over_temperature_a", "doubling_interval_k",
+           "input_bias_limit_a", "threshold_node_ohm", "discharge_leakage_a"]
 
 THRESHOLD_FRAC = 2.0 / 3.0
 """555-class threshold comparator level as a fraction of Vcc (555-class datasheets)."""
@@ -86,6 +86,17 @@ def monostable_width_s(r_ohm, c_f, ix_a, vcc_v):
     with np.errstate(divide="ignore", invalid="ignore"):
         t = r_ohm * c_f * np.log((vcc_v - drop) / np.where(ok, headroom, 1.0))
     return np.where(ok, t, np.inf)
+
+
+def shunted_charge(r_ohm, ix_a, vcc_v, g_s):
+    """(R', Ix') for `monostable_width_s` when a conductance g_s [S] also drains the capacitor to ground.
+
+    C·dv/dt = (Vcc − v)/R − v·G − Ix has the time constant R'·C with R' = R/(1 + R·G) and the final
+    value R'·(Vcc/R − Ix) = Vcc − (Ix + Vcc·G)·R', so the width is the constant-current one with R'
+    and Ix' = Ix + Vcc·G (standard circuit analysis; exact, and equal to (R, Ix) at G = 0).
+    """
+    g = np.asarray(g_s, dtype=float)
+    return r_ohm / (1.0 + r_ohm * g), ix_a + np.asarray(vcc_v, dtype=float) * g
 
 
 def discharge_leakage_a(at_25c_a, ambient_c):

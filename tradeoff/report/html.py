@@ -19,7 +19,7 @@ import re
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from tradeoff.plain import LEAKAGE_SPREAD_ASSUMPTION, part_classes, schematic_values
+from tradeoff.plain import assumptions, part_classes, schematic_values
 from tradeoff.report.labels import in_unit, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.money import money_heading, money_lines
 from tradeoff.report.tables import design_stem
@@ -186,7 +186,7 @@ def review_html(result: "StudyResult") -> str:
     brief = result.brief
     return env.get_template("review.html.j2").render(
         title=brief.title, version=tradeoff.__version__, seed=brief.analysis.seed, samples=brief.analysis.samples,
-        leakage_assumption=LEAKAGE_SPREAD_ASSUMPTION,
+        assumptions=" ".join(assumptions(brief)),
         method=result.method.upper(), solver=result.solver, brief_values=_brief_summary(result),
         cautions=result.cautions, headers=headers, rows=rows, designs=_designs(result, figures) if data["designs"] else [],
         pareto=figures.get("pareto"), volume=figures.get("volume"), money_heading=money_heading(result),

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 
 from rich.console import Console
 
-from tradeoff.plain import LEAKAGE_SPREAD_ASSUMPTION, part_classes, schematic_values
+from tradeoff.plain import assumptions, part_classes, schematic_values
 from tradeoff.report.labels import in_unit, margin_text, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.money import money_heading, money_lines
 from tradeoff.report.terminal import delay_text, render_bom, render_rows
@@ -132,7 +132,8 @@ def _summary(result: "StudyResult", page: _Page) -> None:
               f"{fq(b.ambient.min_c, 'degC')} to {fq(b.ambient.max_c, 'degC')}; supply {fq(b.supply.min_v, 'V')} to "
               f"{fq(b.supply.max_v, 'V')} ({b.supply.kind}); Monte Carlo {b.analysis.samples} samples, seed "
               f"{b.analysis.seed}; {result.method.upper()} ranking")
-    page.line(LEAKAGE_SPREAD_ASSUMPTION)
+    for sentence in assumptions(result.brief):
+        page.line(sentence)
 
 
 def _details(result: "StudyResult", page: _Page) -> None:

@@ -1,12 +1,14 @@
 """Value bands and candidate tables shared by the RC timing topologies: the uniform band of a resistor
-or capacitor (tolerance plus tempco over the brief's ambient, `devices.capacitor.band_frac`), every
-(resistor, capacitor) candidate pair of two value roles, the pairs whose worst case can lie in the band
-(found by bisection where the worst case grows with one role's value), and the count of candidates a
-design rule removed (by reason, for the optimiser's infeasibility explanations).
+or capacitor (tolerance plus tempco over the brief's ambient, `devices.capacitor.band_frac`, plus an
+electrolytic's capacitance change over the brief's service life, `devices.life`), the board-surface
+leakage a brief may state at the timing node, every (resistor, capacitor) candidate pair of two value
+roles, the pairs whose worst case can lie in the band (found by bisection where the worst case grows with
+one role's value), and the count of candidates a design rule removed (by reason, for the optimiser's
+infeasibility explanations).
 """
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Callable
+from typing import TYPE_CHECKING, Callable, Mapping
 
 import numpy as np
 import pandas as pd
@@ -14,9 +16,11 @@ import pandas as pd
 from tradeoff.analysis import Uncertain
 from tradeoff.candidates import leading_below, role_candidates, window_rows
 from tradeoff.devices.capacitor import band_frac
+from tradeoff.devices.life import electrolytic_ageing, surface_conductance_s
 from tradeoff.units import format_quantity as fq
 
-__all__ = ["component_band", "hold_pairs", "role_tables", "pair_rows", "window_pairs", "Dropped"]
+__all__ = ["BOARD_LEAK", "board_leak", "board_conductance_s", "life_change_frac", "outlived", "component_band",
+           "hold_pairs", "role_tables", "pair_rows", "window_pairs", "Dropped"]
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -24,17 +28,56 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Role
 
 
+def life_change_frac(part: "Part", brief: "Brief") -> float:
+    """Capacitance change bound of class `part` over the brief's service life at its hottest ambient
+    [fraction]; 0 without a stated life or an endurance rating (`devices.life.electrolytic_ageing`).
+    Folded into the band on both sides, like the tempco (conservative)."""
+    return electrolytic_ageing(part, brief.environment.life_years, brief.ambient.max_c).capacitance_change_frac
+
+
+BOARD_LEAK = "board_leak"
+"""Quantity name of the board-surface leakage: its conductance as a fraction of the brief's figure (0: none,
+1: the brief's surface insulation resistance)."""
+
+
+def board_leak(brief: "Brief") -> dict[str, Uncertain]:
+    """The board-surface leakage quantity of a brief that states one (none otherwise): anywhere from no
+    leakage to the brief's surface insulation resistance across the node, uniform in conductance (a stated
+    assumption; the worst case takes both ends)."""
+    env = brief.environment
+    if env.surface_ohm is None:
+        return {}
+    return {BOARD_LEAK: Uncertain(0.5, 0.0, 1.0, note=f"board-surface leakage from the timing node to ground: "
+                                  f"none to {fq(env.surface_ohm, 'ohm')} ({env.surface_basis}; "
+                                  "uniform in conductance)")}
+
+
+def board_conductance_s(brief: "Brief", x: Mapping[str, np.ndarray]):
+    """Conductance of the board-surface path at the samples `x` [S] (0 when the brief states none)."""
+    return surface_conductance_s(x[BOARD_LEAK], brief.environment.surface_ohm) if BOARD_LEAK in x else 0.0
+
+
+def outlived(part: "Part", brief: "Brief") -> bool:
+    """True when the brief's service life at its hottest ambient exceeds the endurance rating of class `part`
+    (`devices.life`; the design rules report it as a violation, the candidate tables leave the class out)."""
+    return electrolytic_ageing(part, brief.environment.life_years, brief.ambient.max_c).used_frac > 1
+
+
 def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Uncertain:
     """Value spread of a resistor or capacitor [ohm or F]: tolerance plus tempco over the brief's ambient
-    range (`devices.capacitor.band_frac`), uniform."""
+    range (`devices.capacitor.band_frac`) plus the change over the service life (`life_change_frac`), uniform."""
+    life = life_change_frac(part, brief)
     spread = band_frac(part.value("tolerance", ""), part.value("tempco", "1/K"), brief.ambient.min_c,
-                       brief.ambient.max_c)
+                       brief.ambient.max_c) + life
     if not spread < 1:  # the value could reach zero: a part no model can use
-        raise part.param_error("tolerance", f"tolerance plus tempco over the ambient range make a band of "
+        raise part.param_error("tolerance", f"tolerance plus tempco over the ambient range (and any change over the "
+                                           f"service life) make a band of "
                                            f"±{spread * 100:.0f} %, so the value could reach zero; accepted: a band "
                                            "below 100 %")
+    aged = (f" ± {life * 100:.3g} % change over {brief.environment.life_years:g} years of service "
+            f"({part.source('endurance_drift')})") if life else ""
     return Uncertain(value, value * (1 - spread), value * (1 + spread), unit=note.split(":")[0],
-                     note=f"{note}: {part.id} tolerance ± tempco over the ambient range (uniform)")
+                     note=f"{note}: {part.id} tolerance ± tempco over the ambient range{aged} (uniform)")
 
 
 def hold_pairs(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalog",
@@ -49,12 +92,17 @@ def role_tables(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalo
                 r_classes: list["Part"] | None = None, c_classes: list["Part"] | None = None
                 ) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Resistor and capacitor candidate tables of two value roles with their band fractions (`spread`, as in
-    `component_band`); candidates whose band reaches 100 % (the value could reach zero) left out."""
+    `component_band`); candidates whose band reaches 100 % (the value could reach zero) or whose class the
+    brief's service life outlives (`outlived`) left out."""
     amb = brief.ambient
     tables = []
     for role, classes in ((r_role, r_classes), (c_role, c_classes)):
         table = role_candidates(role, brief, catalog, classes)
-        table = table.assign(spread=band_frac(table["tolerance"], table["tempco"], amb.min_c, amb.max_c)
+        gone = {p for p in table["part"].unique() if outlived(catalog.part(p), brief)} if len(table) else set()
+        table = table[~table["part"].isin(gone)].reset_index(drop=True) if gone else table
+        life = table["part"].map({p: life_change_frac(catalog.part(p), brief) for p in table["part"].unique()}) \
+            if len(table) else 0.0
+        table = table.assign(spread=(band_frac(table["tolerance"], table["tempco"], amb.min_c, amb.max_c) + life)
                              .to_numpy(float) if len(table) else np.zeros(0))
         tables.append(table[table["spread"] < 1].reset_index(drop=True))
     return tables[0], tables[1]

@@ -435,7 +435,8 @@ class Topology(ABC):
             topology=self.id, design=design, nominal_s=self.nominal_delay(design),
             worst=self.worst_case(design), mc=self.monte_carlo(design, samples, seed),
             standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
-            findings=self.checks(design) + self.value_range_findings(design), band=(self.brief.delay.min_s, self.brief.delay.max_s),
+            findings=self.checks(design) + self.value_range_findings(design) + self.life_findings(design),
+            band=(self.brief.delay.min_s, self.brief.delay.max_s),
             coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
             margin_required_frac=self.brief.analysis.margin,
@@ -465,6 +466,35 @@ class Topology(ABC):
                                    f"class's range {format_quantity(lo, unit)} to {format_quantity(hi, unit)} "
                                    f"({part.source('max_value')}); accepted: a value within it, or a class "
                                    "that makes it"))
+        return out
+
+    def life_findings(self, design: Design) -> list[Finding]:
+        """With a service life in the brief, each capacitor class on the parts list that has an endurance
+        rating, against it at the hottest ambient (`devices.life`): information while the rating covers the
+        life, a violation when it does not."""
+        from tradeoff.devices.life import HOURS_PER_YEAR, LIFE_DOUBLING_K, electrolytic_ageing, rated_life_h
+
+        years, hot = self.brief.environment.life_years, self.brief.ambient.max_c
+        if years is None:
+            return []
+        out = []
+        for part_id in dict.fromkeys(line.part for line in self.bom(design)):
+            part = self.catalog.part(part_id) if part_id in self.catalog else None
+            if part is None or not part.has("endurance"):
+                continue
+            endurance_h, t_max = part.value("endurance", "s") / 3600.0, part.value("temp_max", "degC")
+            lasts = rated_life_h(endurance_h, t_max, hot) / HOURS_PER_YEAR
+            ageing = electrolytic_ageing(part, years, hot)
+            text = (f"{part.id}: rated {endurance_h:.0f} h at {t_max:g} °C ({part.source('endurance')}), about "
+                    f"{lasts:.3g} years at {hot:g} °C (life doubles every {LIFE_DOUBLING_K:g} K cooler, common "
+                    f"practice)")
+            if ageing.used_frac > 1:
+                out.append(Finding("violation", "service-life", f"{text}: shorter than the {years:g}-year service "
+                                   "life; accepted: a class rated for longer or hotter, or a shorter life"))
+            else:
+                out.append(Finding("info", "service-life", f"{text}: the {years:g}-year service life uses "
+                                   f"{ageing.used_frac * 100:.3g} % of it, so its value band widens by ±"
+                                   f"{ageing.capacitance_change_frac * 100:.3g} % (leakage stays within its limit)"))
         return out
 
     def _shortfalls(self, ev: Evaluation) -> list[str]:

@@ -24,7 +24,8 @@ __all__ = ["DIRECTION", "comparator_selection", "pair_delays"]
 
 # Sign of each quantity's effect on the delay: +1 lengthens it when the quantity rises, -1 shortens it.
 DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "bias_frac": -1, "ref_bias_frac": 1,
-             "v_ref": -1, "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1}
+             "v_ref": -1, "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1,
+             bands.BOARD_LEAK: -1}
 """Sign of each quantity's effect on the delay; the ambient has none (both ends are tried, see rc_comparator)."""
 
 

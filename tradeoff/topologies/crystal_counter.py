@@ -16,6 +16,7 @@ import pandas as pd
 
 from tradeoff import eseries
 from tradeoff.analysis import Uncertain
+from tradeoff.devices.life import crystal_ageing
 from tradeoff.devices.oscillator import crystal_period_s
 from tradeoff.topologies.base import BomLine, Design, Finding, Role
 from tradeoff.topologies.counter_switch import CounterPlan
@@ -67,13 +68,12 @@ class CrystalCounter(CounterTimer):
     def _osc_uncertain(self, design: Design) -> dict[str, Uncertain]:
         return self._crystal_quantities(self._crystal(design))
 
-    @staticmethod
-    def _crystal_quantities(crystal: "Part") -> dict[str, Uncertain]:
-        tol, aging = crystal.value("frequency_tolerance", ""), crystal.value("aging", "")
+    def _crystal_quantities(self, crystal: "Part") -> dict[str, Uncertain]:
+        tol = crystal.value("frequency_tolerance", "")
         t0, spread = crystal.value("turnover", "degC"), crystal.value("turnover_spread", "K")
         return {
             "crystal_tolerance": Uncertain(0.0, -tol, tol, note=f"{crystal.id}: ({crystal.source('frequency_tolerance')})"),
-            "crystal_aging": Uncertain(0.0, -aging, aging, note=f"{crystal.id}: first year ({crystal.source('aging')})"),
+            "crystal_aging": crystal_ageing(crystal, self.brief.environment.life_years),
             "crystal_turnover_c": Uncertain(t0, t0 - spread, t0 + spread, unit="degC",
                                             note=f"{crystal.id}: turnover ({crystal.source('turnover_spread')})"),
         }

@@ -21,7 +21,7 @@ from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_spread
 from tradeoff.devices.quadrature import evaluate_in_chunks
 from tradeoff.analysis import Uncertain
-from tradeoff.topologies.bands import component_band
+from tradeoff.topologies.bands import board_conductance_s, board_leak, component_band
 from tradeoff.topologies.base import BomLine, Finding, Topology
 from tradeoff.topologies.hold_relay import RelayLoad
 from tradeoff.topologies.hold_rules import hold_checks
@@ -195,6 +195,7 @@ class RcHoldTopology(RelayLoad, Topology):
             "c_hold": component_band(design.values["c_hold"], self.value_part(design, "c_hold", "cap-electrolytic-85c"),
                                      self.brief, "F: hold capacitor"),
             LEAK_LEVEL: self.leakage(design).uncertain(),
+            **board_leak(self.brief),
         }
         q["release_frac"] = self.release_uncertain()
         tol, _ = self.coil_tolerance()
@@ -225,7 +226,8 @@ class RcHoldTopology(RelayLoad, Topology):
         coil = np.asarray(x["coil_ohm"], dtype=float)
         return HoldState(np.asarray(x["r_hold"], dtype=float), np.asarray(x["c_hold"], dtype=float), temp,
                          np.asarray(x["supply_v"], dtype=float), self.release_current_a(x["release_frac"], coil),
-                         self.coil_ohm_at(coil, temp), leak, a_typ, a_lim, shunt_ohm(design), x, self.driver(design))
+                         self.coil_ohm_at(coil, temp), leak, a_typ, a_lim, shunt_ohm(design), x, self.driver(design),
+                         surface_s=board_conductance_s(self.brief, x))
 
     def delay(self, design: "Design", x: Mapping[str, np.ndarray]) -> np.ndarray:
         """Delay [s]: (power-on pulse +) hold time from the start voltage to the relay's release.

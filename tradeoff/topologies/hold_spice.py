@@ -1,6 +1,6 @@
 """ngspice netlist of a transistor RC hold at one point: the hold capacitor (charged, or the power-on
 PNP start with its network), the driver's elements (`RcHoldTopology.driver_spice`), the capacitor
-leakage as a behavioural source, the shunt, the coil as R + L with its flyback diode, and a
+leakage as a behavioural source, the shunt and any board-surface leakage, the coil as R + L with its flyback diode, and a
 `.measure` of the time the coil current falls through the release current. A function of the hold
 topology `topo` (an RcHoldTopology).
 """
@@ -59,6 +59,8 @@ def hold_netlist(topo: "Topology", design: "Design", point: Mapping[str, float] 
         lines.append(f"B1 hold 0 I={'+'.join(leak_terms)}")
     if s.shunt_ohm is not None:
         lines.append(f"RSH hold 0 {s.shunt_ohm:.9g}")
+    if np.any(s.surface_s):
+        lines.append(f"RSURFACE hold 0 {1.0 / float(np.asarray(s.surface_s).reshape(-1)[0]):.9g}")
     lines += ["Vsense vcc top dc 0", f"RCOIL top mid {float(s.coil_ohm[0]):.9g}",
               f"LCOIL mid col {topo.entry.value('coil_inductance', 'H'):.6g}", "D1 col top DFLY",
               f".model DFLY D(IS={diode.value('is_sat', 'A'):.6g} N={diode.value('ideality', ''):.6g})", *models]

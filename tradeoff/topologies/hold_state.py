@@ -1,7 +1,7 @@
 """The state of a batch of RC-hold evaluations and the hold's option readers: the external shunt across
 the hold capacitor (design option `shunt` [ohm], e.g. a 10 MΩ meter), a design option with its default,
-the `HoldState` of samples or candidates × corners (capacitor leakage plus shunt current), and the
-hold waveform with the output current and the release point.
+the `HoldState` of samples or candidates × corners (capacitor leakage plus shunt and board-surface
+current), and the hold waveform with the output current and the release point.
 """
 from __future__ import annotations
 
@@ -55,7 +55,8 @@ class HoldState:
     the unit's relay release current [A] (release_frac·Vc/R_coil at 25 degC); coil_ohm: coil resistance at temp_c [ohm]; leak with (a_typ, a_lim):
     capacitor leakage law; shunt_ohm: external shunt or None; x: every sample quantity by name
     (driver-specific ones included); driver: the driver part class; memo: per-sample arrays a driver
-    derives once per state (junction or gate parameters at the samples' temperature).
+    derives once per state (junction or gate parameters at the samples' temperature); surface_s: the
+    board-surface conductance across the capacitor [S] (0, or an array like r_ohm).
     """
 
     r_ohm: np.ndarray
@@ -71,9 +72,10 @@ class HoldState:
     x: Mapping[str, np.ndarray]
     driver: "Part"
     memo: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
+    surface_s: Any = 0.0
 
     def leakage_a(self, v, scratch: bool = False) -> np.ndarray:
-        """Capacitor leakage plus shunt current at capacitor voltage v [V] [A].
+        """Capacitor leakage plus shunt and board-surface current at capacitor voltage v [V] [A].
 
         v may carry one trailing axis more than the state's arrays (quadrature nodes). scratch: v is
         the caller's temporary array, which may be clipped at 0 V in place (saves one array).
@@ -86,6 +88,9 @@ class HoldState:
         out = self.leak.current_a(v, a_typ, a_lim, scratch)
         if shunt is not None:
             out += shunt
+        if np.any(self.surface_s):
+            surface = np.asarray(self.surface_s, dtype=float)
+            out += v * (surface[..., None] if v.ndim > surface.ndim else surface)
         return out
 
     def trail(self, name: str) -> np.ndarray:

@@ -14,7 +14,7 @@ import pandas as pd
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.start import power_on_release_s
 from tradeoff.candidates import rated_voltage, role_candidates
-from tradeoff.topologies import logic
+from tradeoff.topologies import bands, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role
 from tradeoff.units import format_quantity as fq
 
@@ -53,12 +53,15 @@ def role_part(topo: "Topology", design: Design, role: Role) -> "Part":
     return topo.design_part(design, part.id)
 
 
-def value_spread(name: str, value: float, part: "Part", unit: str) -> dict[str, Uncertain]:
-    """A timing resistor or capacitor: its value at 25 degC within the class tolerance, and its
-    temperature coefficient anywhere within the class bound (uniform)."""
+def value_spread(name: str, value: float, part: "Part", unit: str, life_frac: float = 0.0) -> dict[str, Uncertain]:
+    """A timing resistor or capacitor: its value at 25 degC within the class tolerance (widened by
+    `life_frac`, its change over the service life, `bands.life_change_frac`), and its temperature
+    coefficient anywhere within the class bound (uniform)."""
     tol, tc = part.value("tolerance", ""), part.value("tempco", "1/K")
+    aged = f" ± {100 * life_frac:.3g} % over the service life ({part.source('endurance_drift')})" if life_frac else ""
     return {
-        name: Uncertain.band(value, tol, unit=unit, note=f"{part.id}: ±{100 * tol:g} % tolerance ({part.source('tolerance')})"),
+        name: Uncertain.band(value, tol + life_frac, unit=unit,
+                             note=f"{part.id}: ±{100 * tol:g} % tolerance ({part.source('tolerance')}){aged}"),
         f"{name}_tempco": Uncertain(0.0, -tc, tc, unit="1/K",
                                     note=f"{part.id}: tempco within ±{tc * 1e6:g} ppm/K ({part.source('tempco')})"),
     }
@@ -83,7 +86,8 @@ def class_two_ceramic(part: "Part") -> bool:
 
 
 def timing_candidates(topo: "Topology", role: Role, dropped: dict[str, int]) -> pd.DataFrame:
-    """Candidate table of a timing role with class 2 ceramics removed (counted in `dropped`)."""
+    """Candidate table of a timing role with class 2 ceramics and classes the brief's service life outlives
+    (`bands.outlived`) removed (counted in `dropped`)."""
     table = role_candidates(role, topo.brief, topo.catalog)
     if role.kind == "capacitor":
         banned = {p.id for p in topo.catalog.parts("capacitor") if class_two_ceramic(p)}
@@ -91,6 +95,14 @@ def timing_candidates(topo: "Topology", role: Role, dropped: dict[str, int]) -> 
         if out.any():
             key = (f"{role.description}: class 2 ceramic ({', '.join(sorted(banned))}) excluded, its capacitance "
                    "moves by tens of % with DC bias (common practice: C0G or film for timing)")
+            dropped[key] = dropped.get(key, 0) + int(out.sum())
+            table = table[~out].reset_index(drop=True)
+    for part_id in table["part"].unique() if len(table) else ():
+        part = topo.catalog.part(part_id)
+        if role.kind == "capacitor" and bands.outlived(part, topo.brief):
+            out = table["part"] == part_id
+            key = (f"{role.description}: {part_id} is rated for less than the {topo.brief.environment.life_years:g}-"
+                   f"year service life at {topo.brief.ambient.max_c:g} °C ({part.source('endurance')})")
             dropped[key] = dropped.get(key, 0) + int(out.sum())
             table = table[~out].reset_index(drop=True)
     return table

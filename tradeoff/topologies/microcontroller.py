@@ -39,6 +39,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain, worst_case
+from tradeoff.devices.life import crystal_ageing
 from tradeoff.devices.oscillator import crystal_frequency, rc_band
 from tradeoff.errors import DesignKeyError
 from tradeoff.selection import Block, SelectionModel
@@ -122,12 +123,12 @@ class Microcontroller(Topology):
         if option in self.oscillator_options():
             xtal = self.design_part(design, option, "oscillator")
             f0, tol = xtal.value("frequency", "Hz"), xtal.value("frequency_tolerance", "")
-            aging, k = xtal.value("aging", ""), xtal.value("parabolic_coefficient", "1/K^2")
+            k = xtal.value("parabolic_coefficient", "1/K^2")
             t0, spread = xtal.value("turnover", "degC"), xtal.value("turnover_spread", "K")
             q = {
                 "crystal_tolerance": Uncertain(0.0, -tol, tol, note=f"{xtal.id}: initial frequency tolerance at "
                                                "25 degC (uniform)"),
-                "crystal_aging": Uncertain(0.0, -aging, aging, note=f"{xtal.id}: first-year aging (uniform)"),
+                "crystal_aging": crystal_ageing(xtal, self.brief.environment.life_years),
                 "crystal_turnover_c": Uncertain(t0, t0 - spread, t0 + spread, unit="degC", critical=(t0,),
                                                 note=f"{xtal.id}: turnover temperature of the parabola (uniform)"),
             }

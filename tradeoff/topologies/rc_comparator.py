@@ -1,11 +1,11 @@
 """RC hold with a micropower comparator and voltage reference.
 
-Circuit: the start charges the hold capacitor c_hold to the logic rail V0; it then discharges
-through r_hold (and its own leakage, the comparator's input bias current and an optional
-shunt). The capacitor drives the comparator's + input; the - input sits on a fixed threshold
-divider (R_TOP from the reference, R_BOTTOM to ground) with a hysteresis resistor R_HYST from
-the output MOSFET's drain, an inverted copy of the comparator output. While timing, the output
-is high, the MOSFET conducts and its drain is near 0 V: the threshold is
+Circuit: the start charges the hold capacitor c_hold to the logic rail V0; it then discharges through
+r_hold (and its own leakage, the comparator's input bias current, an optional shunt and any board-surface
+leakage the brief states). The capacitor drives the comparator's + input; the - input sits on a fixed
+threshold divider (R_TOP from the reference, R_BOTTOM to ground) with a hysteresis resistor R_HYST from
+the output MOSFET's drain, an inverted copy of the comparator output. While timing, the output is high,
+the MOSFET conducts and its drain is near 0 V: the threshold is
     V_th = (V_ref/R_TOP + V_drain/R_HYST) / (1/R_TOP + 1/R_BOTTOM + 1/R_HYST)
 When the capacitor falls to V_th + offset the output goes low, the drain rises to the supply
 and lifts the threshold by about V_s·(R_TOP ∥ R_BOTTOM)/R_HYST: snap action, and the capacitor
@@ -13,12 +13,11 @@ must be recharged above the raised threshold to start again.
 
 The divider is fixed (not a value role): the threshold is set once by the reference and the
 ratio, and the optimiser picks r_hold and c_hold, which set the delay
-    t = C ∫ dV / i(V) from V_th to V0,  i(V) = V/r_hold + leakage(V) + I_bias (+ shunt)
+    t = C ∫ dV / i(V) from V_th to V0,  i(V) = V/r_hold + leakage(V) + I_bias (+ shunt, + board surface)
 (tradeoff.devices.quadrature.discharge_integral_s, in u = ln V). With no leakage and no bias this is
-t = r_hold·c_hold·ln(V0/V_th). Both comparator inputs carry a bias current of either sign up to the
-class's limit at the sample's ambient (tradeoff.devices.comparator.input_bias_limit_a): the + input's
-drains or feeds the capacitor, the reference input's shifts the threshold node by I·(R_top ∥ R_bottom ∥
-R_hyst).
+t = r_hold·c_hold·ln(V0/V_th). Both comparator inputs carry a bias current of either sign up to the class's
+limit at the sample's ambient (tradeoff.devices.comparator.input_bias_limit_a): the + input's drains or feeds
+the capacitor, the reference input's shifts the threshold node by I·(R_top ∥ R_bottom ∥ R_hyst).
 
 The delay is monotone in every spread quantity but the ambient (each lengthens or shortens it): a
 bias current into the capacitor lengthens the delay more at a hot ambient, while leakage and a bias
@@ -130,6 +129,7 @@ class RcComparator(Topology):
                                        "of its limit at the ambient, either sign (uniform)"),
             "drain_v": Uncertain(0.0, 0.0, self._drain_max_v(rail), unit="V",
                                  note="output MOSFET drain while on: 0 to its weakest-corner drop (uniform)"),
+            **bands.board_leak(self.brief),
         }
 
     @staticmethod
@@ -158,17 +158,18 @@ class RcComparator(Topology):
         return node - shift + x["offset_v"]
 
     def _with_bias(self, design: Design, x: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
-        """`x` with the bias currents of both inputs in amperes (`bias_a`, `ref_bias_a`) at each sample's ambient."""
+        """`x` with both inputs' bias currents [A] (`bias_a`, `ref_bias_a`) and the board conductance [S] (`surface_s`)."""
         x = {k: np.asarray(v, dtype=float) for k, v in x.items()}
         limit = self._bias_limit_a(design, x["ambient_c"])
-        return {**x, "bias_a": x["bias_frac"] * limit, "ref_bias_a": x["ref_bias_frac"] * limit}
+        return {**x, "bias_a": x["bias_frac"] * limit, "ref_bias_a": x["ref_bias_frac"] * limit,
+                "surface_s": np.zeros_like(x["ambient_c"]) + bands.board_conductance_s(self.brief, x)}
 
     @staticmethod
     def _current_terms(leak: capacitor.CapacitorLeakage, x: Mapping[str, np.ndarray], shunt: float | None):
-        """Discharge current I(V) = Σ c·V**n as (n, c) terms: leakage power laws, the hold resistor's and
-        shunt's conductance (n = 1) and the comparator's bias current (n = 0) [A/V^n]."""
+        """Discharge current I(V) = Σ c·V**n as (n, c) terms: leakage power laws, the hold resistor's, the
+        shunt's and the board surface's conductance (n = 1) and the comparator's bias current (n = 0) [A/V^n]."""
         a_typ, a_lim = leak.coefficients(x["ambient_c"], x[capacitor.LEAK_LEVEL])
-        conductance = 1.0 / x["r_hold"] + (0.0 if shunt is None else 1.0 / shunt)
+        conductance = 1.0 / x["r_hold"] + (0.0 if shunt is None else 1.0 / shunt) + x["surface_s"]
         return [(leak.n_typ, a_typ), (leak.n_lim, a_lim), (1, conductance), (0, x["bias_a"])]
 
     def discharge_current_a(self, design: Design, v, x: Mapping[str, np.ndarray]) -> np.ndarray:
@@ -322,8 +323,8 @@ class RcComparator(Topology):
             "Dfly drain sup dfly",
             ".model dfly d(is=4n n=1.9)",
         ]
-        if shunt is not None:
-            lines.append(f"Rshunt cap 0 {shunt:.6g}")
+        lines += [f"Rshunt cap 0 {shunt:.6g}"] if shunt is not None else []
+        lines += [f"Rsurface cap 0 {1.0 / x['surface_s']:.6g}"] if x["surface_s"] > 0 else []
         lines += [f".tran {stop / 4000:.6g} {stop:.6g} uic",
                   f".measure tran delay when v(out)={rail / 2:.6g} fall=1", ".end", ""]
         return "\n".join(lines)

@@ -47,7 +47,7 @@ class RcDarlington(RcHoldTopology):
     driver_option = "darlington"
     driver_default = "darlington-npn-small"
     option_parts = {**RcHoldTopology.option_parts, "darlington": "darlington"}
-    directions = {"r_hold": 0, "c_hold": 1, "hfe": 1, "vbe_on": -1, "leak_level": -1, "release_frac": -1,
+    directions = {"r_hold": 0, "c_hold": 1, "hfe": 1, "vbe_on": -1, "leak_level": -1, "board_leak": -1, "release_frac": -1,
                   "coil_ohm": 1, "supply_v": 1, "ambient_c": 0}
 
     def driver_uncertain(self, driver: "Part") -> dict[str, Uncertain]:

@@ -42,7 +42,7 @@ class RcMosfet(RcHoldTopology):
     driver_option = "mosfet"
     driver_default = "mosfet-n-logic-small"
     option_parts = {**RcHoldTopology.option_parts, "mosfet": "mosfet"}
-    directions = {"r_hold": 1, "c_hold": 1, "vth": -1, "k": 1, "gate_leak": -1, "leak_level": -1,
+    directions = {"r_hold": 1, "c_hold": 1, "vth": -1, "k": 1, "gate_leak": -1, "leak_level": -1, "board_leak": -1,
                   "release_frac": -1, "coil_ohm": 1, "supply_v": 1, "ambient_c": 0}
 
     def driver_uncertain(self, driver: "Part") -> dict[str, Uncertain]:

@@ -20,8 +20,9 @@ Model (per sample, vectorised): the emitter-coupled Schmitt trigger of `tradeoff
   the falling one the next fold (`falling_trip_v`): resistor ratios set about 0.35 of the supply, shifted
   by the difference of two junction drops whose temperature coefficients largely cancel;
 - charge time t = C ∫ dV / i(V) from 0 V to the trip, i(V) = (V_s - V)/r_hold - leakage(V) - V/R_shunt -
-  IB1(V) (`charge_time_s`); IB1 with the emitter node held at its value at the trip; no timeout where
-  i(V_trip) <= 0, so a leaky capacitor holds the load on longer, or for ever.
+  V·G_surface (a board-surface leakage the brief states) - IB1(V) (`charge_time_s`); IB1 with the emitter node
+  held at its value at the trip; no timeout where i(V_trip) <= 0, so a leaky capacitor holds the load on
+  longer, or for ever.
 Capacitor leakage, junction temperature laws and quadrature come from `tradeoff.devices`.
 """
 from __future__ import annotations
@@ -102,7 +103,7 @@ class RcSchmitt(Topology):
                                            self.brief, "ohm: charge resistor"),
              "c_hold": bands.component_band(self.design_value(design, "c_hold"), self.part(design, "c_hold_part"),
                                            self.brief, "F: timing capacitor"),
-             LEAK_LEVEL: self._leakage(design).uncertain()}
+             LEAK_LEVEL: self._leakage(design).uncertain(), **bands.board_leak(self.brief)}
         for k in ("q1", "q2"):
             q[f"hfe_{k}"] = Uncertain(*(frac * npn.value(f"hfe_{s}", "") for s in ("typ", "min", "max")),
                                       dist="lognormal", note=f"{k.upper()} {npn.id}: hFE at 25 degC scaled by {frac:g} "
@@ -130,16 +131,19 @@ class RcSchmitt(Topology):
         return {**rising_trip(*args), "hfe1": args[5], "is1": args[7], "nvt": args[9]}
 
     def _extra(self, x, tr, leak: CapacitorLeakage, shunt: float | None):
-        """extra_a(V) of `charge_time_s` (trailing node axis): leakage, shunt and Q1's base current [A]."""
+        """extra_a(V) of `charge_time_s` (trailing node axis): leakage, shunt, board surface and Q1's base
+        current [A]."""
         a_typ, a_lim = leak.coefficients(x["ambient_c"], x[LEAK_LEVEL])
         p = {k: np.asarray(v, dtype=float)[..., None] for k, v in
-             {"a_typ": a_typ, "a_lim": a_lim, **{k: tr[k] for k in ("ie1_a", "ve_v", "hfe1", "is1", "nvt")}}.items()}
+             {"a_typ": a_typ, "a_lim": a_lim, "g": (0.0 if shunt is None else 1.0 / shunt)
+              + bands.board_conductance_s(self.brief, x),
+              **{k: tr[k] for k in ("ie1_a", "ve_v", "hfe1", "is1", "nvt")}}.items()}
 
         def extra(v):
             rise = np.exp(np.minimum((v - p["ve_v"]) / p["nvt"], 50.0))
             ie1 = np.minimum(p["is1"] * (p["hfe1"] + 1) / p["hfe1"] * rise, p["ie1_a"])
             out = leak.current_a(v, p["a_typ"], p["a_lim"]) + ie1 / (p["hfe1"] + 1)
-            return out if shunt is None else out + v / shunt
+            return out + v * p["g"] if np.any(p["g"]) else out
         return extra
 
     def delay(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
@@ -332,6 +336,8 @@ class RcSchmitt(Topology):
         lines += [f"BLEAK in 0 I={'+'.join(terms)}"] if terms else []
         shunt = hold_state.shunt_ohm(design)
         lines += [f"RSH in 0 {shunt:.9g}"] if shunt is not None else []
+        surface = float(np.ravel(bands.board_conductance_s(self.brief, xa))[0]) if bands.BOARD_LEAK in xa else 0.0
+        lines += [f"RSURFACE in 0 {1.0 / surface:.9g}"] if surface > 0 else []
         if self.brief.load.kind == "relay":
             lines += [f"RCOIL out mid {self.brief.load.coil_resistance_ohm:.9g}",
                       f"LCOIL mid 0 {self.entry.value('coil_inductance', 'H'):.6g}", "D1 0 out DFLY",

@@ -27,7 +27,7 @@ __all__ = ["DIRECTION", "SCHMITT_CHUNK", "schmitt_selection", "table_delays"]
 
 DIRECTION = {"r_hold": 1, "c_hold": 1, LEAK_LEVEL: 1, "hfe_q1": -1, "hfe_q2": 1, "vbe_q1": 1, "vbe_q2": -1,
              "r_q1_collector": -1, "r_divider_top": -1, "r_divider_bottom": 1, "r_emitter": 0, "ambient_c": 0,
-             "supply_v": 0}
+             "supply_v": 0, bands.BOARD_LEAK: 1}
 """Sign of d(delay)/d(quantity) used by the optimiser table (0: both ends tried); tests check it."""
 
 SCHMITT_CHUNK = 1 << 13

@@ -15,7 +15,9 @@ worst case and the class's typical fraction for nominal; for film and ceramic, t
 insulation resistance. The discharge pin's off-state leakage is the class's 25 degC figure (typical
 for nominal, datasheet limit for the worst case) doubled every 10 K above 25 degC (junction reverse
 leakage, common practice) and held at it below. The datasheet class adds its initial error, temperature drift and
-supply drift as factors on t; R and C carry their tolerance and temperature coefficient.
+supply drift as factors on t; R and C carry their tolerance and temperature coefficient. A board-surface
+leakage G the brief states (`environment.board`) drains the capacitor node to ground: t is the same
+law with R/(1 + R·G) for R and Ix + Vcc·G for Ix (`devices.comparator.shunted_charge`, exact).
 
 The quiescent current continues after the timeout, as does the current through R into the
 discharge pin (Vcc/R), which holds the capacitor empty. A bipolar class drives a small relay
@@ -31,11 +33,13 @@ import numpy as np
 
 from tradeoff.devices import capacitor
 from tradeoff.devices.supply_current import on_supply
-from tradeoff.devices.comparator import THRESHOLD_FRAC, TRIGGER_FRAC, discharge_leakage_a, monostable_width_s
+from tradeoff.devices.comparator import (
+    THRESHOLD_FRAC, TRIGGER_FRAC, discharge_leakage_a, monostable_width_s, shunted_charge,
+)
 from tradeoff.analysis import Uncertain
 from tradeoff.candidates import rated_voltage
 from tradeoff.selection import SelectionModel
-from tradeoff.topologies import logic
+from tradeoff.topologies import bands, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import (
     TEMPCO_REFERENCE_C, at_temperature, diode, fixed_part, role_bom, role_part, start_bom, start_checks,
@@ -71,10 +75,13 @@ _ROLES = (
 )
 
 
-def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, title: str) -> str:
-    """Behavioural SPICE monostable: R charges C from Vcc, a constant current Ix drains it, a
-    comparator at 2/3 Vcc ends the output pulse; `.measure` prints `delay` [s]."""
-    t_est = float(monostable_width_s(r_ohm, c_f, ix_a, vcc_v))
+def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, title: str,
+                       shunt_ohm: float | None = None) -> str:
+    """Behavioural SPICE monostable: R charges C from Vcc, a constant current Ix (and a board-surface
+    resistance `shunt_ohm` [ohm], if any) drains it, a comparator at 2/3 Vcc ends the output pulse;
+    `.measure` prints `delay` [s]."""
+    r_eq, ix_eq = shunted_charge(r_ohm, ix_a, vcc_v, 0.0 if shunt_ohm is None else 1.0 / shunt_ohm)
+    t_est = float(monostable_width_s(r_eq, c_f, ix_eq, vcc_v))
     t_stop = 1.5 * (t_est if np.isfinite(t_est) else 5 * r_ohm * c_f)
     return "\n".join([
         f"* {title}",
@@ -83,6 +90,7 @@ def monostable_netlist(r_ohm: float, c_f: float, ix_a: float, vcc_v: float, titl
         f"rt vcc cap {r_ohm:.6g}",
         f"ct cap 0 {c_f:.6g} ic=0",
         f"ix cap 0 dc {ix_a:.6g}",
+        *([f"rsurface cap 0 {shunt_ohm:.6g}"] if shunt_ohm is not None else []),
         f"bout out 0 v = {vcc_v:.6g} * (1 - u(v(cap) - {THRESHOLD_FRAC * vcc_v:.9g}))",
         "rout out 0 1meg",
         f".tran {t_stop / 4000:.6g} {t_stop:.6g} uic",
@@ -174,7 +182,9 @@ class Timer555(Topology):
                           leak_note: str) -> dict[str, Uncertain]:
         """Spread quantities of timer class `timer` with R [ohm] and C [F] of the given classes (values may be
         1.0 to give relative bands) and the capacitor's nominal leakage fraction."""
-        q = {**value_spread("r_timing", r_ohm, r_part, "ohm"), **value_spread("c_timing", c_f, c_part, "F")}
+        q = {**value_spread("r_timing", r_ohm, r_part, "ohm"),
+             **value_spread("c_timing", c_f, c_part, "F", bands.life_change_frac(c_part, self.brief)),
+             **bands.board_leak(self.brief)}
         q["c_timing_leakage"] = typical_to_limit(leak_frac, 1.0, "", leak_note + " (fraction of the limit)")
         q["threshold_a"] = typical_to_limit(timer.value("threshold_current_typ", "A"),
                                             timer.value("threshold_current_max", "A"), "A",
@@ -206,7 +216,8 @@ class Timer555(Topology):
         """Pulse width [s] of the samples `x` with the capacitor leakage limit `leak_limit(v, t)` [A]."""
         v, t = x["supply_v"], x["ambient_c"]
         ix = x["c_timing_leakage"] * leak_limit(v, t) + x["threshold_a"] + discharge_leakage_a(x["discharge_a"], t)
-        core = monostable_width_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), ix, v)
+        r, ix = shunted_charge(at_temperature(x, "r_timing"), ix, v, bands.board_conductance_s(self.brief, x))
+        core = monostable_width_s(r, at_temperature(x, "c_timing"), ix, v)
         drift = ((1.0 + x["timer_error"]) * (1.0 + x["timer_tempco"] * (t - TEMPCO_REFERENCE_C))
                  * (1.0 + x["timer_supply_coef"] * (v - self.brief.supply.nominal_v)))
         return core * drift
@@ -246,16 +257,20 @@ class Timer555(Topology):
         discharge = part.value("discharge_leakage_max", "A") if part.has("discharge_leakage_max") else 0.0
         ix = (float(limit(s.min_v, amb.max_c)) + part.value("threshold_current_max", "A")
               + float(discharge_leakage_a(discharge, amb.max_c)))
-        if ix * r >= TRIGGER_FRAC * s.min_v:
+        surface = self.brief.environment.surface_ohm
+        r_eq, ix_eq = (float(u) for u in shunted_charge(r, ix, s.min_v, 0.0 if surface is None else 1.0 / surface))
+        drop, headroom = ix_eq * r_eq, TRIGGER_FRAC * s.min_v
+        board = "" if surface is None else f", with the board surface ({fq(surface, 'ohm')}) across the capacitor,"
+        if drop >= headroom:
             out.append(Finding("violation", "leakage",
                                f"worst-case leakage plus threshold and discharge-pin current {fq(ix, 'A')} through "
-                               f"R {fq(r, 'ohm')} "
-                               f"drops {fq(ix * r, 'V')}, reaching Vcc/3 = {fq(TRIGGER_FRAC * s.min_v, 'V')} at "
+                               f"R {fq(r, 'ohm')}{board} "
+                               f"drops {fq(drop, 'V')}, reaching Vcc/3 = {fq(headroom, 'V')} at "
                                f"{fq(s.min_v, 'V')} and {amb.max_c:g} °C: the capacitor never reaches 2/3 Vcc"))
-        elif ix * r > 0.1 * TRIGGER_FRAC * s.min_v:
+        elif drop > 0.1 * headroom:
             out.append(Finding("warning", "leakage",
-                               f"worst-case leakage plus threshold current drops {fq(ix * r, 'V')} across R, "
-                               f"{100 * ix * r / (TRIGGER_FRAC * s.min_v):.0f} % of the Vcc/3 headroom: "
+                               f"worst-case leakage plus threshold current{board} drops {fq(drop, 'V')} across R, "
+                               f"{100 * drop / headroom:.0f} % of the Vcc/3 headroom: "
                                "the delay depends strongly on leakage"))
         out.append(Finding("info", "leakage-model", note))
         if rated_voltage(c_part, s.max_v) is None:
@@ -303,6 +318,7 @@ class Timer555(Topology):
         r = float(at_temperature(point, "r_timing")[0])
         c = float(at_temperature(point, "c_timing")[0])
         v, ix = float(x["supply_v"]), self._ix_at(design, x)
+        r, ix = (float(u) for u in shunted_charge(r, ix, v, bands.board_conductance_s(self.brief, point)))
         end = float(monostable_width_s(r, c, ix, v))
         span = 1.2 * end if np.isfinite(end) else 5 * r * c
         t = np.linspace(0.0, span, 400)
@@ -310,10 +326,12 @@ class Timer555(Topology):
         return Waveform(t, vc, "timing capacitor voltage", "V", THRESHOLD_FRAC * v, "threshold 2/3 Vcc")
 
     def spice(self, design: Design) -> str | None:
-        """Behavioural monostable at the nominal point (R, C, nominal leakage and threshold current)."""
+        """Behavioural monostable at the nominal point (R, C, nominal leakage, threshold current and any
+        board-surface leakage)."""
         x = self.nominal_point(design)
+        g = float(np.asarray(bands.board_conductance_s(self.brief, x)))
         return monostable_netlist(design.values["r_timing"], design.values["c_timing"], self._ix_at(design, x),
-                                  x["supply_v"], f"{self.id}: {self.brief.title}")
+                                  x["supply_v"], f"{self.id}: {self.brief.title}", 1.0 / g if g > 0 else None)
 
     def _ix_at(self, design: Design, x: Mapping[str, float]) -> float:
         """Current drawn from the timing capacitor at the point `x` [A]: leakage, threshold current and the

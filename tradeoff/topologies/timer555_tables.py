@@ -14,6 +14,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.candidates import chunks, leading_below, window_rows
 from tradeoff.errors import CatalogError
 from tradeoff.selection import Block, SelectionModel
+from tradeoff.topologies.bands import BOARD_LEAK
 from tradeoff.topologies.base import BomLine
 from tradeoff.topologies.corners import corner_values, extreme_corners
 from tradeoff.topologies.ic_common import TEMPCO_REFERENCE_C, drop_count, supply_problem, timing_candidates
@@ -25,7 +26,8 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = ["TimerClass", "timer_selection", "INCREASING", "WITH_TEMPERATURE", "WITH_SUPPLY"]
 
-INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "discharge_a", "timer_error")
+INCREASING = ("r_timing", "c_timing", "c_timing_leakage", "threshold_a", "discharge_a", "timer_error",
+              BOARD_LEAK)
 """Quantities that lengthen the pulse at every corner."""
 WITH_TEMPERATURE = ("r_timing_tempco", "c_timing_tempco", "timer_tempco")
 """Quantities that lengthen it with the sign of T − 25 degC."""
