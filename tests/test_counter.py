@@ -58,15 +58,21 @@ def _xtal_design(stage=12, cascade=1, crystal="crystal-32k-20ppm"):
                                               "cascade": cascade, "link_stage": 14})
 
 
-def test_class_constant_against_its_own_datasheet(rc, catalog):
-    # CD4060B datasheet (the one the class cites): f = 1/(2.2·Rt·Ct) at the typical threshold
+def test_class_constant_at_the_datasheet_conditions(rc, catalog):
+    # 4060-type datasheets: f = 1/(k·Rt·Ct) with Rs = 2·Rt, k = 2.2, 2.3 or 2.5 by maker; at those
+    # conditions (reference supply, no pin capacitance, typical threshold) the period is k·Rt·Ct exactly,
+    # and the worst case spans at least the makers' band
     part = catalog.part(COUNTER)
-    assert part.value("k", "") == 2.2 and "CD4060B" in part.param("k").source  # the raw catalog text names the datasheet
-    d = _rc_design(rt=47e3, ct=22e-9, stage=4)
-    period = rc.nominal_delay(d) / float(stage_factor(4))
-    assert period == pytest.approx(2.2 * 47e3 * 22e-9, rel=1e-12)
-    # the other maker's constant (k = 2.3, docs/references.md) would be 4.5 % off: the class keeps its own
-    assert abs(period / (2.3 * 47e3 * 22e-9) - 1) > 0.04
+    assert (part.value("k_min", ""), part.value("k", ""), part.value("k_max", "")) == (2.2, 2.3, 2.5)
+    d = _rc_design(rt=100e3, ct=22e-9, stage=4)
+    assert rc.rs_ohm(100e3) == 200e3
+    x = {n: np.array([v]) for n, v in rc.nominal_point(d).items()}
+    for k in (2.2, 2.3, 2.5):
+        x.update(k=np.array([k]), pin_cap_f=np.array([0.0]), rail_v=np.array([part.value("k_supply", "V")]),
+                 mos_vt_v=np.array([1.2]))
+        assert rc.period_s(d, x)[0] == pytest.approx(k * 100e3 * 22e-9, rel=1e-9)
+    wc = rc.worst_case(d)
+    assert wc.max_s / wc.min_s > 2.5 / 2.2 * (1.01 * 1.05) ** 2
 
 
 @pytest.mark.parametrize("vt", [0.3, 0.4, 0.5, 0.6, 0.7])
@@ -210,11 +216,15 @@ def test_crystal_dropped_reason_names_nearest_delays(catalog):
 
 def test_latch_current_and_series_resistor(rc):
     # after the timeout the output holds the oscillator input high through the diode: (V − Vf)/(Rs + Rt)
-    assert rc.rs_ohm(4.7e3) == RS_MIN_OHM and rc.rs_ohm(100e3) == 200e3   # Rs ≈ 2·Rt, at least 10 kohm
+    # Rs about 2·Rt and at least 10 kohm (4060-type datasheets), never below 2·Rt (common practice)
+    assert rc.rs_ohm(4.7e3) == RS_MIN_OHM and rc.rs_ohm(100e3) == 200e3
     a, b = rc.standby(_rc_design(rt=100e3)), rc.standby(_rc_design(rt=200e3))
     vf = rc.catalog.part("diode-small-signal").value("vf", "V")
-    assert rc.rs_ohm(200e3) == 390e3                                       # E24 value nearest 400 kohm
-    assert a.after_a - b.after_a == pytest.approx((12.0 - vf) / 300e3 - (12.0 - vf) / 590e3, rel=1e-9)
+    assert rc.rs_ohm(200e3) == 430e3                       # IEC 60063 E24: the smallest value at or above 400 kohm
+    assert rc.rs_ohm(56e3) == 120e3                        # 112 kohm: E24's nearest (110 kohm) lies below 2·Rt
+    assert a.after_a - b.after_a == pytest.approx((12.0 - vf) / 300e3 - (12.0 - vf) / 630e3, rel=1e-9)
+    finding = {f.code: f for f in rc.checks(_rc_design(rt=56e3))}["series-resistor"]
+    assert "120 kΩ" in finding.message and "2.14·Rt" in finding.message and "common practice" in finding.message
     bom = {line.refs: line for line in rc.bom(_rc_design())}
     assert "latch" in bom["D2"].note and bom["R2"].value == "200 kΩ" and bom["Q1"].part == "pnp-small"
 
@@ -355,7 +365,9 @@ def test_supply_above_rating_gets_a_logic_rail(catalog):
     # after the timeout; the output, high at the rail, cannot turn a high-side switch at 16 V off, so a PNP
     # at the rail drives a low-side N-MOSFET. At the 3.3 V rail the small class (K min 0.25 A/V^2, VGS(th) up
     # to 2.6 V at 5 degC) cannot carry the 40 mA coil, so the power class takes it (catalogs/semiconductors.yaml)
-    topo = build_topology("rc-counter", load_brief(EXAMPLES / "towel_rail_boost.yaml"), catalog)
+    # (the band widened to 1 to 3 h: at ±15 % the class's oscillator spread alone leaves no design)
+    brief = load_brief(EXAMPLES / "towel_rail_boost.yaml").replace({"delay.tolerance": "±50 %"})
+    topo = build_topology("rc-counter", brief, catalog)
     model = topo.selection()
     assert len(model.blocks[0].table) and len(model.blocks[1].table) and model.rails == 2
     ldo = catalog.part("ldo-micropower")

@@ -24,7 +24,7 @@ FIRST, LAST = 3, 8
 the start-up has settled (the period map contracts by about e^-2 a cycle)."""
 
 
-def _netlist(vdd, rt, rs, ct, cp, vtn, vtp, diodes=True):
+def _netlist(vdd, rt, rs, ct, cp, vtn, vtp, diodes=True, kp=KP):
     """Two CMOS inverters (level-1, channel-length modulation off: the square law), Rt from the first
     output to the junction x, Ct from the second output, Rs from x to the input pin with its clamp diodes
     and pin capacitance. The supply ramps up over tau/50 and a current pulse into x then pushes the
@@ -40,8 +40,8 @@ def _netlist(vdd, rt, rs, ct, cp, vtn, vtp, diodes=True):
         f"rt o1 x {rt:.6g}", f"ct o2 x {ct:.6g}", f"rs x in {rs:.6g}", f"cp in 0 {cp:.6g}",
         *(["dhi in vdd dclamp", "dlo 0 in dclamp"] if diodes else []),
         f"ikick 0 x pulse(0 {0.3 * vdd / rt:.6g} {ramp:.6g} {ramp / 10:.6g} {ramp / 10:.6g} {ramp:.6g})",
-        f".model nch nmos level=1 vto={vtn} kp={KP} lambda=0",
-        f".model pch pmos level=1 vto={-vtp} kp={KP} lambda=0",
+        f".model nch nmos level=1 vto={vtn} kp={kp} lambda=0",
+        f".model pch pmos level=1 vto={-vtp} kp={kp} lambda=0",
         f".model dclamp d is={DIODE_IS} n={DIODE_N}",
         f".tran {tau / 400:.6g} {stop:.6g} 0 {tau / 400:.6g}",
         f".measure tran ta when v(o1)={vdd / 2} rise={FIRST}",

@@ -17,7 +17,7 @@ from tradeoff.catalog import shipped_catalog_dir
 from tradeoff.fields import did_you_mean
 from tradeoff.errors import CatalogError
 
-__all__ = ["mantissas", "values", "nearest", "tolerance", "series_names", "significant_digits"]
+__all__ = ["mantissas", "values", "nearest", "at_least", "tolerance", "series_names", "significant_digits"]
 
 _BOUND_SLACK = 1e-9
 """Relative slack on the bounds of `values`: a bound computed as 4.6999999e-6 still includes 4.7e-6."""
@@ -126,4 +126,17 @@ def nearest(name: str, x):
     log_target = np.log(target)
     pick = np.where(logs[upper] - log_target < log_target - logs[lower], upper, lower)
     result = table[pick]
+    return float(result) if result.ndim == 0 else result
+
+
+def at_least(name: str, x):
+    """Smallest standard value of series `name` not below `x` (x positive, scalar or array)."""
+    target = np.asarray(x, dtype=float)
+    if target.size == 0:
+        return target.copy()
+    if not np.all(np.isfinite(target)) or np.any(target <= 0):
+        raise ValueError("at_least() needs finite positive values")
+    table = _decade_values(_series(name), int(np.floor(np.log10(target.min()))) - 1,
+                           int(np.floor(np.log10(target.max()))) + 2)
+    result = table[np.searchsorted(table, target * (1 - 1e-9))]
     return float(result) if result.ndim == 0 else result

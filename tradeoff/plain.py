@@ -29,6 +29,7 @@ _LABELS = {
     "threshold_a": "threshold pin current", "gate_leak": "gate leakage", "board_leak": "board-surface leakage",
     "timer_error": "timer timing error",
     "timer_supply_coef": "timer supply coefficient", "crystal_aging": "crystal ageing",
+    "pin_cap_f": "oscillator input pin and stray capacitance", "mos_vt_v": "inverter transistor threshold",
 }
 """Names whose plain form is not just the name without its unit suffix and underscores."""
 

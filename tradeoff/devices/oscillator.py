@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["threshold_factor", "clamped_period_factor", "square_law_excess", "rc_period_s", "rc_half_periods_s", "rc_junction_v", "rc_running_current_a",
+__all__ = ["threshold_factor", "clamped_period_factor", "square_law_excess", "inverter_factor", "rc_period_s", "rc_half_periods_s", "rc_junction_v", "rc_running_current_a",
            "crystal_frequency", "crystal_period_s", "rc_band"]
 
 
@@ -218,3 +218,20 @@ def square_law_excess(vtn_frac, vtp_frac, kp_ratio, drive, ro_n_ratio, ro_p_rati
     rising = _square_law_half(vtp_frac, vtn_frac, 1.0 / np.asarray(kp_ratio, dtype=float),
                               np.asarray(drive) * kp_ratio, ro_p_ratio, ro_n_ratio, 1.0 - vm)
     return falling + rising
+
+
+_NEVER_CLAMPED = 1e3
+"""Clamp drop over VDD that the input never reaches: `clamped_period_factor` without the clamp."""
+
+
+def inverter_factor(vdd_v, mos_vt_v, kp_a_per_v2, rt_ohm):
+    """T/(Rt·Ct) of the two-inverter oscillator without clamp or pin capacitance, at symmetric transistor
+    thresholds mos_vt_v [V] and KP·W/L kp_a_per_v2 [A/V²] of both channel types: the output resistance
+    1/(KP·(VDD − Vt)) (triode at a small drain voltage) and the square-law excess (Sedra and Smith,
+    Microelectronic Circuits: the long-channel MOSFET and the CMOS inverter). Its ratio between two
+    supplies is the period's supply dependence."""
+    vdd, vt = np.asarray(vdd_v, dtype=float), np.asarray(mos_vt_v, dtype=float)
+    ro = 1.0 / (kp_a_per_v2 * (vdd - vt) * np.asarray(rt_ohm, dtype=float))
+    drive = kp_a_per_v2 * vdd * np.asarray(rt_ohm, dtype=float)
+    return (clamped_period_factor(0.5, 1.0, _NEVER_CLAMPED, 0.0, ro, ro)
+            + square_law_excess(vt / vdd, vt / vdd, 1.0, drive, ro, ro))

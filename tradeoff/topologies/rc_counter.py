@@ -1,10 +1,16 @@
 """Ripple counter clocked by its on-chip RC oscillator (`rc-counter`): two inverters with threshold
-Vt, timing resistor Rt, timing capacitor Ct and series resistor Rs ≈ 2·Rt (4060-type datasheets).
+Vt, timing resistor Rt, timing capacitor Ct and series resistor Rs ≥ 2·Rt (4060-type datasheets: Rs
+about 2·Rt; "at least" is common practice).
 
-T = Rt·Ct·F(Vt/VDD) (tradeoff.devices.oscillator); the class's datasheet constant k (f = 1/(k·Rt·Ct))
-fixes the period at the typical threshold and the threshold's spread scales it by F(v)/F(v_typ).
-F is smallest at v = 1/2, an interior point the corner search is told about. The counter chain,
-decode, latch, rail and load switch are the shared counter frame (tradeoff.topologies.ripple_counter).
+T = k·Rt·Ct·[F(v)/F(v_typ)]·[N/N_ref]·[S/S_ref] (tradeoff.devices.oscillator): k is the datasheet
+constant, anywhere in the band the class's makers state (f = 1/(k·Rt·Ct), k 2.2 to 2.5); F(v) the
+threshold's spread (F is smallest at v = 1/2, an interior point the corner search is told about); N the
+input network (clamp diodes behind Rs, pin and stray capacitance Cp: `clamped_period_factor`) over its
+value at the datasheet's Rs = 2·Rt without Cp at the reference supply; S the inverters (output
+resistance and square-law excess: `inverter_factor`) over their value at the reference supply, so the
+transistor threshold's band spreads only the supply dependence (the k band holds the makers' spread at
+the reference). N and S are tabulated per class and interpolated (tradeoff.devices.oscillator_tables). The counter chain, decode, latch, rail and load switch are the shared counter
+frame (tradeoff.topologies.ripple_counter).
 """
 from __future__ import annotations
 
@@ -16,9 +22,8 @@ import pandas as pd
 from tradeoff import eseries
 from tradeoff.candidates import EVALUATION_CHUNK
 from tradeoff.analysis import Uncertain
-from tradeoff.devices.oscillator import (
-    rc_half_periods_s, rc_junction_v, rc_period_s, rc_running_current_a, threshold_factor,
-)
+from tradeoff.devices.oscillator import rc_half_periods_s, rc_junction_v, rc_running_current_a, threshold_factor
+from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
 from tradeoff.topologies.counter_switch import CounterPlan
 from tradeoff.topologies.ic_common import (
@@ -26,6 +31,7 @@ from tradeoff.topologies.ic_common import (
     TEMPCO_REFERENCE_C,
 )
 from tradeoff.topologies.ripple_counter import CounterTimer
+from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
@@ -44,8 +50,72 @@ CT_MAX_F = 10e-6
 RS_MIN_OHM = 10e3
 """Smallest series resistor at the oscillator input [ohm] (4060-type datasheets: Rs about 2·Rt, at least 10 kohm)."""
 
+_ENDS_SLACK = 1.1
+"""Widening of the counts' range the stage block is built for (N·S is not monotone in Rt and Ct)."""
+
+RO_LIMIT = 0.03
+"""Largest inverter output resistance over Rt for which the period law is used: up to it the law agrees
+with transistor-level ngspice within 2 % (tests/test_oscillator_clamp.py); beyond it the weak inverters
+slow the oscillator markedly (-19 % at 3.3 V, 10 kohm, 0.4 mA/V^2 in the same simulation)."""
+
 _RT = Role("r_timing", "resistor", *RT_RANGE_OHM, "oscillator timing resistor Rt")
 _CT = Role("c_timing", "capacitor", CT_MIN_F, CT_MAX_F, "oscillator timing capacitor Ct", ("film", "ceramic"))
+
+
+def _class_spreads(counter: "Part") -> dict[str, Uncertain]:
+    """The counter class's oscillator spreads: the constant k over the makers' band, the input pin plus
+    stray capacitance, and the inverter transistors' threshold (sources in the catalog)."""
+    vt_lo, vt_typ, vt_hi = (counter.value(n, "V") for n in ("mos_vt_min", "mos_vt_typ", "mos_vt_max"))
+    return {
+        "k": Uncertain(counter.value("k", ""), counter.value("k_min", ""), counter.value("k_max", ""),
+                       note=f"{counter.id}: oscillator constant k between {counter.value('k_min', ''):g} and "
+                            f"{counter.value('k_max', ''):g} ({counter.source('k_min')})"),
+        "pin_cap_f": Uncertain(counter.value("pin_c_typ", "F"), counter.value("pin_c_min", "F"),
+                             counter.value("pin_c_max", "F"), unit="F",
+                             note=f"{counter.id}: input pin plus stray capacitance ({counter.source('pin_c_max')})"),
+        "mos_vt_v": Uncertain(vt_typ, vt_lo, vt_hi, unit="V", critical=(vt_typ,),
+                              note=f"{counter.id}: inverter transistor threshold; spreads the supply dependence "
+                                   f"({counter.source('mos_vt_max')})"),
+    }
+
+
+def _terms(counter: "Part") -> OscillatorTables:
+    """The tables of `counter`'s class (built once per process for each set of class figures)."""
+    if 2 * counter.value("mos_vt_max", "V") >= counter.value("supply_min", "V"):
+        raise counter.param_error("mos_vt_max", "must be below half of supply_min: both transistors of an inverter "
+                                                "conduct at its switching point over the whole supply range")
+    return oscillator_tables(counter.value("clamp_v", "V"), counter.value("mos_kp", "A/V**2"),
+                     (counter.value("supply_min", "V"), counter.value("supply_max", "V")),
+                     counter.value("k_supply", "V"), (counter.value("mos_vt_min", "V"), counter.value("mos_vt_max", "V")))
+
+
+def _rt_min_ohm(counter: "Part", vdd_v: float) -> float:
+    """Smallest Rt [ohm] whose inverters' output resistance 1/(KP·(VDD − Vt)) at the highest transistor
+    threshold stays within RO_LIMIT of it on a vdd_v [V] supply."""
+    headroom = max(vdd_v - counter.value("mos_vt_max", "V"), 1e-3)
+    return 1.0 / (counter.value("mos_kp", "A/V**2") * headroom * RO_LIMIT)
+
+
+def _rail_spread(rail) -> Uncertain:
+    """The logic rail's voltage [V] with interior corner points: the period is not monotone in it."""
+    return Uncertain(rail.nominal_v, rail.min_v, rail.max_v, unit="V",
+                     critical=tuple(np.linspace(rail.min_v, rail.max_v, 5)[1:-1]),
+                     note="logic rail range: the oscillator's period depends on its supply")
+
+
+def _network_and_inverters(counter: "Part", rs_ratio, cp_ratio, rt_ohm, vdd_v, mos_vt_v) -> np.ndarray:
+    """N·S of `counter`'s class (module docstring) at the given ratios, Rt [ohm], supply [V], threshold [V]."""
+    terms = _terms(counter)
+    return terms.network(rs_ratio, cp_ratio, vdd_v) * terms.inverters(rt_ohm, vdd_v, mos_vt_v)
+
+
+def _threshold_for(factor: float) -> float:
+    """Threshold v in [1/2, 0.95] with F(v) = factor (F rises from 2·ln 3 at 1/2); 1/2 below 2·ln 3."""
+    lo, hi = 0.5, 0.95
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if threshold_factor(mid) < factor else (lo, mid)
+    return 0.5 * (lo + hi)
 
 
 def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, vt_frac: float, title: str,
@@ -93,8 +163,9 @@ class RCCounter(CounterTimer):
         return [_RT, _CT]
 
     def rs_ohm(self, rt_ohm):
-        """Series resistor Rs: the brief's standard value nearest 2·Rt, at least 10 kohm [ohm]."""
-        return eseries.nearest(self.brief.series.resistor, np.maximum(2.0 * np.asarray(rt_ohm, dtype=float), RS_MIN_OHM))
+        """Series resistor Rs: the brief's smallest standard value at or above 2·Rt, at least 10 kohm [ohm]."""
+        return eseries.at_least(self.brief.series.resistor,
+                                np.maximum(RS_RATIO * np.asarray(rt_ohm, dtype=float), RS_MIN_OHM))
 
     def _threshold(self, counter: "Part") -> Uncertain:
         lo, typ, hi = counter.value("vt_min", ""), counter.value("vt_typ", ""), counter.value("vt_max", "")
@@ -104,15 +175,21 @@ class RCCounter(CounterTimer):
 
     def _osc_uncertain(self, design: Design) -> dict[str, Uncertain]:
         rt, ct = design.values["r_timing"], design.values["c_timing"]
+        counter = self._counter(design)
+        rail = self.plan(counter).rail
         return {**value_spread("r_timing", rt, role_part(self, design, _RT), "ohm"),
                 **value_spread("c_timing", ct, role_part(self, design, _CT), "F"),
-                "vt_frac": self._threshold(self._counter(design))}
+                "vt_frac": self._threshold(counter), **_class_spreads(counter),
+                "rail_v": _rail_spread(rail)}
 
     def period_s(self, design: Design, x: Mapping[str, np.ndarray]) -> np.ndarray:
-        """k·Rt·Ct·F(v)/F(v_typ) with Rt, Ct at the sample's ambient [s]."""
+        """k·Rt·Ct·F(v)/F(v_typ)·N·S with Rt, Ct at the sample's ambient [s] (module docstring); N and S
+        at the design's nominal Rt and Ct (their spread moves Rs/Rt and Cp/Ct by a few % of terms of a few %)."""
         counter = self._counter(design)
-        return rc_period_s(at_temperature(x, "r_timing"), at_temperature(x, "c_timing"), counter.value("k", ""),
-                           x["vt_frac"], counter.value("vt_typ", ""))
+        rt, ct = design.values["r_timing"], design.values["c_timing"]
+        return (x["k"] * at_temperature(x, "r_timing") * at_temperature(x, "c_timing")
+                * threshold_factor(x["vt_frac"]) / threshold_factor(counter.value("vt_typ", ""))
+                * _network_and_inverters(counter, self.rs_ohm(rt) / rt, x["pin_cap_f"] / ct, rt, x["rail_v"], x["mos_vt_v"]))
 
     def _osc_bom(self, design: Design) -> list[BomLine]:
         rs = self.rs_ohm(design.values["r_timing"])
@@ -138,16 +215,39 @@ class RCCounter(CounterTimer):
 
     def _osc_checks(self, design: Design) -> list[Finding]:
         counter = self._counter(design)
+        rt = design.values["r_timing"]
+        rs = float(self.rs_ohm(rt))
         return [Finding("info", "oscillator-constant",
-                        f"{counter.id}: k = {counter.value('k', ''):g} ({counter.source('k')})")]
+                        f"{counter.id}: k = {counter.value('k', ''):g} typical, {counter.value('k_min', ''):g} to "
+                        f"{counter.value('k_max', ''):g} by maker ({counter.source('k_min')}), stated at "
+                        f"{fq(counter.value('k_supply', 'V'), 'V')} and Rs = 2·Rt; the clamp behind Rs, the pin "
+                        "capacitance and the supply move the period from there (modelled)"),
+                Finding("info", "series-resistor",
+                        f"Rs = {fq(rs, 'ohm')}, {rs / rt:.2f}·Rt: at least 2·Rt (common practice: a smaller Rs "
+                        "lets the input clamp diodes shorten the period more) and at least "
+                        f"{fq(RS_MIN_OHM, 'ohm')} (14-stage ripple counter datasheets)"),
+                *self._drive_findings(design, counter)]
+
+    def _drive_findings(self, design: Design, counter: "Part") -> list[Finding]:
+        """A warning when Rt is so low that the inverters' output resistance passes RO_LIMIT of it."""
+        rail = self.plan(counter).rail
+        rt_min = _rt_min_ohm(counter, rail.min_v)
+        if design.values["r_timing"] >= rt_min:
+            return []
+        return [Finding("warning", "oscillator-drive",
+                        f"Rt = {fq(design.values['r_timing'], 'ohm')} is below {fq(rt_min, 'ohm')}: on the "
+                        f"{fq(rail.min_v, 'V')} rail the inverters' output resistance (from memory: "
+                        f"{counter.source('mos_kp')}) exceeds {100 * RO_LIMIT:g} % of Rt, and the period may be "
+                        "markedly longer than modelled")]
 
     def _osc_block(self, counters: list["Part"], plans: list[CounterPlan], dropped: dict[str, int]) -> pd.DataFrame:
         """Every (counter class, Rt, Ct) that some counter output can bring into the band, with its period [s] at
         the worst corners and its currents on the counter's rail; `latch_path_ohm` = Rs + Rt for the diode-AND link.
 
-        Within an ambient corner the period rises with Rt, Ct and |v − 1/2|; tempcos act with the
-        sign of T − 25 degC, so the extremes are the 2 ambient corners × monotone choices, with
-        the threshold at 1/2 (minimum of F) or at the limit farther from it (maximum).
+        The period is a product of positive factors in separate quantities (k; F of the threshold; Rt and Ct
+        with their tempcos; N·S of Cp, the rail and the transistor threshold), so its extremes over the corner
+        lattice are the products of the factors' extremes: the values the corner search of the design finds.
+        Rt below the class's floor on the rail (`_rt_min_ohm`) is dropped with the reason.
 
         The (Rt, Ct) pairs are evaluated EVALUATION_CHUNK at a time and a pair is kept only where the counter
         frame's pruning (`_prune`) keeps it against the stage block of the periods' whole range: exact, since
@@ -162,33 +262,39 @@ class RCCounter(CounterTimer):
         for index, (counter, plan) in enumerate(zip(counters, plans)):
             vt_corners = np.array(self._threshold(counter).corner_values())
             f = threshold_factor(vt_corners) / threshold_factor(counter.value("vt_typ", ""))
-            for _, rg in rs.groupby("part", sort=False):
+            rt_min = _rt_min_ohm(counter, plan.rail.min_v)
+            weak = rs["value"] < rt_min
+            drop_count(dropped, f"{counter.id}: Rt below {fq(rt_min, 'ohm')}: on a {fq(plan.rail.min_v, 'V')} rail the "
+                                f"inverters' output resistance exceeds {100 * RO_LIMIT:g} % of Rt, beyond the range "
+                                "where the period law is checked against transistor-level simulation", int(weak.sum()))
+            for _, rg in rs[~weak].groupby("part", sort=False):
                 for _, cg in cs.groupby("part", sort=False):
-                    groups.append((index, plan.rail.nominal_v, counter.value("k", ""), f, rg, cg))
+                    groups.append((index, counter, plan.rail, f, rg, cg))
         columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
                    "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
                    "counter_index", "latch_path_ohm"]
         if not groups:
             return pd.DataFrame(columns=columns)
-        # the period's extremes grow with Rt and Ct: the longest shortest period at each group's largest pair,
-        # the shortest longest period at its smallest
-        ends = [(self._extremes(k, f, rg, cg, env, [len(rg) - 1], [len(cg) - 1])[0][0],
-                 self._extremes(k, f, rg, cg, env, [0], [0])[1][0]) for _, _, k, f, rg, cg in groups]
+        # the period's extremes grow with Rt·Ct: the longest shortest period at each group's largest pair, the
+        # shortest longest period at its smallest; N·S (within a few % over the grid) is not monotone in Rt and
+        # Ct, so the range of counts is widened by _ENDS_SLACK (the frame's pruning drops counts no row fits)
+        ends = [(self._extremes(c, rail, f, rg, cg, env, [len(rg) - 1], [len(cg) - 1])[0][0],
+                 self._extremes(c, rail, f, rg, cg, env, [0], [0])[1][0]) for _, c, rail, f, rg, cg in groups]
         band = self.brief.delay
-        stages = self._stage_block(counters, plans, (band.min_s / max(lo for lo, _ in ends),
-                                                     band.max_s / min(hi for _, hi in ends)), None, {})
+        stages = self._stage_block(counters, plans, (band.min_s / max(lo for lo, _ in ends) / _ENDS_SLACK,
+                                                     band.max_s / min(hi for _, hi in ends) * _ENDS_SLACK), None, {})
         tables, outside = [], 0
-        for index, rail_v, k, f, rg, cg in groups:
+        for index, counter, rail, f, rg, cg in groups:
             latch_path = self.rs_ohm(rg["value"].to_numpy()) + rg["value"].to_numpy()   # Rs + Rt of each Rt
             step = max(1, EVALUATION_CHUNK // len(cg))
             for first in range(0, len(rg), step):
                 ri, ci = (a.ravel() for a in np.meshgrid(np.arange(first, min(first + step, len(rg))),
                                                          np.arange(len(cg)), indexing="ij"))
-                lo, hi = self._extremes(k, f, rg, cg, env, ri, ci)
+                lo, hi = self._extremes(counter, rail, f, rg, cg, env, ri, ci)
                 path = latch_path[ri]
                 at = self._reachable(lo, hi, path, stages)
                 outside += len(ri) - len(at)
-                tables.append(self._rc_rows(index, rail_v, k, rg, cg, ri[at], ci[at], lo[at], hi[at], path[at]))
+                tables.append(self._rc_rows(index, counter, rail, rg, cg, ri[at], ci[at], lo[at], hi[at], path[at]))
         drop_count(dropped, self._no_output_reason(), outside)
         return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
                               ("delay_hi", "cost", "placements", "lines", "during_a", "after_a"),
@@ -209,28 +315,38 @@ class RCCounter(CounterTimer):
             ok[np.flatnonzero(eligible)[top > first]] = True
         return np.flatnonzero(ok)
 
-    @staticmethod
-    def _extremes(k, f_corners, rg, cg, env, ri, ci) -> tuple[np.ndarray, np.ndarray]:
+    def _extremes(self, counter, rail, f_corners, rg, cg, env, ri, ci) -> tuple[np.ndarray, np.ndarray]:
         """Shortest and longest period [s] of the pairs (rg.iloc[ri], cg.iloc[ci]) of one Rt class and one Ct
-        class over the ambient corners, the threshold factors `f_corners` and the parts' tolerances and tempcos."""
+        class over the corners: k's band, the threshold factors `f_corners`, the ambient with the parts'
+        tolerances and tempcos, and N·S over the rail's corner values (N rises with Cp, so its extremes take
+        Cp's limits; S takes each transistor-threshold corner value)."""
         rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
         r_tol, r_tc = rg["tolerance"].to_numpy()[ri], rg["tempco"].to_numpy()[ri]
         c_tol, c_tc = cg["tolerance"].to_numpy()[ci], cg["tempco"].to_numpy()[ci]
-        base = k * rt * ct
+        spreads = _class_spreads(counter)
+        vdd = np.array(_rail_spread(rail).corner_values())[:, None, None]
+        vt = np.array(spreads["mos_vt_v"].corner_values())[None, :, None]
+        rs_ratio, cp = self.rs_ohm(rt) / rt, spreads["pin_cap_f"]
+        n_lo = _network_and_inverters(counter, rs_ratio, cp.lo / ct, rt, vdd, vt).min(axis=(0, 1))
+        n_hi = _network_and_inverters(counter, rs_ratio, cp.hi / ct, rt, vdd, vt).max(axis=(0, 1))
         lo, hi = np.full(len(rt), np.inf), np.zeros(len(rt))
         for t in env["ambient_c"].corner_values():
             dt = abs(t - TEMPCO_REFERENCE_C)
-            lo = np.minimum(lo, base * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt) * f_corners.min())
-            hi = np.maximum(hi, base * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt) * f_corners.max())
-        return lo, hi
+            lo = np.minimum(lo, rt * ct * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt))
+            hi = np.maximum(hi, rt * ct * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt))
+        return (lo * spreads["k"].lo * f_corners.min() * n_lo, hi * spreads["k"].hi * f_corners.max() * n_hi)
 
-    def _rc_rows(self, index, rail_v, k, rg, cg, ri, ci, lo, hi, latch_path) -> pd.DataFrame:
+    def _rc_rows(self, index, counter, rail, rg, cg, ri, ci, lo, hi, latch_path) -> pd.DataFrame:
         """Block rows of the pairs (rg.iloc[ri], cg.iloc[ci]) with their shortest and longest periods lo, hi [s] and
         latch paths Rs + Rt [ohm]."""
         rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
-        # nominal: tempcos at 0 and the threshold at its typical value, so F(v_typ)/F(v_typ) = 1
-        nom = k * rt * ct
-        running, latched = self._currents_of(latch_path, ct, nom, rail_v)
+        # nominal: tempcos at 0, the threshold at its typical value (F(v_typ)/F(v_typ) = 1), the class's
+        # typical k, pin capacitance and transistor threshold on the rail's nominal voltage
+        spreads = _class_spreads(counter)
+        nom = spreads["k"].nominal * rt * ct * _network_and_inverters(
+            counter, self.rs_ohm(rt) / rt, spreads["pin_cap_f"].nominal / ct, rt, rail.nominal_v,
+            spreads["mos_vt_v"].nominal)
+        running, latched = self._currents_of(latch_path, ct, nom, rail.nominal_v)
         rs_part_cost = fixed_part(self, "resistor", RS_MIN_OHM, "R2", "Rs").unit_cost
         first, second = rg["first"].to_numpy()[ri], rg["second"].to_numpy()[ri]
         return pd.DataFrame({
@@ -255,9 +371,14 @@ class RCCounter(CounterTimer):
                         "inverter threshold Vt")
 
     def spice(self, design: Design) -> str | None:
-        """Behavioural two-inverter oscillator at nominal values; `delay` = period·(periods to the timeout)."""
+        """Behavioural two-inverter oscillator at nominal values; `delay` = period·(periods to the timeout).
+        Its inverters share the threshold at which the ideal law F gives the model's nominal period (the
+        class's k and its supply and input-network terms have no behavioural counterpart; the netlist
+        checks the oscillator's wiring, the count and the latch timing), VDD/2 when that period is below
+        2·ln 3·Rt·Ct."""
         counter = self._counter(design)
         rt, ct = design.values["r_timing"], design.values["c_timing"]
-        return oscillator_netlist(rt, ct, self.rs_ohm(rt), self.brief.supply.nominal_v, counter.value("vt_typ", ""),
-                                  f"{self.id}: {self.brief.title}", float(self.periods(design)))
-
+        period = self.period_s(design, {n: np.array([v]) for n, v in self.nominal_point(design).items()})[0]
+        return oscillator_netlist(rt, ct, self.rs_ohm(rt), self.plan(counter).rail.nominal_v,
+                                  _threshold_for(period / (rt * ct)), f"{self.id}: {self.brief.title}",
+                                  float(self.periods(design)))
