@@ -49,7 +49,8 @@ def test_defaults_are_applied_and_recorded():
     assert (b.ambient.min_c, b.ambient.max_c) == (0.0, 40.0)
     assert (b.supply.min_v, b.supply.max_v) == pytest.approx((10.8, 14.4))  # unregulated -10 % / +20 %
     assert (b.delay.min_s, b.delay.max_s) == pytest.approx((3240.0, 3960.0))  # default tolerance ±10 %
-    assert b.analysis.model_dump() == {"samples": 20000, "seed": 1, "coverage": 0.99, "margin": 0.05}
+    assert b.analysis.model_dump() == {"samples": 20000, "seed": 1, "coverage": 0.99, "margin": 0.05,
+                                       "relax": "none"}
     assert b.series.model_dump() == {"resistor": "E24", "electrolytic": "E6", "film": "E12", "ceramic": "E12",
                                      "pairs": False}
     assert b.topologies == ("all",) and b.start == "power-on"

@@ -9,8 +9,10 @@ import json
 import pytest
 
 import tradeoff
-from tradeoff.relax import CHANGES, TOLERANCE, _scaled, apply, changes_for, relax
-from tradeoff.trade_study import topology_outcome
+from tradeoff.brief import load_brief
+from tradeoff.errors import BriefError
+from tradeoff.relax import CHANGES, TOLERANCE, _scaled, apply, changes_for, relax, slack_of, tightenings_for
+from tradeoff.outcome import topology_outcome
 
 from conftest import EXAMPLES
 
@@ -79,3 +81,83 @@ def test_expected_answers_of_the_cases():
 def test_catalog_values_scale_as_written():
     assert _scaled("0.01 A/(F*V)", 0.5) == "0.005 A/(F*V)" and _scaled("15 Gohm", 2.0) == "30.0 Gohm"
     assert _scaled(0.2, 0.5) == 0.1 and TOLERANCE < 0.05  # the tolerance is well inside the 5 % check
+
+
+SLACK_CASES = [("fan_run_on", "mcu"), ("glue_pot_warmer", "crystal-counter")]
+"""(shipped example, a feasible topology of it): both select in well under a second, so the slack of every
+change takes seconds; between them every kind of answer appears (bounded, still feasible at the far end)."""
+
+
+@pytest.fixture(scope="module", params=SLACK_CASES, ids=lambda case: "-".join(case))
+def slackened(request):
+    example, topology = request.param
+    result = tradeoff.study(EXAMPLES / f"{example}.yaml", only=[topology], samples=SAMPLES)
+    assert result.feasible
+    return result, slack_of(result)
+
+
+def _feasible(change, result, x):
+    """The study's one topology at the changed brief; a brief the brief's own rules refuse counts as infeasible."""
+    outcome = result.outcomes[0]
+    try:
+        brief, catalog = apply(change, result.brief, outcome.model.catalog, x)
+    except BriefError:
+        return False
+    return topology_outcome(outcome.topology, brief, catalog, 1, "highs").feasible
+
+
+def test_slack_holds_and_5_percent_beyond_fails(slackened):
+    result, found = slackened
+    assert [r.key for r in found] == [c.key for c in tightenings_for(result.brief)]
+    assert all(r.kind == "slack" for r in found) and any(r.bounded for r in found)
+    by_key = {c.key: c for c in CHANGES}
+    for r in found:
+        change = by_key[r.key]
+        start, end = float(change.start(result.brief)), float(change.tight(result.brief))
+        assert r.value is not None and _feasible(change, result, r.value), r.line
+        if not r.bounded:
+            assert r.value == end and "the far end tried" in r.line
+            continue
+        assert min(start, end) <= r.value <= max(start, end) and r.fails_at is not None
+        beyond = start + 1.05 * (r.value - start)
+        if change.integer:
+            beyond = r.value + (1 if end > start else -1)
+        # 5 % beyond the reported slack is past the first failing value the bisection found (1 % tolerance)
+        assert abs(r.fails_at - start) <= abs(beyond - start) or r.value == start, r.line
+        assert not _feasible(change, result, beyond if r.value != start else r.fails_at), (r.line, beyond)
+
+
+def test_slack_reaches_the_json_the_workbook_tables_and_the_pages(slackened):
+    from tradeoff.report.html import review_html
+    from tradeoff.report.review import report_text
+    from tradeoff.report.tables import study_tables
+
+    result, found = slackened
+    data = json.loads(json.dumps(result.to_dict(), allow_nan=False))
+    assert [(d["change"], d["bounded"]) for d in data["slack"]] == [(r.key, r.bounded) for r in found]
+    assert list(study_tables(result)["slack"]["bounded"]) == [r.bounded for r in found]
+    text, page = report_text(result), review_html(result)
+    assert all(r.label in text and r.label in page for r in found)
+
+
+def test_the_brief_field_turns_relax_and_slack_on(tmp_path):
+    # the towel rail's crystal counter (infeasible: 23 parts against 20) and mcu (feasible) select quickly
+    brief = load_brief(EXAMPLES / "towel_rail_boost.yaml")
+    assert brief.analysis.relax == "none"
+    result = tradeoff.study(brief.replace({"analysis.relax": "all"}), only=["mcu", "crystal-counter"], samples=SAMPLES)
+    assert {r.topology for r in result.relaxations} == {"crystal-counter"}
+    assert {r.topology for r in result.slack} == {"mcu"}
+    only_infeasible = tradeoff.study(brief.replace({"analysis.relax": "infeasible"}), only=["mcu"], samples=SAMPLES)
+    assert only_infeasible.relaxations == [] and only_infeasible.slack is None
+    assert tradeoff.study(brief, only=["mcu"], samples=SAMPLES).relaxations is None
+    # a wrong value is a located error naming the key and what is accepted
+    source = (EXAMPLES / "fan_run_on.yaml").read_text()
+    assert "analysis:" not in source
+    bad = tmp_path / "bad.yaml"
+    text = source.rstrip("\n") + "\nanalysis:\n  relax: yes please\n"
+    bad.write_text(text)
+    with pytest.raises(BriefError) as caught:
+        load_brief(bad)
+    problem = caught.value.problems[0]
+    assert problem.key == "analysis.relax" and problem.line == text.count("\n") and problem.column == 10
+    assert "accepted: none, infeasible, all" in str(caught.value)

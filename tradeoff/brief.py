@@ -35,7 +35,10 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
     topologies: all | [name, ...]                  all
     analysis:   samples, seed, coverage, margin    20000, 1, 0.99, 5 %; margin: the share of the band's
                                                    width every proven design keeps between its
-                                                   worst case and each band edge (common practice)
+                                                   worst case and each band edge (common practice);
+                relax                              none | infeasible (what alone would make each
+                                                   infeasible topology feasible, tradeoff.relax) |
+                                                   all (also each feasible one's slack); none
     production: volume, prices, assembly, ...      see tradeoff.production (indicative defaults)
 
 Accepted ranges (outside them is almost surely a typo): delays 10 ms .. 7 days; ambient
@@ -158,6 +161,7 @@ class Analysis(_Frozen):
     seed: int
     coverage: float = Field(serialization_alias="coverage_frac")
     margin: float = Field(serialization_alias="margin_frac")
+    relax: Literal["none", "infeasible", "all"] = "none"
 
 
 class Brief(_Frozen):

@@ -334,6 +334,9 @@ def _read_topologies(r: SectionReader, raw: object) -> tuple[str, ...] | None:
     return tuple(names)
 
 
+RELAX_CHOICES = ("none", "infeasible", "all")
+"""analysis.relax: no search, what would make each infeasible topology feasible, and also each feasible one's slack."""
+
 TOP_KEYS = ("title", "delay", "ambient", "environment", "supply", "start", "load", "limits", "weights", "series",
              "topologies", "analysis", "production")
 
@@ -367,7 +370,8 @@ def read_sections(r: SectionReader, data: object, base_dir: Path, weight_names: 
             "samples": (number(100, 10_000_000, integer=True), 20000, ""),
             "seed": (number(0, 2**32 - 1, integer=True), 1, ""),
             "coverage": (fraction(0.5, 1, open_lo=True, open_hi=True), 0.99, "%"),
-            "margin": (fraction(0, 0.5, open_hi=True), DEFAULT_MARGIN, "%")}),
+            "margin": (fraction(0, 0.5, open_hi=True), DEFAULT_MARGIN, "%"),
+            "relax": (choice(RELAX_CHOICES), "none", "")}),
         "production": read_production(r, top.get("production"), base_dir),
     }
     if "topologies" not in top:

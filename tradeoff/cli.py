@@ -181,13 +181,17 @@ def catalog_command(query, catalogs):
 @click.option("--verbose", is_flag=True, help="Also say how many candidates each of a topology's own rules removed.")
 @click.option("--relax", is_flag=True,
               help="For each infeasible topology, the smallest change of each requirement alone (and of each part "
-                   "class) that makes it feasible, found by re-running its selection (seconds to minutes).")
+                   "class) that makes it feasible, found by re-running its selection (seconds to minutes; the "
+                   "brief's analysis.relax does the same).")
+@click.option("--slack", is_flag=True,
+              help="With or without --relax: for each feasible topology, how far each requirement alone could be "
+                   "tightened before it stops being feasible (analysis.relax: all in the brief does both).")
 @click.option("--force", is_flag=True, help="Replace output files that exist (otherwise nothing is written).")
 @timing_option
 @catalog_option
 @_translate_errors
 def study_command(brief, output_format, only, alternatives, method, solver, samples, seed, xlsx_path, csv_dir,
-                  plots_dir, netlist_dir, review_dir, html_path, width, verbose, relax, force, timing, catalogs):
+                  plots_dir, netlist_dir, review_dir, html_path, width, verbose, relax, slack, force, timing, catalogs):
     """Run the trade study on BRIEF: for every allowed topology the best E-series
     design proven at the worst-case corners and by Monte Carlo, then a ranking by
     the brief's weights, the winner's bill of materials, the reasons, and why the
@@ -213,10 +217,14 @@ def study_command(brief, output_format, only, alternatives, method, solver, samp
     with TerminalProgress("topologies") as shown:
         result = study(brief, only=only or None, alternatives=alternatives, method=method, solver=solver,
                        samples=samples, seed=seed, catalog_files=catalogs, progress=shown.update)
-    if relax:
+    if relax and result.relaxations is None:
         from tradeoff.relax import relax as relax_study
 
         relax_study(result)
+    if slack and result.slack is None:
+        from tradeoff.relax import slack_of
+
+        slack_of(result)
     if output_format == "json":
         from tradeoff.report.review import json_text
 

@@ -1,19 +1,16 @@
 """The main job: for every topology a brief allows, the best buildable designs from standard
-values, each proven by the full model (worst-case corners and Monte Carlo), then a ranking of
-the feasible ones against the brief's weights.
-
-Verification: the selection program proposes its best design; the topology's full model
-evaluates it; a design that fails the brief is excluded by a no-good cut and the program solved
-again, at most `MAX_ROUNDS` solves per design kept (`VerifiedDesign.rounds` counts them).
+values, each proven by the full model (tradeoff.outcome: worst-case corners and Monte Carlo),
+then a ranking of the feasible ones against the brief's weights.
 
 A topology that cannot meet the brief does not stop the study: its outcome carries the
-reasons, in the designer's terms, and the other topologies go on.
+reasons, in the designer's terms, and the other topologies go on. The brief's analysis.relax
+adds what would make each infeasible one feasible (tradeoff.relax).
 """
 from __future__ import annotations
 
 import functools
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Callable, Sequence
 
@@ -23,75 +20,19 @@ from tradeoff.fields import did_you_mean
 from tradeoff.cautions import cautions
 from tradeoff.criteria import headline
 from tradeoff.economics import BreakEven, break_even_of, economics
+from tradeoff.outcome import MAX_ROUNDS, TopologyOutcome, VerifiedDesign, topology_outcome, verified_designs
 from tradeoff.plain import assumptions, part_classes, schematic_values
-from tradeoff.errors import CatalogError, InfeasibleError, InputError, Problem, TradeoffError
-from tradeoff.optimise import SelectionProblem, SelectionResult
-from tradeoff.topologies.base import margin_shortfalls
-from tradeoff.topologies.registry import build_topology, topology_ids
-from tradeoff.units import format_quantity
+from tradeoff.errors import InputError, Problem
+from tradeoff.topologies.registry import topology_ids
 
 if TYPE_CHECKING:  # pragma: no cover
     import pandas as pd
 
     from tradeoff.ranking import Ranking
-    from tradeoff.selection import SelectionModel
-    from tradeoff.topologies.base import Evaluation, Topology
+    from tradeoff.topologies.base import Evaluation
 
 __all__ = ["VerifiedDesign", "TopologyOutcome", "StudyResult", "study", "verified_designs", "resolve_topologies",
-           "MAX_ROUNDS", "Progress"]
-
-MAX_ROUNDS = 20
-"""Solves tried per kept design before a topology's verification gives up."""
-
-
-@dataclass
-class VerifiedDesign:
-    """A design the selection program proposed and the full model proved: the program's result,
-    the evaluation, and the solves it took (each failed verification adds one)."""
-
-    selection: SelectionResult
-    evaluation: "Evaluation"
-    rounds: int
-
-
-@dataclass
-class TopologyOutcome:
-    """What one topology achieved: verified designs best first, or why it has none."""
-
-    topology: str
-    description: str
-    verified: list[VerifiedDesign] = field(default_factory=list)
-    reasons: list[str] = field(default_factory=list)
-    seconds: float = 0.0
-    model: "Topology | None" = field(default=None, repr=False)
-
-    @property
-    def feasible(self) -> bool:
-        """True when at least one design meets the brief."""
-        return bool(self.verified)
-
-    @property
-    def evaluations(self) -> list["Evaluation"]:
-        """Full-model evaluations of the verified designs, best first."""
-        return [d.evaluation for d in self.verified]
-
-    def statistics(self) -> dict[str, Any]:
-        """Solver statistics for reports: designs, rounds, candidate table sizes (the same in every run
-        with one seed; wall times are in `timing()`)."""
-        problem = self.verified[0].selection.problem if self.verified else None
-        sizes = {} if problem is None else {b.name: len(b.table) for b in problem.model.blocks}
-        return {
-            "topology": self.topology,
-            "designs": len(self.verified),
-            "rounds": [d.rounds for d in self.verified],
-            "candidates": sizes,
-        }
-
-    def timing(self) -> dict[str, Any]:
-        """Wall times of this topology [s]: the whole outcome and each solver call (vary from run to run)."""
-        return {"topology": self.topology, "total_s": self.seconds,
-                "solve_s": [d.selection.solve_s for d in self.verified]}
-
+           "topology_outcome", "MAX_ROUNDS", "Progress"]
 
 @dataclass
 class StudyResult:
@@ -107,6 +48,9 @@ class StudyResult:
     relaxations: "list[Any] | None" = None
     """What each infeasible topology would need (tradeoff.relax.Relaxation items, filled by tradeoff.relax.relax;
     None when not asked)."""
+    slack: "list[Any] | None" = None
+    """How far each requirement could tighten for each feasible topology (Relaxation items of kind "slack",
+    filled by tradeoff.relax.slack_of; None when not asked)."""
 
     @property
     def feasible(self) -> bool:
@@ -163,6 +107,7 @@ class StudyResult:
             "method": self.method,
             "solver": {"name": self.solver, "topologies": [o.statistics() for o in self.outcomes]},
             "relaxations": None if self.relaxations is None else [r.to_dict() for r in self.relaxations],
+            "slack": None if self.slack is None else [r.to_dict() for r in self.slack],
             "cautions": list(self.cautions),
             "assumptions": assumptions(self.brief),
             **({"timing": {"total_s": self.seconds, "topologies": [o.timing() for o in self.outcomes]}}
@@ -207,107 +152,10 @@ def resolve_topologies(brief: Brief, catalog: Catalog, only: Sequence[str] | Non
     return chosen
 
 
-def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str = "highs",
-                     max_rounds: int = MAX_ROUNDS, step: Callable[[str], None] | None = None) -> list[VerifiedDesign]:
-    """The k best distinct designs of `topology` for `brief`, best first, each proven by the full
-    model (see the module docstring) with the brief's margin kept at both band edges; fewer than k
-    when the candidate tables run out.
-
-    Raises InfeasibleError (reasons keyed by the topology id) when no design is found: the
-    program's own explanation when it has no solution, or the best rejected design's shortfalls;
-    when a design meets the band but not the margin, the reasons say so and name it. `step`, when
-    given, is told what runs now (the candidate tables, each round of solve and verify).
-    """
-    if k < 1 or max_rounds < 1:
-        raise ValueError(f"k and max_rounds must be at least 1, got k={k}, max_rounds={max_rounds}")
-    margin = brief.analysis.margin
-    step = step or _quiet
-    step("candidate tables")
-    tables = topology.selection()  # built once: the search without the margin below reuses it
-    try:
-        return _search(topology, tables, brief, k, solver, max_rounds, margin, lambda ev: ev.feasible, step)
-    except InfeasibleError as exc:
-        if margin == 0:
-            raise
-        try:  # the band alone: a design short only of the margin is reported, not dropped
-            near = _search(topology, tables, brief, 1, solver, max_rounds, 0.0,
-                           lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)), step)[0].evaluation
-        except InfeasibleError:
-            raise exc from None
-        why = (f"no design keeps the brief's margin of {format_quantity(margin, '%')} of the band at both ends; "
-               f"the best design meeting the band without it ({schematic_values(topology, near.design)}) keeps "
-               f"{format_quantity(near.margin_short_frac, '%', 2)} at the short end and "
-               f"{format_quantity(near.margin_long_frac, '%', 2)} at the long end")
-        raise InfeasibleError(str(exc), {topology.id: [why, *exc.reasons.get(topology.id, [])]}) from None
-
-
-def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int, solver: str, max_rounds: int,
-            margin: float, accept: Callable[["Evaluation"], bool], step: Callable[[str], None]) -> list[VerifiedDesign]:
-    """Solve over `tables` (the topology's selection), verify by the full model (`accept`), cut and solve
-    again; the band less `margin` in the program; `step` is told each round."""
-    rows = sum(len(block.table) for block in tables.blocks)
-    step(f"{rows:,} candidate rows, building the program")
-    problem = SelectionProblem(tables, (brief.delay.min_s, brief.delay.max_s), brief.limits,
-                               brief.weights, solver=solver, margin=margin)
-    found: list[VerifiedDesign] = []
-    failed: list["Evaluation"] = []
-    seen: set[tuple] = set()
-    rounds = 0
-    while len(found) < k and rounds < max_rounds:
-        step(f"{rows:,} candidate rows, solve and verify round {rounds + 1}")
-        result = problem.solve()
-        rounds += 1
-        if not result.feasible:
-            if not found and not failed:
-                raise InfeasibleError(f"{topology.id}: no design meets the brief", {topology.id: result.reasons})
-            break
-        problem.exclude(result.rows)
-        if result.design.key() in seen:
-            continue
-        seen.add(result.design.key())
-        evaluation = topology.evaluate(result.design)
-        if not accept(evaluation):
-            failed.append(evaluation)
-            continue
-        found.append(VerifiedDesign(result, evaluation, rounds))
-        rounds = 0
-    if not found:
-        why = (f"the {len(failed)} best designs of the candidate tables all failed full verification (worst-case "
-               f"corners and Monte Carlo); the best of them: {'; '.join(failed[0].reasons)}" if failed else
-               f"{max_rounds} solves proposed no design not already seen")
-        raise InfeasibleError(f"{topology.id}: no design passes verification", {topology.id: [why]})
-    return found
-
-
-def topology_outcome(topology_id: str, brief: Brief, catalog: Catalog, alternatives: int,
-                     solver: str, step: Callable[[str], None] | None = None) -> TopologyOutcome:
-    """One topology's verified designs for `brief`, or the reasons it has none (never raises for infeasibility);
-    `step` is told what runs now (see verified_designs)."""
-    start = time.perf_counter()
-    model = build_topology(topology_id, brief, catalog)
-    outcome = TopologyOutcome(topology=topology_id, description=model.description, model=model)
-    try:
-        outcome.verified = verified_designs(model, brief, k=alternatives, solver=solver, step=step)
-    except InfeasibleError as exc:
-        outcome.reasons = exc.reasons.get(topology_id) or [str(exc)]
-    except CatalogError as exc:  # no part class of the catalog fits: this topology cannot be built, the rest go on
-        outcome.reasons = [f"cannot be built from the catalog: {p.message}" for p in exc.problems]
-    except TradeoffError:
-        raise
-    except (ValueError, ArithmeticError) as exc:  # a model outside its validity (e.g. a supply below its drops)
-        outcome.reasons = [f"the model cannot evaluate this brief ({exc.__class__.__name__}: {exc}); this is a "
-                           "limit of the tool's model, please report it"]
-    outcome.seconds = time.perf_counter() - start
-    return outcome
-
-
 Progress = Callable[[int, int, str], None]
 """A study's progress hook: progress(done, total, step) with the topologies finished, the number studied
 and what runs now ("rc-schmitt: candidate tables"); the command shell shows it on a terminal."""
 
-
-def _quiet(step: str) -> None:
-    """A step hook that reports nothing."""
 
 
 def _topology_step(tell: Progress, done: int, total: int, topology_id: str, step: str) -> None:
@@ -345,5 +193,11 @@ def study(brief: Brief | str | Path, catalog: Catalog | None = None, *, only: Se
     tell(len(chosen), len(chosen), "ranking")
     evaluations = [ev for o in outcomes for ev in o.evaluations]
     ranking = rank(evaluations, brief.weights, method=method) if evaluations else None
-    return StudyResult(brief=brief, outcomes=outcomes, ranking=ranking, method=method, solver=solver,
-                       cautions=cautions(brief), seconds=time.perf_counter() - start)
+    result = StudyResult(brief=brief, outcomes=outcomes, ranking=ranking, method=method, solver=solver,
+                         cautions=cautions(brief), seconds=time.perf_counter() - start)
+    if brief.analysis.relax != "none":  # the brief asks for what it would take (and the slack with "all")
+        from tradeoff.relax import relax
+
+        relax(result, slack=brief.analysis.relax == "all")
+        result.seconds = time.perf_counter() - start
+    return result

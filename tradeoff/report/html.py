@@ -166,6 +166,11 @@ def _infeasible(result: "StudyResult") -> list[dict[str, Any]]:
              "relax": [r.line for r in result.relaxations or () if r.topology == o.topology]} for o in result.infeasible()]
 
 
+def _slack(result: "StudyResult") -> list[dict[str, Any]]:
+    return [{"topology": t, "lines": [r.line for r in result.slack if r.topology == t]}
+            for t in dict.fromkeys(r.topology for r in result.slack or ())]
+
+
 def _brief_summary(result: "StudyResult") -> list[tuple[str, str, str]]:
     """(key, value with unit, origin) of the brief's values; the path of the file and the title aside."""
     return [(v.key, v.text, v.origin) for v in result.brief.values if v.key not in ("title", "path")]
@@ -191,6 +196,6 @@ def review_html(result: "StudyResult") -> str:
         cautions=result.cautions, headers=headers, rows=rows, designs=_designs(result, figures) if data["designs"] else [],
         pareto=figures.get("pareto"), volume=figures.get("volume"), money_heading=money_heading(result),
         money=money_lines(result), sensitivity=[s.text for s in result.ranking.sensitivity] if result.ranking else [],
-        infeasible=_infeasible(result), top=result.ranking.top if result.ranking else None, strip_width=STRIP_WIDTH,
+        infeasible=_infeasible(result), slack=_slack(result), top=result.ranking.top if result.ranking else None, strip_width=STRIP_WIDTH,
         band=f"{fq(brief.delay.min_s, 's')} to {fq(brief.delay.max_s, 's')}", nominal=fq(brief.delay.nominal_s, "s"),
     )

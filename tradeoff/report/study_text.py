@@ -172,6 +172,17 @@ def _winner(result: "StudyResult", page: _Page) -> None:
         page.bullet(s.text)
 
 
+def _slack(result: "StudyResult", page: _Page) -> None:
+    if not result.slack:
+        return
+    page.heading("Slack: how far each requirement alone could tighten before a topology stops being feasible")
+    for topology in dict.fromkeys(r.topology for r in result.slack):
+        page.bullet(f"{topology}:")
+        for r in result.slack:
+            if r.topology == topology:
+                page.bullet(r.line, level=1)
+
+
 def _infeasible(result: "StudyResult", page: _Page, verbose: bool) -> None:
     infeasible = result.infeasible()
     if not infeasible:
@@ -206,6 +217,7 @@ def render_study(result: "StudyResult", console: Console, verbose: bool = False)
         _winner(result, page)
     else:
         page.heading("No topology meets the brief.")
+    _slack(result, page)
     _infeasible(result, page, verbose)
     if result.cautions:
         page.heading("Cautions: this brief switches a mains load")

@@ -79,6 +79,7 @@ CORNER_VALUES = ("nominal", "at shortest delay", "at longest delay")
 """The corners table's value columns, in each row's SI unit (its `unit` column)."""
 RELAX_COLUMNS = ["topology", "change", "reachable", "to", "brief", "design", "cost per unit [EUR]",
                  "solves [count]"]
+SLACK_COLUMNS = ["topology", "change", "bounded", "up to", "brief", "design", "cost per unit [EUR]", "solves [count]"]
 INFEASIBLE_COLUMNS = ["topology", "description", "reason no. [count]", "reason"]
 BRIEF_COLUMNS = ["key", "value", "text", "unit", "origin", "note"]
 CAUTIONS_COLUMNS = ["no. [count]", "caution"]
@@ -222,6 +223,15 @@ def relax_table(result: "StudyResult") -> pd.DataFrame:
     return _frame(rows, RELAX_COLUMNS)
 
 
+def slack_table(result: "StudyResult") -> pd.DataFrame:
+    """How far each requirement could tighten for each feasible topology (tradeoff.relax; no rows unless asked);
+    bounded false: still feasible at the far end tried."""
+    rows = [{"topology": r.topology, "change": r.label, "bounded": r.bounded, "up to": r.text, "brief": r.original,
+             "design": r.design, "cost per unit [EUR]": r.cost_per_unit_eur, "solves [count]": r.solves}
+            for r in result.slack or ()]
+    return _frame(rows, SLACK_COLUMNS)
+
+
 def brief_table(result: "StudyResult") -> pd.DataFrame:
     """The normalised brief: key, SI value (numbers only; percentages in %), the value as text, unit,
     and whether it was given, a default or derived."""
@@ -255,6 +265,7 @@ TABLES: dict[str, Callable[["StudyResult"], pd.DataFrame]] = {
     "monte_carlo": monte_carlo_table,
     "infeasible": infeasible_table,
     "relax": relax_table,
+    "slack": slack_table,
     "brief": brief_table,
     "cautions": cautions_table,
 }
