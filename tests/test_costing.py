@@ -6,18 +6,20 @@ expected sums are worked by hand in the comments, not by calling the code under 
 from __future__ import annotations
 
 import json
+import re
 
 import pytest
 
 import tradeoff
 from tradeoff.brief import load_brief
 from tradeoff.catalog import load_catalog
-from tradeoff.costing import break_even, price_breaks, unit_cost, unit_price
+from tradeoff.costing import break_even, price_breaks, price_steps, unit_cost, unit_price, volume_grid
 from tradeoff.economics import cost_at
 from tradeoff.errors import BriefError
+from tradeoff.production import DEFAULTS
 from tradeoff.topologies.base import BomLine
 
-from conftest import EXAMPLES
+from conftest import EXAMPLES, ROOT
 
 PRICES = "part,quantity,price\ncounter-cmos-14stage,1,3.00\ncounter-cmos-14stage,5000,2.50\n"
 """Invented demo prices: a counter IC made dear so that a microcontroller pays off at some volume."""
@@ -87,7 +89,7 @@ def test_break_even_volume_flips_the_cheaper_design(tmp_path):
     assert even is not None and even.volume is not None and 100 < even.volume < 10**6
     # hand check with the invented prices: rc-counter 3.512 EUR + 720 EUR / V against mcu 1.276 EUR + 4800 EUR / V
     # (both within the same price breaks between 1000 and 5000 units) -> V = 4080 / 2.236 = 1824.7
-    assert even.volume == 1825
+    assert even.volume == 1825 and even.crossings == (1825,)
     cheaper = {}
     for volume in (even.volume - 1, even.volume):
         rerun = tradeoff.study(load_brief(path).replace({"production.volume": volume}), only=["rc-counter", "mcu"],
@@ -105,8 +107,36 @@ def test_break_even_never_in_the_range():
     assert "no break-even" in even.text
     # the search itself: a step difference found to the unit, and none when one side is always cheaper
     # equal at 1000 units (a tie counts for the first design), so the second is cheaper from 1001
-    assert break_even(lambda v: 5.0, lambda v: 1.0 + 4000.0 / v, 10, 10**5) == 1001
-    assert break_even(lambda v: 5.0, lambda v: 6.0, 10, 10**5) is None
+    assert break_even(lambda v: 5.0, lambda v: 1.0 + 4000.0 / v, 10, 10**5) == [1001]
+    assert break_even(lambda v: 5.0, lambda v: 6.0, 10, 10**5) == []
+
+
+def test_break_even_finds_every_crossing_even_between_sampled_volumes():
+    # Two made-up designs (demo figures): `a` drops from 2.00 to 1.50 EUR of parts at a 1010-unit price break, with
+    # 100 EUR of engineering; `b` has 1.00 EUR of parts and 676 EUR of engineering. `b` is cheaper from about 576
+    # units, `a` again inside 1010 .. 1152 units only, a window between two points of a 61-point log grid
+    # (1000 and 1166 units), and `b` after it. Reference: the sign of a - b at every whole volume.
+    def a(v: int) -> float:
+        return (2.0 if v < 1010 else 1.5) + 100.0 / v
+
+    def b(v: int) -> float:
+        return 1.0 + 676.0 / v
+
+    grid = volume_grid(10, 10**5)
+    assert not any(1010 <= v <= 1152 for v in grid)  # sampling alone would miss the window
+    scanned = [v for v in range(11, 10**5 + 1) if (a(v) <= b(v)) != (a(v - 1) <= b(v - 1))]
+    assert len(scanned) == 3 and scanned[1] == 1010
+    assert break_even(a, b, 10, 10**5, steps={1010}) == scanned
+
+
+def test_price_steps_are_where_a_line_reaches_a_break():
+    # the shipped microcontroller breaks at 1000 and 10000 units bought: 1, 1000 and 10000 units for one per board;
+    # two per board reach them at 500 and 5000 boards
+    catalog = load_catalog()
+    production = load_brief(EXAMPLES / "fan_run_on.yaml").production
+    price = catalog.part("mcu-8bit-small").cost
+    assert price_steps([BomLine("U1", "mcu-8bit-small", "", 1, price)], catalog, production) == {1, 1000, 10000}
+    assert price_steps([BomLine("U1, U2", "mcu-8bit-small", "", 2, price)], catalog, production) == {1, 500, 5000}
 
 
 def test_volume_plot_and_tables(tmp_path):
@@ -145,3 +175,11 @@ def test_unknown_topology_in_engineering_hours(tmp_path):
     with pytest.raises(BriefError, match=r"fan.yaml:\d+:\d+: production.engineering_hours.mcuu: unknown topology "
                                          r"'mcuu' \(did you mean 'mcu'\?\)"):
         tradeoff.study(path, only=["mcu"], samples=300)
+
+
+def test_the_readme_gives_the_production_defaults():
+    # the README's field table states every numeric default of production.DEFAULTS as the code has it
+    readme = (ROOT / "README.md").read_text(encoding="utf-8").split("## Production cost and break-even")[1]
+    rows = dict(re.findall(r"^\| `(\w+)`(?:, `\w+`)? \| ([^|]+) \|", readme.split("\n## ")[0], flags=re.MULTILINE))
+    rows["sweep_min"], rows["sweep_max"] = rows["sweep_min"].split(",")
+    assert {key: float(rows[key]) for key in DEFAULTS} == {key: float(value) for key, value in DEFAULTS.items()}

@@ -17,7 +17,7 @@ Settings come from the brief's `production:` section (tradeoff.production).
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -25,7 +25,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Catalog
     from tradeoff.production import Production
 
-__all__ = ["UnitCost", "price_breaks", "unit_price", "unit_cost", "break_even", "volume_grid"]
+__all__ = ["UnitCost", "price_breaks", "unit_price", "unit_cost", "price_steps", "break_even", "volume_grid"]
 
 
 @dataclass(frozen=True)
@@ -112,25 +112,46 @@ def volume_grid(low: int, high: int, points: int = 61) -> list[int]:
     return sorted({int(round(low * math.exp(i * step))) for i in range(points)} | {high})
 
 
-def break_even(a: Callable[[int], float], b: Callable[[int], float], low: int, high: int) -> int | None:
-    """The least whole volume in [low, high] from which the cheaper of designs `a` and `b` (cost per unit; a tie
-    counts for `a`) is the other one than at `low`; None ("never in the range") when it does not change.
+def price_steps(bom: Sequence[Any], catalog: "Catalog", production: "Production") -> set[int]:
+    """Volumes at which a BOM's parts cost per unit may change: where the units bought of a line (its quantity x
+    the volume) first reach one of its price breaks. Between two of them the cost per unit is a constant plus
+    engineering over volume."""
+    steps = set()
+    for line in bom:
+        if line.quantity > 0:
+            breaks = price_breaks(line.part, line.unit_cost, catalog, production)
+            steps |= {max(1, math.ceil(quantity / line.quantity)) for quantity, _ in breaks}
+    return steps
 
-    The cost difference is a step function of the volume (price breaks) plus engineering over volume; the
-    first sign change is found on a 61-point log grid, then narrowed to one unit by bisection, so volume - 1
-    and volume are on opposite sides (a second crossing between two grid points would go unseen).
+
+def break_even(a: Callable[[int], float], b: Callable[[int], float], low: int, high: int,
+               steps: Iterable[int] = ()) -> list[int]:
+    """Every whole volume in [low, high] from which the cheaper of designs `a` and `b` (cost per unit; a tie
+    counts for `a`) is the other one than just below it, rising; [] when one is cheaper all through ("never in
+    the range").
+
+    Exact, not sampled: `steps` are the volumes where either cost may jump (price_steps of both BOMs). Between
+    two steps each cost is a constant plus engineering over volume, so their difference c + e / v is monotonic
+    and changes sign at most once there; that one change is found by bisection to the unit, so volume - 1 and
+    volume are on opposite sides of every crossing.
     """
-    def sign(v: int) -> bool:
+    def cheaper_is_a(v: int) -> bool:
         return a(v) <= b(v)
 
-    grid = volume_grid(low, high)
-    first = sign(grid[0])
-    changed = next((i for i, v in enumerate(grid) if sign(v) != first), None)
-    if changed is None:
-        return None
-    lo, hi = grid[changed - 1], grid[changed]
-    while hi - lo > 1:
-        mid = (lo + hi) // 2
-        lo, hi = (mid, hi) if sign(mid) == first else (lo, mid)
-    return hi
-
+    starts = sorted({low} | {s for s in steps if low < s <= high})
+    crossings = []
+    side = cheaper_is_a(low)
+    for first, after in zip(starts, starts[1:] + [high + 1]):
+        last = after - 1
+        if cheaper_is_a(first) != side:  # a jump at the step itself
+            crossings.append(first)
+            side = not side
+        if cheaper_is_a(last) == side:
+            continue
+        lo, hi = first, last  # side at lo, the other side at hi
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            lo, hi = (mid, hi) if cheaper_is_a(mid) == side else (lo, mid)
+        crossings.append(hi)
+        side = not side
+    return crossings

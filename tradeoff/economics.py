@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from tradeoff.costing import UnitCost, break_even, unit_cost, volume_grid
+from tradeoff.costing import UnitCost, break_even, price_steps, unit_cost, volume_grid
 
 __all__ = ["BreakEven", "cost_at", "break_even_of", "volume_sweep", "economics"]
 
@@ -18,7 +18,9 @@ class BreakEven:
     """Where the winner and the runner-up cost the same per unit, searched over [low, high] units.
 
     volume: the least volume from which the cheaper of the two is the other one (None: never in the range);
-    cheaper_below / cheaper_above: the cheaper design below and from that volume.
+    cheaper_below / cheaper_above: the cheaper design below and from that volume; crossings: every volume from
+    which the cheaper changes, rising (price breaks can make it change back), exact to the unit
+    (tradeoff.costing.break_even).
     """
 
     first: str
@@ -28,6 +30,7 @@ class BreakEven:
     high: int
     cheaper_below: str
     cheaper_above: str
+    crossings: tuple[int, ...] = ()
 
     @property
     def text(self) -> str:
@@ -36,13 +39,16 @@ class BreakEven:
             return (f"{self.cheaper_below} costs less per unit than "
                     f"{self.second if self.cheaper_below == self.first else self.first} at every volume from "
                     f"{self.low:,} to {self.high:,} units: no break-even in the range")
+        again = "".join(f"{', ' if i else '; the cheaper changes again from '}{v:,}"
+                        for i, v in enumerate(self.crossings[1:]))
         return (f"break-even at {self.volume:,} units: below it {self.cheaper_below} costs less per unit, from it "
-                f"{self.cheaper_above}")
+                f"{self.cheaper_above}{again + ' units' if again else ''}")
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready; `volume` null means never in the range."""
         return {"first": self.first, "second": self.second, "volume": self.volume, "range": [self.low, self.high],
-                "cheaper_below": self.cheaper_below, "cheaper_above": self.cheaper_above, "text": self.text}
+                "cheaper_below": self.cheaper_below, "cheaper_above": self.cheaper_above,
+                "crossings": list(self.crossings), "text": self.text}
 
 
 def cost_at(ev: Any, model: Any, volume: int) -> UnitCost:
@@ -66,10 +72,12 @@ def break_even_of(result: Any) -> BreakEven | None:
     def b(v: int) -> float:
         return cost_at(ev_b, out_b.model, v).per_unit_eur
 
-    volume = break_even(a, b, low, high)
+    steps = price_steps(ev_a.bom, out_a.model.catalog, production) | price_steps(ev_b.bom, out_b.model.catalog,
+                                                                                  production)
+    crossings = break_even(a, b, low, high, steps)
     below = name_a if a(low) <= b(low) else name_b
-    above = below if volume is None else (name_b if below == name_a else name_a)
-    return BreakEven(name_a, name_b, volume, low, high, below, above)
+    above = below if not crossings else (name_b if below == name_a else name_a)
+    return BreakEven(name_a, name_b, crossings[0] if crossings else None, low, high, below, above, tuple(crossings))
 
 
 def volume_sweep(result: Any, points: int = 61) -> dict[str, Any]:

@@ -40,10 +40,10 @@ def volume_figure(result: "StudyResult", figure_class) -> "Figure | None":
         right = (volumes[i] * volumes[i + 1]) ** 0.5 if i + 1 < len(volumes) else volumes[-1]
         curves.axvspan(left, right, ymin=0.0, ymax=0.03, color=styles[ev.topology].colour, linewidth=0)
     even = break_even_of(result)
-    if even is not None and even.volume is not None:
-        curves.axvline(even.volume, color=style.LINE_COLOUR, linestyle="--", linewidth=1.2)
-        curves.annotate(f"break-even {even.volume:,} units", (even.volume, curves.get_ylim()[1]),
-                        textcoords="offset points", xytext=(4, -12), fontsize=8)
+    for i, volume in enumerate(() if even is None else even.crossings):  # exact to the unit, not the sampled volumes
+        curves.axvline(volume, color=style.LINE_COLOUR, linestyle="--", linewidth=1.2)
+        curves.annotate(f"break-even {volume:,} units", (volume, curves.get_ylim()[1]),
+                        textcoords="offset points", xytext=(4, -12 * (i + 1)), fontsize=8)
     curves.set_xscale("log")
     curves.set_yscale("log")
     curves.yaxis.set_major_formatter(EngFormatter(unit="EUR"))
