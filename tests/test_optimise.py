@@ -13,6 +13,7 @@ import math
 import os
 import subprocess
 import sys
+import warnings
 from pathlib import Path
 from types import SimpleNamespace as NS
 
@@ -335,12 +336,14 @@ def test_a_spread_wider_than_the_band_is_named_before_a_band_edge_out_of_reach()
         "the band's minimum is 19 s"]
 
 
-def test_sum_mode_smallest_spread_matches_brute_force():
-    """Dinkelbach's ratio search against the smallest ratio over every combination."""
+@pytest.mark.parametrize("zero_block", [False, True], ids=["all-timed", "with-a-zero-delay-block"])
+def test_sum_mode_smallest_spread_matches_brute_force(zero_block):
+    """Dinkelbach's ratio search against the smallest ratio over every combination; a block whose rows add no
+    delay (a fixed stage) must neither warn of a division by zero nor change the answer."""
     rng = np.random.default_rng(4)
     blocks = []
-    for name in ("a", "b", "c"):
-        v = rng.uniform(1, 10, 6)
+    for name in ("a", "b", "c", "z")[:4 if zero_block else 3]:
+        v = rng.uniform(1, 10, 6) * (name != "z")
         blocks.append(Block(name, pd.DataFrame({
             "delay_lo": v * (1 - rng.uniform(0, 0.3, 6)), "delay_nom": v, "delay_hi": v * (1 + rng.uniform(0, 0.3, 6)),
             "cost": 0.0, "placements": 1, "lines": 1, "during_a": 0.0, "after_a": 0.0})))
@@ -348,7 +351,9 @@ def test_sum_mode_smallest_spread_matches_brute_force():
     tables = [b.table.to_dict("records") for b in blocks]
     brute = min(sum(r["delay_hi"] for r in c) / sum(r["delay_lo"] for r in c) for c in itertools.product(*tables))
     tables = SelectionProblem(model, (10, 20), NO_LIMITS, EQUAL_WEIGHTS).tables
-    assert Explainer(tables, "highs")._smallest_spread() == pytest.approx(brute)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        assert Explainer(tables, "highs")._smallest_spread() == pytest.approx(brute)
 
 
 def test_standard_values_miss_a_narrow_band_between_them():

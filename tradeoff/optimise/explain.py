@@ -72,7 +72,8 @@ class Explainer:
         if t.product:
             return math.exp(sum(float(np.min(h - l)) for l, h in zip(lo, hi)))
         # Dinkelbach's method for min sum(hi)/sum(lo): each step minimises sum(hi − λ·lo), separable by block.
-        rows = [int(np.argmin(h / l)) for l, h in zip(lo, hi)]
+        # Any start converges; the shortest longest-delay row avoids dividing by a zero-delay fixed block.
+        rows = [int(np.argmin(h)) for h in hi]
         ratio = math.inf
         while True:
             new = sum(h[r] for h, r in zip(hi, rows)) / sum(l[r] for l, r in zip(lo, rows))
