@@ -73,6 +73,32 @@ def test_golden_report_at_width(width):
     assert max(len(line) for line in text.splitlines()) <= width
 
 
+# A line that ends in a bare number whose unit or counted word opens the next line: "(9" / "parts)".
+_SPLIT_FIGURE = re.compile(r"(?<![\w.])\d[\d.,]*\n\s*(?:of \d|(?:[kMµnpm]?(?:Ω|F|V|A|W|s)|h|min|°C|%|EUR|"
+                           r"parts?|samples|stages?|rails?)(?![\w]))")
+
+
+@pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
+@pytest.mark.parametrize("width", [40, 72, 80])
+def test_no_number_is_parted_from_its_unit_by_a_line_break(brief, width):
+    """Wrapped prose keeps '9 parts', '2.3 h', '5 °C' and '0.7 of 1' on one line (tables excepted: their
+    columns have unit headers), and wrapping loses no word."""
+    text = _text(_study(brief), width, verbose=True)
+    assert not _SPLIT_FIGURE.findall(text)
+
+
+def test_wrap_lines_keeps_every_word_and_the_width():
+    """The no-break glue is only a wrapping aid: the words come back unchanged and no line is wider than asked."""
+    from tradeoff.report.terminal import wrap_lines
+    text = ("loses on highest cost per unit (6.08 EUR), most engineering effort (0.7 of 1), 17 parts, "
+            "at 5 °C, 11 V against the band maximum 2.3 h (44.9 % of the band to spare)")
+    for width in range(24, 90, 7):
+        lines = wrap_lines(text, width, "  - ", "    ")
+        assert " ".join(" ".join(lines).split()[1:]) == text
+        assert max(map(len, lines)) <= width
+        assert all(not re.search(r"\d$", line) for line in lines[:-1])
+
+
 @pytest.mark.parametrize("brief", EXAMPLES, ids=lambda p: p.stem)
 @pytest.mark.parametrize("width", [72, 80, 100, 160])
 def test_no_line_wider_than_the_page(brief, width):

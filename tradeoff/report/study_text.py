@@ -9,7 +9,6 @@ within it, bullets are wrapped here with a hanging indent.
 """
 from __future__ import annotations
 
-import textwrap
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -18,7 +17,7 @@ from rich.console import Console
 from tradeoff.plain import assumptions, part_classes, schematic_values
 from tradeoff.report.labels import in_unit, margin_text, short_reason, span_in, split_reason, time_unit
 from tradeoff.report.money import money_heading, money_lines
-from tradeoff.report.terminal import delay_text, render_bom, render_rows
+from tradeoff.report.terminal import delay_text, render_bom, render_rows, wrap_lines
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -119,8 +118,7 @@ class _Page:
         self._emit(text, lead, " " * len(lead))
 
     def _emit(self, text: str, first: str, rest: str) -> None:
-        wrapped = textwrap.fill(text, width=self.console.width, initial_indent=first, subsequent_indent=rest,
-                                break_on_hyphens=False)
+        wrapped = "\n".join(wrap_lines(text, self.console.width, first, rest))
         self.console.print(wrapped, highlight=False, markup=False, soft_wrap=True)
 
 

@@ -34,14 +34,12 @@ def render_sweep(result: "SweepResult", console: "Console") -> None:
     """The sweep table within the console's width: per grid point the varied values, the winner
     and its score, its worst-case delay, yield, standby after the timeout, parts and cost, and how
     many topologies can meet the brief; the runner-up (or why nothing wins) on the line below."""
-    import textwrap
-
     from tradeoff.report.labels import span_in, time_unit
-    from tradeoff.report.terminal import render_rows
+    from tradeoff.report.terminal import render_rows, wrap_lines
 
     head = (f"{result.title}: sweep of {len(result.points)} points, ranked by {result.method}; Monte Carlo "
             f"{result.samples} samples, seed {result.seed}; topologies {', '.join(result.topologies)}")
-    for line in textwrap.wrap(head, console.width, break_on_hyphens=False):
+    for line in wrap_lines(head, console.width):
         console.print(line, highlight=False, markup=False)
     rows, details = [], []
     for point in result.points:
@@ -61,8 +59,8 @@ def render_sweep(result: "SweepResult", console: "Console") -> None:
     render_rows(console, "Winner per grid point (scores 0 to 1, higher is better)", headers, rows, details,
                 left=(axes,))
     for note in result.notes:
-        for i, line in enumerate(textwrap.wrap(f"Note: {note}", console.width, break_on_hyphens=False)):
-            console.print(("      " if i else "") + line, highlight=False, markup=False)
+        for line in wrap_lines(f"Note: {note}", console.width, rest="      "):
+            console.print(line, highlight=False, markup=False)
 
 
 def workbook_bytes(result: "SweepResult") -> bytes:

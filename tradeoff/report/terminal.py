@@ -7,6 +7,7 @@ figure carries its unit (tradeoff.units.format_quantity); a delay that never end
 from __future__ import annotations
 
 import math
+import re
 import textwrap
 from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING
@@ -27,7 +28,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import BomLine, Evaluation, Topology
 
 __all__ = ["render_evaluation", "render_bom", "render_rows", "delay_text", "quantity_text", "report_console",
-           "TABLE_BOX", "PIPED_WIDTH"]
+           "TABLE_BOX", "PIPED_WIDTH", "wrap_lines"]
 
 _SUFFIX_UNITS = (("_ohm", "ohm"), ("_hz", "Hz"), ("_s", "s"), ("_v", "V"), ("_a", "A"), ("_f", "F"), ("_c", "degC"),
                  ("_w", "W"), ("_frac", "%"))
@@ -96,9 +97,22 @@ def _role_unit(name: str, quantities: "Mapping[str, Uncertain] | None") -> str:
     return "ohm" if name.startswith("r_") else "F"
 
 
+# A space after a number, before the word it counts or the unit it carries ("9 parts", "2.3 h", "5 °C"),
+# and the spaces of "0.7 of 1": a line break there would leave a bare number at a line's end.
+_NUMBER_SPACE = re.compile(r"(?<=\d) (?=[^\s\d(\[–-])|(?<=\d of) (?=\d)")
+_KEEP = "\u00a0"  # textwrap breaks only at ASCII whitespace, so a no-break space holds the pair together
+
+
+def wrap_lines(text: str, width: int, first: str = "", rest: str = "") -> list[str]:
+    """`text` wrapped to `width` columns after the indents `first` and `rest`, never between a number and its
+    unit or counted word; hyphenated words stay whole."""
+    held = _NUMBER_SPACE.sub(_KEEP, text.replace(_KEEP, " "))
+    return [line.replace(_KEEP, " ") for line in textwrap.wrap(
+        held, width=width, initial_indent=first, subsequent_indent=rest, break_on_hyphens=False)]
+
+
 def _wrapped(text: str, width: int, indent: int) -> str:
-    return textwrap.fill(text, width=width, initial_indent=" " * indent, subsequent_indent=" " * indent,
-                         break_on_hyphens=False)
+    return "\n".join(wrap_lines(text, width, " " * indent, " " * indent))
 
 
 def render_rows(console: Console, title: str, headers: Sequence[str], rows: Sequence[Sequence[str]],
