@@ -5,6 +5,7 @@ independent `eseries` package (PyPI, test-only); bisection against a linear coun
 """
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import eseries as oracle  # independent IEC 60063 implementation, test-only
@@ -35,7 +36,7 @@ def _oracle_values(name: str, lo: float, hi: float) -> list[float]:
 @pytest.mark.parametrize("series", ["E24", "E96"])
 def test_series_pairs_are_every_total_of_two_standard_values_a_single_lacks(series, catalog):
     brief = load_brief(EXAMPLES / "towel_rail_boost.yaml").replace({"series.resistor": series, "series.pairs": True})
-    role = Role("r", "resistor", 100e3, 300e3, "test resistor")
+    role = Role("r", "resistor", "test resistor", lo=100e3, hi=300e3)
     part = catalog.parts("resistor")[0]
     table = candidates.role_candidates(role, brief, catalog, [part])
     lo, hi = max(role.lo, part.value("min_value", "ohm")), min(role.hi, part.value("max_value", "ohm"))
@@ -88,11 +89,17 @@ def test_windowed_hold_table_equals_the_full_scan(topology, example, pairs, cata
     # bisection along the monotone role (r_hold for the MOSFET, c_hold for the Darlington) keeps the rows and
     # dropped counts a scan of every (r_hold, c_hold) pair keeps; the scan also fails on a decreasing worst case
     import window_reference
-    from tradeoff.topologies import bands
+    from tradeoff.topologies import bands, hold
     from tradeoff.topologies.registry import build_topology
 
     brief = load_brief(EXAMPLES / example).replace({"series.resistor": "E6", "series.electrolytic": "E6",
                                                     "series.film": "E6", "series.pairs": pairs})
+    # hold values of 10 kohm to 10 Mohm and 1 uF to 4.7 mF keep the scan of every pair short
+    limits = {"r_hold": (10e3, 10e6), "c_hold": (1e-6, 4.7e-3)}
+    roles = hold.RcHoldTopology.roles
+    monkeypatch.setattr(hold.RcHoldTopology, "roles", lambda self: [
+        dataclasses.replace(r, lo=limits[r.name][0], hi=limits[r.name][1]) if r.name in limits else r
+        for r in roles(self)])
     windowed = build_topology(topology, brief, catalog).selection().blocks[0]
     monkeypatch.setattr(bands, "leading_below", window_reference.full_scan)
     scanned = build_topology(topology, brief, catalog).selection().blocks[0]

@@ -52,8 +52,8 @@ CAUTION_IDEAS = (
 @pytest.fixture(scope="module")
 def mains():
     """Bathroom fan run-on (230 V fan, mains): an oscillator counter and a microcontroller meet it,
-    the comparator hold does not."""
-    return study(EXAMPLES / "fan_run_on.yaml", samples=SAMPLES, only=["rc-counter", "mcu", "rc-comparator"])
+    the 555 monostable does not."""
+    return study(EXAMPLES / "fan_run_on.yaml", samples=SAMPLES, only=["rc-counter", "mcu", "timer555"])
 
 
 @pytest.fixture(scope="module")
@@ -161,7 +161,7 @@ def test_si_tables_equal_the_json(mains, mains_files):
         assert corners["unit"].notna().all()
     infeasible = sheets["infeasible"]
     assert list(infeasible["reason"]) == [r for o in data["infeasible"] for r in o["reasons"]]
-    assert set(infeasible["topology"]) == {"rc-comparator"}
+    assert set(infeasible["topology"]) == {"timer555"}
     brief = sheets["brief"].set_index("key")
     assert _same(brief.loc["delay.nominal", "value"], data["brief"]["delay"]["nominal_s"])
     assert _same(brief.loc["supply.min", "value"], data["brief"]["supply"]["min_v"])

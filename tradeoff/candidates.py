@@ -22,13 +22,14 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Catalog, Part
     from tradeoff.topologies.base import Role
 
-__all__ = ["role_candidates", "series_for", "rated_voltage", "CANDIDATE_COLUMNS", "VOLTAGE_DERATING",
+__all__ = ["role_candidates", "allowed_classes", "voltage_coefficient", "series_for", "rated_voltage",
+           "CANDIDATE_COLUMNS", "VOLTAGE_DERATING",
            "leading_below", "window_rows", "chunks", "EVALUATION_CHUNK"]
 
-CANDIDATE_COLUMNS = ("value", "part", "series", "tolerance", "tempco", "cost", "placements", "first", "second",
-                     "rated_v")
+CANDIDATE_COLUMNS = ("value", "part", "series", "tolerance", "tempco", "voltage_coefficient", "cost", "placements",
+                     "first", "second", "rated_v")
 """value [ohm or F]; part: catalog class id; series: E-series used; tolerance [fraction];
-tempco [1/K]; cost [EUR, indicative, for all parts of the candidate]; placements (1, or 2 for a
+tempco [1/K]; voltage_coefficient [1/V] (`voltage_coefficient`); cost [EUR, indicative, for all parts of the candidate]; placements (1, or 2 for a
 pair); first, second: the pair's two standard values (second is 0 for a single part);
 rated_v: capacitor voltage rating chosen [V] (0 for resistors)."""
 
@@ -52,11 +53,24 @@ def rated_voltage(part: "Part", supply_max_v: float) -> float | None:
     return None
 
 
-def _classes(role: "Role", catalog: "Catalog") -> list["Part"]:
+def voltage_coefficient(part: "Part") -> float:
+    """Bound of a resistor class's voltage coefficient [1/V]: its value moves by at most this fraction per
+    volt across it; 0 for a class that states none (film resistors: negligible at these voltages)."""
+    return part.value("voltage_coefficient", "1/V") if part.has("voltage_coefficient") else 0.0
+
+
+def allowed_classes(role: "Role", catalog: "Catalog") -> list["Part"]:
+    """The catalog's part classes that may fill `role`: its kind, and for a capacitor its dielectrics."""
     parts = catalog.parts(role.kind)
     if role.kind == "capacitor" and role.dielectrics:
         parts = [p for p in parts if p.fields.get("dielectric") in role.dielectrics]
     return parts
+
+
+def _class_range(role: "Role", part: "Part") -> tuple[float, float]:
+    """Values [ohm or F] of `part` that `role` may take: the class's min_value to max_value within the role's limits."""
+    unit = "ohm" if role.kind == "resistor" else "F"
+    return max(role.lo, part.value("min_value", unit)), min(role.hi, part.value("max_value", unit))
 
 
 def _series_pairs(base: np.ndarray, lo: float, hi: float, singles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -76,9 +90,8 @@ def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: l
     classes: restrict to these part classes (default: every class of the role's kind and dielectric).
     """
     tables = []
-    for part in classes if classes is not None else _classes(role, catalog):
-        lo = max(role.lo, part.value("min_value", "ohm" if role.kind == "resistor" else "F"))
-        hi = min(role.hi, part.value("max_value", "ohm" if role.kind == "resistor" else "F"))
+    for part in classes if classes is not None else allowed_classes(role, catalog):
+        lo, hi = _class_range(role, part)
         if lo > hi:
             continue
         rated = 0.0
@@ -98,6 +111,7 @@ def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: l
         tables.append(pd.DataFrame({
             "value": np.where(seconds > 0, np.round(firsts + seconds, 12), firsts), "part": part.id, "series": series,
             "tolerance": part.value("tolerance", ""), "tempco": part.value("tempco", "1/K"),
+            "voltage_coefficient": voltage_coefficient(part),
             "cost": placements * part.cost, "placements": placements, "first": firsts, "second": seconds,
             "rated_v": rated}, columns=list(CANDIDATE_COLUMNS)))
     table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=list(CANDIDATE_COLUMNS))

@@ -35,12 +35,16 @@ LEAK_LEVEL = "leak_level"
 """Name of the uncertain leakage level: -1 no leakage, 0 a typical part, +1 the datasheet limit."""
 
 
-def band_frac(tolerance_frac, tempco_per_k, ambient_min_c: float, ambient_max_c: float):
+def band_frac(tolerance_frac, tempco_per_k, ambient_min_c: float, ambient_max_c: float, voltage_coefficient_per_v=0.0,
+              volts: float = 0.0):
     """Half-width of a resistor's or capacitor's value band [fraction]: tolerance plus tempco times the
-    largest distance of the ambient range from 25 degC (the class datasheets give the tempco as a bound
-    without sign, so it widens the band symmetrically: a conservative fold)."""
+    largest distance of the ambient range from 25 degC, plus a resistor's voltage coefficient [1/V] times
+    the largest voltage across it [V] (MIL-STD-202 method 309 defines the coefficient as the relative change
+    of resistance per volt between 10 % and 100 % of the rated voltage). The class datasheets give both
+    coefficients as bounds (the tempco without sign; thick film's resistance falls with voltage), so each
+    widens the band symmetrically: a conservative fold."""
     swing = max(abs(ambient_min_c - TEMPCO_REFERENCE_C), abs(ambient_max_c - TEMPCO_REFERENCE_C))
-    return tolerance_frac + tempco_per_k * swing
+    return tolerance_frac + tempco_per_k * swing + voltage_coefficient_per_v * volts
 
 
 def electrolytic_leakage_a(c_f, v_applied, v_rated, temp_c, part, typical: bool = False) -> np.ndarray:

@@ -123,7 +123,8 @@ def render_rows(console: Console, title: str, headers: Sequence[str], rows: Sequ
 
     left: indices of left-aligned columns (the others align right); gap_before: row indices that
     start a new group after a blank line. Two spaces between columns where the width allows, one
-    otherwise; on a page narrower still, the second column moves to the start of the row's details.
+    otherwise; on a page narrower still, the second column moves to the start of the row's details, and
+    then the next ones (each with its heading) until the rest fits.
     """
     details = list(details) if details else [None] * len(rows)
     split = [tuple(h.split("\n", 1)) if "\n" in h else (h, "") for h in headers]
@@ -135,10 +136,14 @@ def render_rows(console: Console, title: str, headers: Sequence[str], rows: Sequ
     columns = list(range(len(headers)))
     widths = widths_of(columns)
     gap = 2 if sum(widths) + 2 * (len(widths) - 1) <= width else 1
-    if sum(widths) + len(widths) - 1 > width and len(columns) > 2:
-        moved = columns.pop(1)
-        details = [f"{row[moved]}: {d}" if d else row[moved] for row, d in zip(rows, details)]
+    moved: list[int] = []
+    while sum(widths) + len(widths) - 1 > width and len(columns) > 2:
+        moved.append(columns.pop(1))
         widths = widths_of(columns)
+    if moved:
+        def lead(row: Sequence[str]) -> str:
+            return ", ".join([row[moved[0]], *(f"{' '.join(filter(None, split[i]))} {row[i]}" for i in moved[1:])])
+        details = [f"{lead(row)}: {d}" if d else lead(row) for row, d in zip(rows, details)]
 
     def line(texts: Sequence[str]) -> str:
         return (" " * gap).join(texts[i].ljust(w) if i in left else texts[i].rjust(w)

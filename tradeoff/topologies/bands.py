@@ -1,7 +1,8 @@
 """Value bands and candidate tables shared by the RC timing topologies: the uniform band of a resistor
-or capacitor (tolerance plus tempco over the brief's ambient, `devices.capacitor.band_frac`, plus an
-electrolytic's capacitance change over the brief's service life, `devices.life`), the board-surface
-leakage a brief may state at the timing node, every (resistor, capacitor) candidate pair of two value
+or capacitor (tolerance plus tempco over the brief's ambient, plus a resistor's voltage coefficient at the
+supply's maximum, `devices.capacitor.band_frac`, plus an electrolytic's capacitance change over the brief's
+service life, `devices.life`), the board-surface leakage a brief may state at the timing node, every
+(resistor, capacitor) candidate pair of two value
 roles, the pairs whose worst case can lie in the band (found by bisection where the worst case grows with
 one role's value), and the count of candidates a design rule removed (by reason, for the optimiser's
 infeasibility explanations).
@@ -14,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain
-from tradeoff.candidates import leading_below, role_candidates, window_rows
+from tradeoff.candidates import leading_below, role_candidates, voltage_coefficient, window_rows
 from tradeoff.devices.capacitor import band_frac
 from tradeoff.devices.life import electrolytic_ageing, surface_conductance_s
 from tradeoff.units import format_quantity as fq
@@ -65,10 +66,11 @@ def outlived(part: "Part", brief: "Brief") -> bool:
 
 def component_band(value: float, part: "Part", brief: "Brief", note: str) -> Uncertain:
     """Value spread of a resistor or capacitor [ohm or F]: tolerance plus tempco over the brief's ambient
-    range (`devices.capacitor.band_frac`) plus the change over the service life (`life_change_frac`), uniform."""
+    range and a resistor's voltage coefficient at the supply's maximum (no resistor of these circuits sees
+    more; `devices.capacitor.band_frac`), plus the change over the service life (`life_change_frac`), uniform."""
     life = life_change_frac(part, brief)
     spread = band_frac(part.value("tolerance", ""), part.value("tempco", "1/K"), brief.ambient.min_c,
-                       brief.ambient.max_c) + life
+                       brief.ambient.max_c, voltage_coefficient(part), brief.supply.max_v) + life
     if not spread < 1:  # the value could reach zero: a part no model can use
         raise part.param_error("tolerance", f"tolerance plus tempco over the ambient range (and any change over the "
                                            f"service life) make a band of "
@@ -102,7 +104,8 @@ def role_tables(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalo
         table = table[~table["part"].isin(gone)].reset_index(drop=True) if gone else table
         life = table["part"].map({p: life_change_frac(catalog.part(p), brief) for p in table["part"].unique()}) \
             if len(table) else 0.0
-        table = table.assign(spread=(band_frac(table["tolerance"], table["tempco"], amb.min_c, amb.max_c) + life)
+        table = table.assign(spread=(band_frac(table["tolerance"], table["tempco"], amb.min_c, amb.max_c,
+                                               table["voltage_coefficient"], brief.supply.max_v) + life)
                              .to_numpy(float) if len(table) else np.zeros(0))
         tables.append(table[table["spread"] < 1].reset_index(drop=True))
     return tables[0], tables[1]

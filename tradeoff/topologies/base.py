@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from abc import ABC, abstractmethod
-from dataclasses import dataclass, field
+from dataclasses import KW_ONLY, dataclass, field
 from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping
 
 import numpy as np
@@ -43,17 +43,21 @@ NOMINAL_AMBIENT_C = 25.0
 class Role:
     """A component value the optimiser picks.
 
-    kind: 'resistor' or 'capacitor'; categories: catalog categories allowed (e.g. ('capacitor',));
-    dielectrics: for capacitors, which dielectrics ('electrolytic', 'film', 'ceramic') may fill it;
-    lo, hi: allowed value range [ohm] or [F]; description in the designer's words.
+    kind: 'resistor' or 'capacitor'; dielectrics: for capacitors, which dielectrics ('electrolytic',
+    'film', 'ceramic') may fill it; description in the designer's words. The values searched are those
+    the allowed part classes make (their min_value to max_value at the brief's series,
+    `candidates.role_candidates`); lo, hi [ohm] or [F] narrow that only where the circuit itself sets a limit
+    (a datasheet's recommended range), and `limit` says which, for the designer (empty: no such limit).
     """
 
     name: str
     kind: Literal["resistor", "capacitor"]
-    lo: float
-    hi: float
     description: str
     dielectrics: tuple[str, ...] = ()
+    _: KW_ONLY
+    lo: float = 0.0
+    hi: float = math.inf
+    limit: str = ""
 
 
 @dataclass(frozen=True)
@@ -446,19 +450,32 @@ class Topology(ABC):
         return ev
 
     def value_range_findings(self, design: Design) -> list[Finding]:
-        """A violation for each value outside the practical range (`min_value` to `max_value`) of the part
-        class the design names for it (option '<role>_part'), so analyze and the study agree on what can be
-        bought."""
+        """A violation for each value outside the limit the circuit sets for its role (`Role.lo` to `hi`),
+        each value on a capacitor class of a dielectric the role does not take, and each value outside the
+        practical range (`min_value` to `max_value`) of the part class the design names for it (option
+        '<role>_part'): the same rules the study's candidate tables apply, so analyze and the study agree on
+        what can be built."""
         out = []
         for role in self.roles():
             part_id = design.options.get(f"{role.name}_part")
             value = design.values.get(role.name)
-            if not isinstance(part_id, str) or part_id not in self.catalog or value is None:
-                continue
-            part = self.catalog.part(part_id)
-            if not (part.has("min_value") and part.has("max_value")):
+            if value is None:
                 continue
             unit = "ohm" if role.kind == "resistor" else "F"
+            if not role.lo * (1 - 1e-9) <= value <= role.hi * (1 + 1e-9):
+                accepted = (f"at least {format_quantity(role.lo, unit)}" if math.isinf(role.hi) else
+                            f"{format_quantity(role.lo, unit)} to {format_quantity(role.hi, unit)}")
+                out.append(Finding("violation", "value-range", f"{role.description} {format_quantity(value, unit)} "
+                                   f"is outside what the circuit allows ({role.limit}); accepted: {accepted}"))
+            if not isinstance(part_id, str) or part_id not in self.catalog:
+                continue
+            part = self.catalog.part(part_id)
+            dielectric = part.fields.get("dielectric")
+            if role.kind == "capacitor" and role.dielectrics and dielectric not in role.dielectrics:
+                out.append(Finding("violation", "value-range", f"{role.description} on {part.id}: a {dielectric} "
+                                   f"capacitor; accepted: {' or '.join(role.dielectrics)} classes"))
+            if not (part.has("min_value") and part.has("max_value")):
+                continue
             lo, hi = part.value("min_value", unit), part.value("max_value", unit)
             if not lo * (1 - 1e-9) <= value <= hi * (1 + 1e-9):
                 out.append(Finding("violation", "value-range",

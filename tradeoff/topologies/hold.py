@@ -178,13 +178,14 @@ class RcHoldTopology(RelayLoad, Topology):
     def roles(self) -> list["Role"]:
         """Hold resistor and capacitor; start resistor and capacitor for the power-on start."""
         from tradeoff.topologies.base import Role
-        roles = [Role("r_hold", "resistor", 10e3, 10e6, "hold resistor: sets the discharge time with c_hold"),
-                 Role("c_hold", "capacitor", 1e-6, 4.7e-3, "hold capacitor, charged at the start",
-                      ("electrolytic", "film"))]
+        roles = [Role("r_hold", "resistor", "hold resistor: sets the discharge time with c_hold"),
+                 Role("c_hold", "capacitor", "hold capacitor, charged at the start", ("electrolytic", "film"))]
         if self.power_on:
-            roles += [Role("r_start", "resistor", 1e3, 1e6, "start resistor: base current of the start PNP"),
-                      Role("c_start", "capacitor", 1e-7, 1e-3, "start capacitor: length of the power-on pulse",
-                           ("electrolytic", "film", "ceramic"))]
+            roles += [Role("r_start", "resistor", "start resistor: base current of the start PNP", lo=1e3, hi=1e6,
+                           limit="the start PNP's base resistor: 1 kΩ to 1 MΩ for a small-signal PNP (common practice)"),
+                      Role("c_start", "capacitor", "start capacitor: length of the power-on pulse",
+                           ("electrolytic", "film", "ceramic"), lo=1e-7, hi=1e-3,
+                           limit="the power-on pulse's capacitor: 100 nF to 1 mF (common practice)")]
         return roles
 
     def uncertain(self, design: "Design") -> dict[str, Uncertain]:

@@ -13,7 +13,7 @@ import pandas as pd
 
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.start import power_on_release_s
-from tradeoff.candidates import rated_voltage, role_candidates
+from tradeoff.candidates import rated_voltage, role_candidates, voltage_coefficient
 from tradeoff.topologies import bands, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role
 from tradeoff.units import format_quantity as fq
@@ -53,15 +53,22 @@ def role_part(topo: "Topology", design: Design, role: Role) -> "Part":
     return topo.design_part(design, part.id)
 
 
-def value_spread(name: str, value: float, part: "Part", unit: str, life_frac: float = 0.0) -> dict[str, Uncertain]:
-    """A timing resistor or capacitor: its value at 25 degC within the class tolerance (widened by
-    `life_frac`, its change over the service life, `bands.life_change_frac`), and its temperature
+def value_spread(name: str, value: float, part: "Part", unit: str, volts: float,
+                 life_frac: float = 0.0) -> dict[str, Uncertain]:
+    """A timing resistor or capacitor: its value at 25 degC within the class tolerance widened by a
+    resistor's voltage coefficient at `volts` [V], the largest voltage across it (`devices.capacitor.band_frac`),
+    and by `life_frac`, its change over the service life (`bands.life_change_frac`), and its temperature
     coefficient anywhere within the class bound (uniform)."""
     tol, tc = part.value("tolerance", ""), part.value("tempco", "1/K")
-    aged = f" ± {100 * life_frac:.3g} % over the service life ({part.source('endurance_drift')})" if life_frac else ""
+    by_voltage = voltage_coefficient(part) * volts
+    note = f"{part.id}: ±{100 * tol:g} % tolerance ({part.source('tolerance')})"
+    if by_voltage:
+        note += (f" and ±{fq(by_voltage, '%')} by its voltage coefficient at {fq(volts, 'V')} "
+                 f"({part.source('voltage_coefficient')})")
+    if life_frac:
+        note += f" ± {100 * life_frac:.3g} % over the service life ({part.source('endurance_drift')})"
     return {
-        name: Uncertain.band(value, tol + life_frac, unit=unit,
-                             note=f"{part.id}: ±{100 * tol:g} % tolerance ({part.source('tolerance')}){aged}"),
+        name: Uncertain.band(value, tol + by_voltage + life_frac, unit=unit, note=note),
         f"{name}_tempco": Uncertain(0.0, -tc, tc, unit="1/K",
                                     note=f"{part.id}: tempco within ±{tc * 1e6:g} ppm/K ({part.source('tempco')})"),
     }
@@ -126,7 +133,7 @@ def fixed_part(topo: "Topology", kind: str, value: float, ref: str, note: str, t
     """BOM line of a fixed resistor or capacitor: the cheapest class that holds the value (and the
     supply); `timing` keeps class 2 ceramics out (a capacitor that sets a frequency or a time)."""
     unit = "ohm" if kind == "resistor" else "F"
-    role = Role(ref, kind, value, value, note)
+    role = Role(ref, kind, note, lo=value, hi=value)
     part = logic.cheapest(topo.catalog, kind, lambda p: _holds(p, role, value, topo.brief.supply.max_v)
                     and not (timing and class_two_ceramic(p)), f"{note}: {fq(value, unit)}")
     return BomLine(ref, part.id, fq(value, unit), 1, part.cost, note)

@@ -55,10 +55,6 @@ R_HYST_OHM = 10e6
 HYSTERESIS_MIN_V = 20e-3
 """Smallest threshold step for clean switching [V] (common practice: well above noise and offset drift)."""
 
-_R_HOLD = (10e3, 10e6)
-_C_HOLD = (1e-6, 4.7e-3)
-
-
 
 class RcComparator(Topology):
     """RC hold read by a nanopower comparator against a reference divider; see the module docstring."""
@@ -100,8 +96,8 @@ class RcComparator(Topology):
     # ---- Topology interface ---------------------------------------------------------
     def roles(self) -> list[Role]:
         """r_hold and c_hold: the hold time constant (the divider is fixed)."""
-        return [Role("r_hold", "resistor", *_R_HOLD, "hold resistor the capacitor discharges through"),
-                Role("c_hold", "capacitor", *_C_HOLD, "hold capacitor", ("electrolytic", "film"))]
+        return [Role("r_hold", "resistor", "hold resistor the capacitor discharges through"),
+                Role("c_hold", "capacitor", "hold capacitor", ("electrolytic", "film"))]
 
     def uncertain(self, design: Design) -> dict[str, Uncertain]:
         """Hold R and C, leakage level, rail, reference, divider, comparator offset and bias, drain voltage."""

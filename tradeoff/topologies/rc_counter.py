@@ -44,9 +44,6 @@ RT_RANGE_OHM = (10e3, 1e6)
 CT_MIN_F = 100e-12
 """Smallest timing capacitor of the RC oscillator [F] (4060-type datasheets: at least 50 to 100 pF)."""
 
-CT_MAX_F = 10e-6
-"""Largest timing capacitor considered [F]: the largest non-polarised class (Ct's voltage reverses)."""
-
 RS_MIN_OHM = 10e3
 """Smallest series resistor at the oscillator input [ohm] (4060-type datasheets: Rs about 2·Rt, at least 10 kohm)."""
 
@@ -58,8 +55,11 @@ RO_LIMIT = 0.03
 with transistor-level ngspice within 2 % (tests/test_oscillator_clamp.py); beyond it the weak inverters
 slow the oscillator markedly (-19 % at 3.3 V, 10 kohm, 0.4 mA/V^2 in the same simulation)."""
 
-_RT = Role("r_timing", "resistor", *RT_RANGE_OHM, "oscillator timing resistor Rt")
-_CT = Role("c_timing", "capacitor", CT_MIN_F, CT_MAX_F, "oscillator timing capacitor Ct", ("film", "ceramic"))
+_RT = Role("r_timing", "resistor", "oscillator timing resistor Rt", lo=RT_RANGE_OHM[0], hi=RT_RANGE_OHM[1],
+           limit="the counter's datasheets give Rt 10 kΩ to 1 MΩ (datasheet limit)")
+_CT = Role("c_timing", "capacitor", "oscillator timing capacitor Ct", ("film", "ceramic"), lo=CT_MIN_F,
+           limit="the counter's datasheets ask for Ct of at least 50 to 100 pF (datasheet limit)")
+"""Ct is non-polarised (its voltage reverses each half period): film or ceramic classes only."""
 
 
 def _class_spreads(counter: "Part") -> dict[str, Uncertain]:
@@ -177,8 +177,9 @@ class RCCounter(CounterTimer):
         rt, ct = design.values["r_timing"], design.values["c_timing"]
         counter = self._counter(design)
         rail = self.plan(counter).rail
-        return {**value_spread("r_timing", rt, role_part(self, design, _RT), "ohm"),
-                **value_spread("c_timing", ct, role_part(self, design, _CT), "F"),
+        volts = self.brief.supply.max_v   # a bound: Rt never sees more than the supply
+        return {**value_spread("r_timing", rt, role_part(self, design, _RT), "ohm", volts),
+                **value_spread("c_timing", ct, role_part(self, design, _CT), "F", volts),
                 "vt_frac": self._threshold(counter), **_class_spreads(counter),
                 "rail_v": _rail_spread(rail)}
 

@@ -93,8 +93,8 @@ class RcSchmitt(Topology):
     # ---- physics ----------------------------------------------------------------------
     def roles(self) -> list[Role]:
         """r_hold and c_hold: the charge time constant (the threshold network is fixed)."""
-        return [Role("r_hold", "resistor", 10e3, 10e6, "charge resistor from the supply to the timing capacitor"),
-                Role("c_hold", "capacitor", 1e-6, 4.7e-3, "timing capacitor on Q1's base", ("electrolytic", "film"))]
+        return [Role("r_hold", "resistor", "charge resistor from the supply to the timing capacitor"),
+                Role("c_hold", "capacitor", "timing capacitor on Q1's base", ("electrolytic", "film"))]
 
     def uncertain(self, design: Design) -> dict[str, Uncertain]:
         """Hold R and C, leakage level, both transistors' gain and VBE(on), the threshold network's resistors."""

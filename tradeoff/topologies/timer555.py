@@ -54,14 +54,12 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = ["Timer555", "monostable_netlist"]
 
 R_MIN_OHM = 1e3
-"""Smallest timing resistance considered [ohm]: below it the discharge transistor's saturation
-current grows large (common practice)."""
+"""Smallest timing resistance [ohm]: below it the discharge transistor's saturation current grows
+large (common practice). Larger values are bounded by the resistor classes and the threshold-current rule."""
 
-R_HI_OHM = 20e6
-"""Largest timing resistance any class may allow [ohm]; each class's own limit is a design rule."""
-
-C_RANGE_F = (100e-12, 10e-3)
-"""Timing capacitance range considered [F] (common practice)."""
+C_MIN_F = 100e-12
+"""Smallest timing capacitance [F]: below it pin and stray capacitance take a noticeable share
+(common practice). Larger values are bounded by the capacitor classes."""
 
 DECOUPLING_F = 100e-9
 """Supply decoupling at the timer [F] (common practice)."""
@@ -70,8 +68,10 @@ CONTROL_PIN_F = 10e-9
 """Control-voltage pin capacitor of a bipolar timer [F] (common practice from the datasheets' application circuits)."""
 
 _ROLES = (
-    Role("r_timing", "resistor", R_MIN_OHM, R_HI_OHM, "timing resistor"),
-    Role("c_timing", "capacitor", *C_RANGE_F, "timing capacitor", ("electrolytic", "film", "ceramic")),
+    Role("r_timing", "resistor", "timing resistor", lo=R_MIN_OHM,
+         limit="below 1 kΩ the discharge transistor's current grows large (common practice)"),
+    Role("c_timing", "capacitor", "timing capacitor", ("electrolytic", "film", "ceramic"), lo=C_MIN_F,
+         limit="below 100 pF pin and stray capacitance take a noticeable share (common practice)"),
 )
 
 
@@ -182,8 +182,9 @@ class Timer555(Topology):
                           leak_note: str) -> dict[str, Uncertain]:
         """Spread quantities of timer class `timer` with R [ohm] and C [F] of the given classes (values may be
         1.0 to give relative bands) and the capacitor's nominal leakage fraction."""
-        q = {**value_spread("r_timing", r_ohm, r_part, "ohm"),
-             **value_spread("c_timing", c_f, c_part, "F", bands.life_change_frac(c_part, self.brief)),
+        q = {**value_spread("r_timing", r_ohm, r_part, "ohm", self.brief.supply.max_v),
+             **value_spread("c_timing", c_f, c_part, "F", self.brief.supply.max_v,
+                            bands.life_change_frac(c_part, self.brief)),
              **bands.board_leak(self.brief)}
         q["c_timing_leakage"] = typical_to_limit(leak_frac, 1.0, "", leak_note + " (fraction of the limit)")
         q["threshold_a"] = typical_to_limit(timer.value("threshold_current_typ", "A"),
