@@ -1,6 +1,7 @@
 """Shared fixtures."""
 from __future__ import annotations
 
+import functools
 import os
 import shutil
 from pathlib import Path
@@ -15,6 +16,14 @@ settings.load_profile("tradeoff")
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "examples"
+
+
+@functools.cache
+def example_study(path: Path):
+    """The study of a shipped brief with its own settings, run once per test session (several modules read it)."""
+    import tradeoff
+
+    return tradeoff.study(path)
 
 
 @pytest.fixture
