@@ -178,7 +178,9 @@ class RcHoldTopology(RelayLoad, Topology):
     def roles(self) -> list["Role"]:
         """Hold resistor and capacitor; start resistor and capacitor for the power-on start."""
         from tradeoff.topologies.base import Role
-        roles = [Role("r_hold", "resistor", "hold resistor: sets the discharge time with c_hold"),
+        roles = [Role("r_hold", "resistor", "hold resistor: sets the discharge time with c_hold", lo=10e3,
+                      limit="the hold resistor: at least 10 kΩ, so that its discharge current at full charge stays "
+                            "small beside the start network's charge current (common practice)"),
                  Role("c_hold", "capacitor", "hold capacitor, charged at the start", ("electrolytic", "film"))]
         if self.power_on:
             roles += [Role("r_start", "resistor", "start resistor: base current of the start PNP", lo=1e3, hi=1e6,
