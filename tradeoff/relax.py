@@ -1,6 +1,6 @@
 """What it would take: for a topology that cannot meet the brief, the smallest change of each
 requirement alone (and of each part class alone) that makes it feasible, found on the real
-selection and verification (tradeoff.trade_study.topology_outcome), not by an estimate; and, on
+selection and verification (tradeoff.outcome.topology_outcome), not by an estimate; and, on
 request, the slack of every feasible topology: how far each requirement alone can be tightened
 before it stops being feasible, found the same way.
 
@@ -27,6 +27,12 @@ and at most by `FLOOR`, 0.01 %, of the range tried), and the feasible end is rep
 design it gives. The study is assumed monotonic in each change (a looser requirement never removes
 a design); 5 % short of a reported change the topology is infeasible again (tested on the shipped
 examples).
+
+Every class of the catalog is already open to the selection, so a part-class answer is a hypothetical
+class: each class of the kind changed by one factor (the leakage limit, or the tolerance and tempco).
+It is reported as "a capacitor class with leakage at most 4.6 % of the catalog's (<the design's own
+class> with <its changed figures>; no such class in the catalog)", with the design it gives (JSON:
+hypothetical_class true).
 
 Slack tightens the other way, towards the `tight` far end of each change:
 
@@ -55,6 +61,7 @@ from typing import Any, Protocol
 
 from tradeoff.brief import Brief
 from tradeoff.catalog import Catalog
+from tradeoff.parts import Part
 from tradeoff.errors import BriefError
 from tradeoff.plain import schematic_values
 from tradeoff.outcome import TopologyOutcome, topology_outcome
@@ -92,6 +99,10 @@ class Change:
     integer: bool = False
     tight: Callable[[Brief], float | None] = lambda brief: None
     tight_label: str = ""
+    category: str = ""
+    """Catalog category the change makes a hypothetical class of ('' for a change of the brief)."""
+    describe: Callable[[Part], str] | None = None
+    """The changed figures of one such class, in words (for the design's own classes)."""
 
 
 @dataclass
@@ -114,6 +125,8 @@ class Relaxation:
     kind: str = "relax"
     bounded: bool = True
     fails_at: float | None = None
+    hypothetical: bool = False
+    """True when the answer is a part class the catalog does not have (the design's classes so changed)."""
 
     @property
     def reachable(self) -> bool:
@@ -139,7 +152,8 @@ class Relaxation:
         return {"kind": self.kind, "topology": self.topology, "change": self.key, "label": self.label,
                 "original": self.original, "reachable": self.reachable, "value": self.value,
                 "text": self.text if self.reachable else None, "bounded": self.bounded, "fails_at": self.fails_at,
-                "design": self.design or None, "cost_per_unit_eur": self.cost_per_unit_eur, "solves": self.solves}
+                "design": self.design or None, "cost_per_unit_eur": self.cost_per_unit_eur, "solves": self.solves,
+                "hypothetical_class": self.hypothetical}
 
 
 class Study(Protocol):
@@ -219,6 +233,23 @@ def _resistor_scale(name: str, x: float) -> float | None:
     return x if name in ("tolerance", "tempco") else None
 
 
+def _capacitor_leakage(part: Part) -> str:
+    """A capacitor class's guaranteed leakage in its own terms: the electrolytic rule or the insulation resistance."""
+    if part.has("leakage_k"):
+        return (f"leakage at most {fq(part.value('leakage_k', 'A/(F*V)'), '')} CV (µA, µF, V) or "
+                f"{fq(part.value('leakage_floor', 'A'), 'A')}, whichever is greater")
+    if part.has("insulation_resistance_min"):
+        return (f"insulation resistance at least {fq(part.value('insulation_resistance_min', 'ohm'), 'ohm')}, "
+                f"or a time constant of {fq(part.value('insulation_time_constant', 's'), 's')} for large values")
+    return "no leakage figure"
+
+
+def _resistor_grade(part: Part) -> str:
+    """A resistor class's tolerance and tempco bound."""
+    return (f"tolerance {fq(part.value('tolerance', ''), '%')}, "
+            f"tempco at most {fq(part.value('tempco', '1/K') * 1e6, '')} ppm/K")
+
+
 MARGIN_TIGHT = 0.45
 """Design margin the slack search raises it to at most (the brief accepts below 50 % of the band)."""
 
@@ -256,12 +287,15 @@ def _widest(lo: float, hi: float, centre: float, floor: float, ceiling: float) -
 
 
 def _percent(x: float) -> str:
-    return f"{100 * x:.3g} %"
+    return fq(x, "%")
 
 
-def _share(x: float) -> str:
-    """A factor of a catalog figure in words: '5 % of' below one, '100 times' from it."""
-    return f"{_percent(x)} of" if x < 1 else f"{x:.3g} times"
+def _share(x: float, noun: str) -> str:
+    """A part class change at factor x in words: '<noun> at most 5 % of the catalog's', '... 100 times the
+    catalog's'; at 1 the catalog's classes as they are."""
+    if x == 1:
+        return "the catalog's classes"
+    return f"{noun} at most {_percent(x) + ' of' if x < 1 else fq(x, '') + ' times'} the catalog's"
 
 
 CHANGES: tuple[Change, ...] = (
@@ -323,17 +357,20 @@ CHANGES: tuple[Change, ...] = (
            tight=lambda b: None if b.limits.cost is None else 0.0, tight_label="parts cost limit lowered"),
     Change("load.relay.must_release", "relay class with a narrower release band (must-release raised)",
            lambda b: b.load.must_release_frac, lambda b: b.load.must_operate_frac - 0.01,
-           _brief_change(lambda b, x: {"load.relay.must_release": x}), lambda b, x: f"must-release {_percent(x)}",
+           _brief_change(lambda b, x: {"load.relay.must_release": x}),
+           lambda b, x: f"must-release {_percent(x)} (release band {_percent(x)} to "
+                        f"{_percent(b.load.must_operate_frac)} of the coil voltage)",
            applies=lambda b: b.load.kind == "relay" and b.load.must_release_frac < b.load.must_operate_frac - 0.01,
            tight=lambda b: 0.0 if b.load.kind == "relay" else None,
            tight_label="relay class with a wider release band (must-release lowered)"),
     Change("capacitor.leakage", "capacitor class with a lower guaranteed leakage", lambda b: 1.0, lambda b: 0.01,
-           _class_change("capacitor", _leakage_scale), lambda b, x: f"{_share(x)} the catalog's leakage",
-           tight=lambda b: 100.0, tight_label="leakier capacitor class"),
+           _class_change("capacitor", _leakage_scale), lambda b, x: _share(x, "leakage"),
+           tight=lambda b: 100.0, tight_label="leakier capacitor class", category="capacitor",
+           describe=_capacitor_leakage),
     Change("resistor.tolerance", "tighter resistor class", lambda b: 1.0, lambda b: 0.05,
            _class_change("resistor", _resistor_scale),
-           lambda b, x: f"{_share(x)} the catalog's tolerance and tempco",
-           tight=lambda b: 10.0, tight_label="looser resistor class"),
+           lambda b, x: _share(x, "tolerance and tempco"),
+           tight=lambda b: 10.0, tight_label="looser resistor class", category="resistor", describe=_resistor_grade),
 )
 """Every change tried, in report order."""
 
@@ -422,10 +459,24 @@ def _boundary(change: Change, topology: str, brief: Brief, catalog: Catalog, end
     return found
 
 
+def _hypothetical_classes(change: Change, outcome: TopologyOutcome) -> str:
+    """The design's own classes of the changed category, with their changed figures: 'cap-film-pp-5pct with
+    insulation resistance at least ...' ('' when the design has none)."""
+    catalog = outcome.model.catalog
+    used = dict.fromkeys(line.part for line in outcome.verified[0].evaluation.bom
+                         if line.part in catalog and catalog.part(line.part).category == change.category)
+    return "; ".join(f"{part_id} with {change.describe(catalog.part(part_id))}" for part_id in used)
+
+
 def _with_design(answer: Relaxation, change: Change, brief: Brief, value: float, outcome: TopologyOutcome
                  ) -> Relaxation:
     ev = outcome.verified[0].evaluation
     answer.value, answer.text, answer.outcome = value, change.show(brief, value), outcome
+    if change.category and answer.kind == "relax":  # a class the catalog lacks: say which and what it would need
+        classes = _hypothetical_classes(change, outcome)
+        answer.hypothetical = True
+        answer.text = (f"a {change.category} class with {answer.text}"
+                       f" ({classes + '; ' if classes else ''}no such class in the catalog)")
     answer.design = schematic_values(outcome.model, ev.design) or "the design of the catalog's parts"
     answer.cost_per_unit_eur = ev.unit_cost_eur
     return answer

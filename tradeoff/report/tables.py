@@ -77,8 +77,8 @@ PRODUCTION_COLUMNS = ["design", "volume [units]", "parts [EUR]", "assembly [EUR]
                       "engineering [h]", "engineering per unit [EUR]", "cost per unit [EUR]", "note"]
 CORNER_VALUES = ("nominal", "at shortest delay", "at longest delay")
 """The corners table's value columns, in each row's SI unit (its `unit` column)."""
-RELAX_COLUMNS = ["topology", "change", "reachable", "to", "brief", "design", "cost per unit [EUR]",
-                 "solves [count]"]
+RELAX_COLUMNS = ["topology", "change", "reachable", "hypothetical class", "to", "brief", "design",
+                 "cost per unit [EUR]", "solves [count]"]
 SLACK_COLUMNS = ["topology", "change", "bounded", "up to", "brief", "design", "cost per unit [EUR]", "solves [count]"]
 INFEASIBLE_COLUMNS = ["topology", "description", "reason no. [count]", "reason"]
 BRIEF_COLUMNS = ["key", "value", "text", "unit", "origin", "note"]
@@ -216,7 +216,7 @@ def infeasible_table(result: "StudyResult") -> pd.DataFrame:
 
 def relax_table(result: "StudyResult") -> pd.DataFrame:
     """What alone would make each infeasible topology feasible (tradeoff.relax; no rows unless --relax)."""
-    rows = [{"topology": r.topology, "change": r.label, "reachable": r.reachable,
+    rows = [{"topology": r.topology, "change": r.label, "reachable": r.reachable, "hypothetical class": r.hypothetical,
              "to": r.text if r.reachable else "not reachable by this change alone", "brief": r.original,
              "design": r.design, "cost per unit [EUR]": r.cost_per_unit_eur, "solves [count]": r.solves}
             for r in result.relaxations or ()]
