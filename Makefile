@@ -23,7 +23,7 @@ review: $(STAMP)
 	$(BIN)/tradeoff study $(BRIEF) --review $(REVIEW) --force
 
 test: $(STAMP)
-	$(BIN)/python -m pytest -q
+	$(BIN)/python -m pytest -q -n auto --dist loadfile
 
 bench: $(STAMP)
 	for f in bench/bench_*.py; do echo "== $$f"; $(BIN)/python $$f || exit 1; done
