@@ -416,3 +416,25 @@ def test_catalog_command_merges_user_file_and_rejects_unknown_query(tmp_path):
     missing = CliRunner().invoke(cli, ["catalog", "capacitr"])
     assert missing.exit_code == 2
     assert "Error: catalog: query: nothing matches 'capacitr'; did you mean 'capacitor'?" in missing.stderr
+
+
+def test_every_module_or_function_a_catalog_names_exists():
+    """Catalog comments point readers at the code that uses a figure (`tradeoff.devices.capacitor.…`); a name
+    that no longer exists sends them nowhere (one named a `tradeoff.physics` module that had been split up)."""
+    import importlib
+
+    named = set()
+    for path in (ROOT / "catalogs").glob("*.yaml"):
+        named |= set(re.findall(r"\btradeoff(?:\.[A-Za-z_][A-Za-z0-9_]*)+", path.read_text(encoding="utf-8")))
+    assert named, "the catalogs name no code"
+    missing = []
+    for name in sorted(named):
+        module, _, attribute = name.rpartition(".")
+        try:
+            importlib.import_module(name)
+        except ImportError:
+            try:
+                getattr(importlib.import_module(module), attribute)
+            except (ImportError, AttributeError):
+                missing.append(name)
+    assert missing == []

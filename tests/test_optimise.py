@@ -319,8 +319,9 @@ def test_tolerance_spread_wider_than_the_band():
     # ±10 % at the worst corners spreads the delay by 1.1/0.9 = ×1.22; the band 19 s..21 s allows ×1.11.
     model = SelectionModel("t", "product", [rc_block("hold", [10, 20, 30], spread=0.10),
                                             rc_block("stage", [1.0, 2.0], spread=0.0)])
-    assert reasons(model, (19, 21)) == ["the tolerances alone spread the delay by ×1.22 between the worst-case "
-                                       "corners; the band 19 s to 21 s allows ×1.11"]
+    assert reasons(model, (19, 21)) == ["the uncertainties alone (part tolerances, supply, temperature and any "
+                                        "leakage) spread the delay by ×1.22 between the worst-case corners; the "
+                                        "band 19 s to 21 s allows ×1.11"]
 
 
 def test_a_spread_wider_than_the_band_is_named_before_a_band_edge_out_of_reach():
@@ -330,8 +331,8 @@ def test_a_spread_wider_than_the_band_is_named_before_a_band_edge_out_of_reach()
     the longest worst-case shortest delay is 20 s · 0.8 = 16 s."""
     model = SelectionModel("t", "sum", [rc_block("hold", [10, 20], spread=0.20)])
     assert reasons(model, (19, 21)) == [
-        "the tolerances alone spread the delay by ×1.5 between the worst-case corners; the band 19 s to 21 s "
-        "allows ×1.11",
+        "the uncertainties alone (part tolerances, supply, temperature and any leakage) spread the delay by ×1.5 "
+        "between the worst-case corners; the band 19 s to 21 s allows ×1.11",
         "even the longest-delay candidates time out too early: the worst-case shortest delay reaches at most 16 s; "
         "the band's minimum is 19 s"]
 

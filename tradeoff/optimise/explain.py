@@ -48,13 +48,14 @@ class Explainer:
         return [r for r in self.tables.requirements if r.group == "band"]
 
     def _spread_reasons(self) -> list[str]:
-        """The tolerance spread against the band's ratio, when no combination's worst-case corners fit in it."""
+        """The spread between the worst-case corners (every uncertain quantity, not only the tolerances) against
+        the band's ratio, when no combination's worst-case corners fit in it."""
         t = self.tables
         lo, hi = t.required
         ratio = self._smallest_spread()
         if ratio > (hi / lo) * (1 + TOLERANCE):
-            return [f"the tolerances alone spread the delay by ×{ratio:.3g} between the worst-case corners; "
-                    f"{t.band_text()} allows ×{hi / lo:.3g}"]
+            return [f"the uncertainties alone (part tolerances, supply, temperature and any leakage) spread the delay "
+                    f"by ×{ratio:.3g} between the worst-case corners; {t.band_text()} allows ×{hi / lo:.3g}"]
         return []
 
     def _band_reasons(self) -> list[str]:

@@ -103,7 +103,7 @@ _SHORT = (
                 r"(?P<b>\S+ %) at the long end$"), "meets the band, not the {m} margin: keeps {a} / {b}"),
     (re.compile(r"worst-case shortest delay reaches at most (?P<v>[^;]+);"), "too short: worst case at most {v}"),
     (re.compile(r"worst-case longest delay is at least (?P<v>[^;]+);"), "too long: worst case at least {v}"),
-    (re.compile(r"tolerances alone spread the delay by (?P<v>\S+) .* allows (?P<w>\S+)$"),
+    (re.compile(r"uncertainties alone \(.*?\) spread the delay by (?P<v>\S+) .* allows (?P<w>\S+)$"),
      "spread {v} exceeds the band's {w}"),
     (re.compile(r"fewest parts reachable is (?P<v>\d+); the limit is (?P<w>\d+)"), "needs {v} parts, limit {w}"),
     (re.compile(r"smallest standby current .* reachable is (?P<v>[^;]+); the limit is (?P<w>.+)$"),
