@@ -29,6 +29,7 @@ import functools
 import hashlib
 import math
 import re
+import sys
 from pathlib import Path
 
 from tradeoff.errors import UnitParseError
@@ -103,6 +104,26 @@ def pint_cache_folder(pint_dir: Path) -> Path:
     return platformdirs.user_cache_path("tradeoff", appauthor=False) / f"pint-{key}"
 
 
+def _import_pint():
+    """pint, loaded without its dask support.
+
+    pint imports dask whenever dask is installed (here a test and cluster extra), some 0.08 s at every
+    start, for quantities that wrap dask arrays, which this package never makes. While pint loads, a
+    None entry for dask in sys.modules makes pint's check (importlib.util.find_spec) find no dask; the
+    entry is removed afterwards, so a later `import dask` (the sweep's cluster) works as usual.
+    """
+    if "pint" in sys.modules or "dask" in sys.modules:
+        import pint
+        return pint
+    sys.modules["dask"] = None
+    try:
+        import pint
+    finally:
+        if sys.modules.get("dask", False) is None:
+            del sys.modules["dask"]
+    return pint
+
+
 @functools.lru_cache(maxsize=1)
 def _registry():
     """The one pint registry, created on first use.
@@ -111,8 +132,7 @@ def _registry():
     definitions (`pint_cache_folder`) cuts that to a few tens of ms. Where the folder cannot be
     written or read, the registry is built without the cache.
     """
-    import pint
-
+    pint = _import_pint()
     try:
         return pint.UnitRegistry(cache_folder=pint_cache_folder(Path(pint.__file__).parent))
     except OSError:
