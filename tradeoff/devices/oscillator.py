@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from tradeoff.devices.quadrature import evaluate_in_chunks
+
 __all__ = ["threshold_factor", "clamped_period_factor", "square_law_excess", "inverter_factor", "rc_period_s", "rc_half_periods_s", "rc_junction_v", "rc_running_current_a",
            "crystal_frequency", "crystal_period_s", "rc_band"]
 
@@ -111,9 +113,13 @@ def _falling_half(q0, v, g1, gs, g2, cp, clamp):
         al, aq = (din - slow * e_in) / (fast - slow), (dq - slow * e_q) / (fast - slow)
         return al, e_in - al, aq, e_q - aq
 
-    def at(coef, t):
-        al, be, aq, bq = coef
-        return al * np.exp(fast * t) + be * np.exp(slow * t), 1.0 + aq * np.exp(fast * t) + bq * np.exp(slow * t)
+    def vin_at(coef, t):
+        """Input voltage at time t."""
+        return coef[0] * np.exp(fast * t) + coef[1] * np.exp(slow * t)
+
+    def q_at(coef, t):
+        """Ct voltage at time t."""
+        return 1.0 + coef[2] * np.exp(fast * t) + coef[3] * np.exp(slow * t)
 
     horizon = 60.0 / -slow
     # segment A: the input rises from v behind the jumped Rt-Ct junction, to its peak or to the clamp
@@ -121,21 +127,21 @@ def _falling_half(q0, v, g1, gs, g2, cp, clamp):
     al, be = coef[0], coef[1]
     ratio = np.maximum(-slow * be / (fast * al), 1e-300)   # below 1: the peak lies after the jump
     t_peak = np.maximum(np.log(ratio) / (fast - slow), 0.0)
-    peak = at(coef, t_peak)[0]
+    peak = vin_at(coef, t_peak)
     clamped = peak > clamp
-    t_a = _crossing(lambda t: at(coef, t)[0], np.zeros_like(t_peak), t_peak, clamp)
-    q_a = at(coef, t_a)[1]
+    t_a = _crossing(lambda t: vin_at(coef, t), np.zeros_like(t_peak), t_peak, clamp)
+    q_a = q_at(coef, t_a)
     # segment B: input held at the clamp; Ct discharges through Rt and Rs until the junction falls to the clamp
     q_inf = 1.0 - gs * clamp / (g1 + gs)
     q_end = 1.0 - clamp * (g1 + g2) / g2
     t_b = s / (g2 * (g1 + gs)) * np.log(np.maximum((q_inf - q_a) / (q_inf - q_end), 1.0))
     # segment C: the input leaves the clamp and falls behind the junction to the threshold
     coef_c = modes(q_end - 1.0, np.full_like(q_end, clamp))
-    t_c = _crossing(lambda t: at(coef_c, t)[0], np.zeros_like(t_b), np.zeros_like(t_b) + horizon, v)
-    q_c = at(coef_c, t_c)[1]
+    t_c = _crossing(lambda t: vin_at(coef_c, t), np.zeros_like(t_b), np.zeros_like(t_b) + horizon, v)
+    q_c = q_at(coef_c, t_c)
     # never clamped: the input peaks below the clamp and falls back to the threshold
-    t_u = _crossing(lambda t: at(coef, t)[0], t_peak, t_peak + horizon, v)
-    q_u = at(coef, t_u)[1]
+    t_u = _crossing(lambda t: vin_at(coef, t), t_peak, t_peak + horizon, v)
+    q_u = q_at(coef, t_u)
     return np.where(clamped, t_a + t_b + t_c, t_u), np.where(clamped, q_c, q_u)
 
 
@@ -166,6 +172,10 @@ def clamped_period_factor(vt_frac, rs_ratio, clamp_frac, cp_ratio, ro_n_ratio, r
 
 _TAIL_POINTS = 2000
 """Grid points of the input voltage over one half-period's end (VDD down to the pull-down threshold)."""
+_TAIL_CHUNK = 512
+"""Operating points whose half-period ends are evaluated together: temporaries of 8 MB each, which the
+allocator reuses (one pass over a whole table's points allocates and faults in fresh pages, 2 to 3 times
+slower)."""
 
 
 def _square_law_half(vt_drive, vt_load, load_ratio, drive, ro_drive, ro_load, vm):
@@ -190,7 +200,7 @@ def _square_law_half(vt_drive, vt_load, load_ratio, drive, ro_drive, ro_load, vm
     valid = (disc1 >= 0) & (o1 <= x - vt_drive) & (disc2 >= 0)
     # the branch ends where Ct's voltage stops rising with falling input: the loop gain reaches 1 and the
     # circuit switches (both triode conditions hold until then)
-    on_branch = np.cumprod(valid[..., 1:] & (steps > 0), axis=-1).astype(bool)
+    on_branch = np.logical_and.accumulate(valid[..., 1:] & (steps > 0), axis=-1)
     gap = 0.5 * ((x - o1)[..., 1:] + (x - o1)[..., :-1])               # Rt's voltage: dq/dt = (x − o1)/(Rt·Ct)
     soft = np.sum(np.where(on_branch, steps / gap, 0.0), axis=-1)
     linear = (1.0 + ro_drive[..., 0] + ro_load[..., 0]) * np.log(1.0 / vm[..., 0])
@@ -233,5 +243,9 @@ def inverter_factor(vdd_v, mos_vt_v, kp_a_per_v2, rt_ohm):
     vdd, vt = np.asarray(vdd_v, dtype=float), np.asarray(mos_vt_v, dtype=float)
     ro = 1.0 / (kp_a_per_v2 * (vdd - vt) * np.asarray(rt_ohm, dtype=float))
     drive = kp_a_per_v2 * vdd * np.asarray(rt_ohm, dtype=float)
-    return (clamped_period_factor(0.5, 1.0, _NEVER_CLAMPED, 0.0, ro, ro)
-            + square_law_excess(vt / vdd, vt / vdd, 1.0, drive, ro, ro))
+    # matched channels switch at VDD/2 and their two half-periods mirror each other: one half, twice
+    # (`square_law_excess` at equal thresholds, KP ratio 1 and equal output resistances)
+    frac, drive, ro = np.broadcast_arrays(vt / vdd, drive, ro)
+    excess = evaluate_in_chunks(lambda p: 2.0 * _square_law_half(p["v"], p["v"], 1.0, p["drive"], p["ro"], p["ro"], 0.5),
+                                {"v": frac.ravel(), "drive": drive.ravel(), "ro": ro.ravel()}, _TAIL_CHUNK)
+    return clamped_period_factor(0.5, 1.0, _NEVER_CLAMPED, 0.0, ro, ro) + excess.reshape(frac.shape)

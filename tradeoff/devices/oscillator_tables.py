@@ -48,7 +48,7 @@ class OscillatorTables:
         self._network = RegularGridInterpolator((np.log(_RS_NODES), _CP_NODES, vdd), network)
         vts = np.linspace(*vt_range, 5) if vt_range[1] > vt_range[0] else np.array([vt_range[0] - 1e-3, vt_range[0]])
         rt, v, vt = np.meshgrid(_RT_NODES, vdd, vts, indexing="ij")
-        inverters = inverter_factor(v, vt, kp, rt) / inverter_factor(vref, vt, kp, rt)
+        inverters = inverter_factor(v, vt, kp, rt) / inverter_factor(vref, vt[:, :1], kp, rt[:, :1])  # reference: no supply axis
         self._inverters = RegularGridInterpolator((np.log(_RT_NODES), vdd, vts), inverters)
         self._bounds = [(np.log(_RS_NODES[0]), np.log(_RS_NODES[-1])), (0.0, _CP_NODES[-1]), (vdd[0], vdd[-1]),
                         (np.log(_RT_NODES[0]), np.log(_RT_NODES[-1])), (vts[0], vts[-1])]
