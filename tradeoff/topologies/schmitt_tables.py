@@ -47,11 +47,13 @@ def schmitt_selection(topo: "Topology") -> SelectionModel:
     dropped = bands.Dropped()
     outside = (f"nominal delay outside the band {fq(band[0], 's')} to {fq(band[1], 's')} (time constant too "
                "short or too long)")
+    trips: dict[bytes, dict[str, np.ndarray]] = {}
     ri, ci = bands.window_pairs(
-        r, c, True, lambda ri, ci, end: table_delays(topo, bands.pair_rows(r_role, c_role, r, c, ri, ci), (0,))[0],
+        r, c, True, lambda ri, ci, end: table_delays(topo, bands.pair_rows(r_role, c_role, r, c, ri, ci), (0,),
+                                                     trips=trips)[0],
         band, dropped, outside, outside, quote_nearest=False)
     rows = bands.pair_rows(r_role, c_role, r, c, ri, ci)
-    lo, nom, hi, after = table_delays(topo, rows, (-1, 0, 1), with_after=True)
+    lo, nom, hi, after = table_delays(topo, rows, (-1, 0, 1), with_after=True, trips=trips)
     keep = dropped.drop(~np.isfinite(hi), lambda m: "at the longest-delay corner the capacitor's leakage "
                         "and Q1's base current reach the charge current below the trip point: never times out")
     table = rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi, after_a=after, lines=2, during_a=0.0)
@@ -69,10 +71,12 @@ def schmitt_selection(topo: "Topology") -> SelectionModel:
 
 
 def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
-                 with_after: bool = False) -> list[np.ndarray]:
+                 with_after: bool = False, trips: dict[bytes, dict[str, np.ndarray]] | None = None) -> list[np.ndarray]:
     """Per candidate pair of `rows` (`bands.pair_rows`): for each sign the shortest (-1), nominal (0) or longest
     (+1) delay over the corners `corners.extreme_corners` selects [s], and with `with_after` the supply current
-    long after the timeout [A]; SCHMITT_CHUNK rows at a time."""
+    long after the timeout [A]; SCHMITT_CHUNK rows at a time. `trips` keeps the trip points already found
+    (`_corner_trip`) from one call to the next."""
+    trips = {} if trips is None else trips
     out = [np.full(len(rows), np.nan) for _ in range(len(signs) + with_after)]
     for (c_part, rated), index in rows.groupby(["c_part", "c_rated_v"], sort=False).indices.items():
         first = rows.iloc[index[0]]
@@ -87,8 +91,8 @@ def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
             for k, sign in enumerate(signs):
                 corners = [corner_values(q, c) for c in extreme_corners(q, DIRECTION, sign)]
                 x = {n: np.array([[c[n] for c in corners]]) for n in q}
+                tr = _corner_trip(topo, design, x, trips)
                 x.update({n: v * (1 + sign * spread[n]) + 0 * x[n] for n, v in values.items()})
-                tr = topo.trip(design, x)
                 t = charge_time_s(x["c_hold"], x["r_hold"], x["supply_v"], tr["v_trip"], topo._extra(x, tr, leak, None))
                 out[k][index[part]] = {-1: t.min(axis=1), 0: t[:, 0], 1: t.max(axis=1)}[sign]
             if with_after:
@@ -97,3 +101,15 @@ def table_delays(topo: "Topology", rows: "pd.DataFrame", signs: tuple[int, ...],
                 out[-1][index[part]] = topo.after_state(design, nominal,
                                                         topo._leakage(design, values["c_hold"][:, 0]))["supply_a"]
     return out
+
+
+def _corner_trip(topo: "Topology", design: Design, x: dict[str, np.ndarray], trips: dict[bytes, dict[str, np.ndarray]]
+                 ) -> dict[str, np.ndarray]:
+    """`topo.trip` at the corners `x` (one row of corners), looked up in `trips` by the corner values: the trip
+    point does not depend on the charge resistor or the capacitor, so the window search and the table's
+    capacitor classes share one search per set of corners."""
+    key = topo.part(design, "npn").id.encode() + b"".join(n.encode() + x[n].tobytes() for n in sorted(x)
+                                                          if n not in ("r_hold", "c_hold"))
+    if key not in trips:
+        trips[key] = topo.trip(design, x)
+    return trips[key]
