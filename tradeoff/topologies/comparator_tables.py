@@ -58,8 +58,10 @@ def comparator_selection(topo: "Topology") -> SelectionModel:
     # one window over every rail: capacitor candidate k of rail i is row i·len(c) + k of `c_rails`
     c_rails = pd.concat([c] * len(rails), ignore_index=True)
 
+    quantities: dict[tuple[int, str], dict] = {}
+
     def delays(ri, at, kind):
-        return pair_delays(topo, rails, comp, ref, r, c, ri, at, kind)
+        return pair_delays(topo, rails, comp, ref, r, c, ri, at, kind, quantities)
 
     outside = (f"nominal delay outside the band {fq(band[0], 's')} to {fq(band[1], 's')} (time constant too "
                "short or too long)")
@@ -97,11 +99,15 @@ def comparator_selection(topo: "Topology") -> SelectionModel:
 
 
 def pair_delays(topo: "Topology", rails: list[logic.LogicRail], comp, ref, r: pd.DataFrame, c: pd.DataFrame,
-                ri: np.ndarray, at: np.ndarray, kind: str) -> np.ndarray:
+                ri: np.ndarray, at: np.ndarray, kind: str, quantities: dict[tuple[int, str], dict] | None = None
+                ) -> np.ndarray:
     """Delay [s] of the candidate pairs (r.iloc[ri], c.iloc[at % len(c)]) of two `bands.role_tables` on the
     rail rails[at // len(c)]: 'nom' with every quantity nominal, 'lo' ('hi') the shortest (longest) over both
     ambient ends at the corner where every other quantity shortens (lengthens) it; the same delay model
-    evaluate() uses, DELAY_CHUNK rows at a time with the leakage law of each chunk's capacitors."""
+    evaluate() uses, DELAY_CHUNK rows at a time with the leakage law of each chunk's capacitors.
+    `quantities` keeps each (rail, capacitor class)'s spread quantities from one call to the next (the
+    candidates' own r_hold and c_hold replace theirs)."""
+    quantities = {} if quantities is None else quantities
     out = np.empty(len(ri))
     ci, rail_of = at % max(len(c), 1), at // max(len(c), 1)
     r_value, r_spread = r["value"].to_numpy(float)[ri], r["spread"].to_numpy(float)[ri]
@@ -114,7 +120,9 @@ def pair_delays(topo: "Topology", rails: list[logic.LogicRail], comp, ref, r: pd
                         {"regulator": rails[rail_index].option, "c_hold_part": part_id,
                          "c_rated_v": float(rated[first]), "r_hold_part": r["part"].iat[int(ri[first])],
                          "comparator": comp.id, "reference": ref.id})
-        q, shunt, part = topo.quantities(design), hold_state.shunt_ohm(design), topo.catalog.part(part_id)
+        if (rail_index, part_id) not in quantities:
+            quantities[rail_index, part_id] = topo.quantities(design)
+        q, shunt, part = quantities[rail_index, part_id], hold_state.shunt_ohm(design), topo.catalog.part(part_id)
         for chunk in chunks(len(rows), DELAY_CHUNK):
             rows_at = rows[chunk]
             leak = capacitor.CapacitorLeakage(part, c_value[rows_at], rated[rows_at])
