@@ -217,6 +217,38 @@ def _spelling_problem(text: str, number: str, unit_text: str, unit: str) -> str 
     return None
 
 
+@functools.lru_cache(maxsize=None)
+def _dimensionless(unit: str) -> bool:
+    """Whether the field unit `unit` is a plain number (ValueError when pint cannot read it: a programming
+    error, not user input)."""
+    expected = _pint_units(_normalise_unit(unit))
+    if expected is None:
+        raise ValueError(f"unit {unit!r} is not known to pint")
+    registry = _registry()
+    return registry.Quantity(1, expected).dimensionality == registry.Quantity(1).dimensionality
+
+
+@functools.lru_cache(maxsize=1024)
+def _conversion(unit_text: str, unit: str):
+    """How pint reads a quantity written in the normalised `unit_text` ('' for a plain number) for a field in
+    `unit`, found once per pair: (the units pint reads, None when it cannot; whether their dimension is
+    `unit`'s; the factor to the result unit when the conversion is a plain scaling, else None: offset and
+    logarithmic units, and temperatures asked for in degC, are converted by pint every time)."""
+    registry = _registry()
+    found = _pint_units(unit_text) if unit_text else registry.dimensionless
+    if found is None:
+        return None, False, None
+    same = registry.Quantity(1, found).dimensionality == registry.Quantity(1, _pint_units(_normalise_unit(unit))
+                                                                             ).dimensionality
+    if not same or unit in _CELSIUS:
+        return found, same, None
+    try:
+        zero, one = (float(registry.Quantity(m, found).to_base_units().magnitude) for m in (0.0, 1.0))
+    except Exception:  # offset units inside compound units: pint's own conversion reports it
+        return found, same, None
+    return found, same, one if zero == 0.0 and math.isfinite(one) else None
+
+
 def parse_quantity(text: str | int | float, unit: str) -> float:
     """Parse `text` (e.g. "2.2 Mohm") checked against the dimension of `unit` (e.g. "ohm").
 
@@ -224,11 +256,7 @@ def parse_quantity(text: str | int | float, unit: str) -> float:
     [degC] when `unit` is degC. A bare number (str or int/float) is accepted only when `unit`
     is dimensionless. Raises UnitParseError saying what was expected and what was found.
     """
-    expected = _pint_units(_normalise_unit(unit))
-    if expected is None:
-        raise ValueError(f"unit {unit!r} is not known to pint")  # a programming error, not user input
-    registry = _registry()
-    dimensionless = registry.Quantity(1, expected).dimensionality == registry.Quantity(1).dimensionality
+    dimensionless = _dimensionless(unit)
     if isinstance(text, bool) or not isinstance(text, (str, int, float)):
         raise _reject(text, unit, f"got {type(text).__name__} {text!r}, not a quantity string")
     if isinstance(text, (int, float)):
@@ -252,21 +280,23 @@ def parse_quantity(text: str | int | float, unit: str) -> float:
         raise _reject(raw, unit, f"'{raw.strip()}' is too large to be a number")
     if not unit_text and not dimensionless:
         raise _reject(raw, unit, f"'{raw.strip()}' has no unit")
-    found = _pint_units(_normalise_unit(unit_text)) if unit_text else registry.dimensionless
+    found, same_dimension, scale = _conversion(_normalise_unit(unit_text), unit)
     if found is None:
         raise _reject(raw, unit, f"'{unit_text}' in '{raw.strip()}' is not a unit pint knows")
-    quantity = registry.Quantity(magnitude, found)
-    wanted = registry.Quantity(1, expected)
-    if quantity.dimensionality != wanted.dimensionality:
+    if not same_dimension:
         found_name = _describe(str(found))[0] if unit_text else "a plain number"
         raise _reject(raw, unit, f"'{raw.strip()}' is {found_name}")
-    try:
-        if unit in _CELSIUS:
-            value = float(quantity.to("degC").magnitude)
-        else:
-            value = float(quantity.to_base_units().magnitude)
-    except Exception as exc:  # offset units inside compound units cannot be converted
-        raise _reject(raw, unit, f"'{raw.strip()}' cannot be converted ({type(exc).__name__})") from None
+    if scale is not None:
+        value = magnitude * scale   # what pint computes: the magnitude times its conversion factor
+    else:
+        quantity = _registry().Quantity(magnitude, found)
+        try:
+            if unit in _CELSIUS:
+                value = float(quantity.to("degC").magnitude)
+            else:
+                value = float(quantity.to_base_units().magnitude)
+        except Exception as exc:  # offset units inside compound units cannot be converted
+            raise _reject(raw, unit, f"'{raw.strip()}' cannot be converted ({type(exc).__name__})") from None
     if not math.isfinite(value):
         raise _reject(raw, unit, f"'{raw.strip()}' overflows")
     return value
