@@ -52,7 +52,7 @@ def test_defaults_are_applied_and_recorded():
     assert b.analysis.model_dump() == {"samples": 20000, "seed": 1, "coverage": 0.99, "margin": 0.05,
                                        "relax": "none"}
     assert b.series.model_dump() == {"resistor": "E24", "electrolytic": "E6", "film": "E12", "ceramic": "E12",
-                                     "pairs": False}
+                                     "pairs": ()}   # false: no pairings
     assert b.topologies == ("all",) and b.start == "power-on"
     assert b.limits.model_dump() == {"standby_after_a": None, "rails": None, "parts": None, "cost": None}
     assert set(b.weights.model_dump().values()) == {1.0}

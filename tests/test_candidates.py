@@ -35,7 +35,7 @@ def _oracle_values(name: str, lo: float, hi: float) -> list[float]:
 
 @pytest.mark.parametrize("series", ["E24", "E96"])
 def test_series_pairs_are_every_total_of_two_standard_values_a_single_lacks(series, catalog):
-    brief = load_brief(EXAMPLES / "towel_rail_boost.yaml").replace({"series.resistor": series, "series.pairs": True})
+    brief = load_brief(EXAMPLES / "towel_rail_boost.yaml").replace({"series.resistor": series, "series.pairs": ["series"]})
     role = Role("r", "resistor", "test resistor", lo=100e3, hi=300e3)
     part = catalog.parts("resistor")[0]
     table = candidates.role_candidates(role, brief, catalog, [part])

@@ -452,7 +452,7 @@ def test_design_takes_roles_options_and_series_pairs():
     single, pair = (SelectionProblem(SelectionModel("rc", "sum", [block]), band, NO_LIMITS, EQUAL_WEIGHTS).solve()
                     for band in ((90, 130), (140, 180)))
     assert single.design.values == {"r_hold": 1.5e6, "c_hold": 100e-6} and single.design.pairs == {}
-    assert pair.design.pairs == {"r_hold": (2.0e6, 0.2e6)}
+    assert pair.design.pairs == {"r_hold": (2.0e6, 0.2e6, "series")}   # no r_hold_pairing column: a series pair
     assert pair.design.options == {"darlington": "darlington-npn-small"}
     assert pair.totals["delay_lo_s"] == 150.0 and pair.totals["placements"] == 3
 
@@ -484,6 +484,10 @@ REAL_BRIEFS = {
     "hold of 1 min to 3 min, power-on, 1 mA standby": ("fan_run_on.yaml", {
         "start": "power-on", "delay.nominal": "2 min", "delay.min": "1 min", "delay.max": "3 min",
         "limits.standby_after": "1 mA"}),
+    # every pairing (series and parallel resistors, parallel capacitors, series film capacitors) on E3 values
+    "hold of 10 s to 60 s, button, E3 pairs": ("fan_run_on.yaml", {
+        "start": "button", "delay.nominal": "35 s", "delay.min": "10 s", "delay.max": "60 s",
+        "series.resistor": "E3", "series.pairs": True}),
 }
 
 

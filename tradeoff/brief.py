@@ -31,7 +31,10 @@ YAML shape and defaults (every default is recorded; `tradeoff check` shows which
     weights:    accuracy, standby, rails, parts,   1 each (>= 0, at least one above 0)
                 cost, effort
     series:     resistor, electrolytic, film,      E24, E6, E12, E12; pairs false
-                ceramic, pairs
+                ceramic, pairs                     pairs: true | false | [series, parallel]: two
+                                                   standard parts of one class in series
+                                                   (resistors, film capacitors) or in parallel
+                                                   (resistors, any capacitor); true = both
     topologies: all | [name, ...]                  all
     analysis:   samples, seed, coverage, margin    20000, 1, 0.99, 5 %; margin: the share of the band's
                                                    width every proven design keeps between its
@@ -144,13 +147,14 @@ class Weights(_Frozen):
 
 
 class Series(_Frozen):
-    """Preferred-number series allowed per component class, and whether series pairs are allowed."""
+    """Preferred-number series allowed per component class, and the pairings ('series', 'parallel') of two
+    standard parts allowed for one value (empty: single parts only)."""
 
     resistor: SeriesName
     electrolytic: SeriesName
     film: SeriesName
     ceramic: SeriesName
-    pairs: bool
+    pairs: tuple[Literal["series", "parallel"], ...]
 
 
 class Analysis(_Frozen):

@@ -26,6 +26,8 @@ __all__ = ["SERIES_NAMES", "HAZARDOUS_VOLTAGE_V", "TOP_KEYS", "BriefValue", "Sec
            "sorted_values"]
 
 SERIES_NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
+PAIRINGS = ("series", "parallel")
+"""Ways two standard parts may be combined into one value (`series.pairs`)."""
 
 DAY_S = 86400.0
 HAZARDOUS_VOLTAGE_V = 50.0
@@ -60,7 +62,7 @@ class BriefValue:
         if isinstance(self.value, (int, float)):
             return format_quantity(self.value, self.unit)
         if isinstance(self.value, tuple):
-            return ", ".join(self.value)
+            return ", ".join(self.value) or "none"
         return str(self.value)
 
 
@@ -296,6 +298,24 @@ def _read_section(r: SectionReader, path: tuple, raw: object,
     return values if all(key not in sec or values[key] is not None for key in fields) else None
 
 
+def pairings(raw: object) -> tuple[str, ...]:
+    """Parser for `series.pairs`: true (every pairing), false (none) or a list of pairings, returned in
+    `PAIRINGS` order."""
+    accepted = f"accepted: true, false or a list of {', '.join(PAIRINGS)}"
+    if isinstance(raw, bool):
+        return PAIRINGS if raw else ()
+    if not isinstance(raw, list) or not raw:
+        raise Invalid(f"got {show(raw)}; {accepted}")
+    for item in raw:
+        if item not in PAIRINGS:
+            close = closest(item, PAIRINGS)
+            hint = f" (did you mean '{close}'?)" if close else ""
+            raise Invalid(f"got {show(item)} in the list{hint}; {accepted}")
+    if len(set(raw)) < len(raw):
+        raise Invalid(f"got {show(raw)}, a pairing listed twice; {accepted}, each once")
+    return tuple(p for p in PAIRINGS if p in raw)
+
+
 def _read_limits(r: SectionReader, raw: object) -> dict | None:
     values = _read_section(r, ("limits",), raw, {
         "standby_after": (quantity("A", 1e-9, 1.0), None, "A"),
@@ -364,7 +384,7 @@ def read_sections(r: SectionReader, data: object, base_dir: Path, weight_names: 
                                  {k: (weight, 1.0, "") for k in weight_names}),
         "series": _read_section(r, ("series",), top.get("series"), {
             "resistor": (series, "E24", ""), "electrolytic": (series, "E6", ""), "film": (series, "E12", ""),
-            "ceramic": (series, "E12", ""), "pairs": (boolean, False, "")}),
+            "ceramic": (series, "E12", ""), "pairs": (pairings, (), "")}),
         "topologies": _read_topologies(r, top["topologies"]) if "topologies" in top else None,
         "analysis": _read_section(r, ("analysis",), top.get("analysis"), {
             "samples": (number(100, 10_000_000, integer=True), 20000, ""),

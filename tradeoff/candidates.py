@@ -1,6 +1,7 @@
 """Buildable candidate values for one value role: every allowed part class times every
-standard value of the brief's series inside the role's range, and (when the brief allows
-it) series pairs of two standard resistor values.
+standard value of the brief's series inside the role's range, and (when the brief's `series.pairs`
+allows it) pairs of two standard values of one class: resistors in series or parallel, capacitors in
+parallel, film capacitors in series.
 
 Topologies build their optimiser blocks from these tables, so every topology enumerates
 values the same way. A two-role block need not evaluate every (R, C) combination: where the
@@ -16,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff import eseries
+from tradeoff.devices import capacitor
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -23,14 +25,15 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.topologies.base import Role
 
 __all__ = ["role_candidates", "allowed_classes", "voltage_coefficient", "series_for", "rated_voltage",
-           "CANDIDATE_COLUMNS", "VOLTAGE_DERATING",
+           "CANDIDATE_COLUMNS", "VOLTAGE_DERATING", "PAIRINGS", "PAIR_SPAN", "significant", "pair_total", "pair_columns", "bom_lines",
            "leading_below", "window_rows", "chunks", "EVALUATION_CHUNK"]
 
 CANDIDATE_COLUMNS = ("value", "part", "series", "tolerance", "tempco", "voltage_coefficient", "cost", "placements",
-                     "first", "second", "rated_v")
+                     "first", "second", "pairing", "rated_v")
 """value [ohm or F]; part: catalog class id; series: E-series used; tolerance [fraction];
-tempco [1/K]; voltage_coefficient [1/V] (`voltage_coefficient`); cost [EUR, indicative, for all parts of the candidate]; placements (1, or 2 for a
-pair); first, second: the pair's two standard values (second is 0 for a single part);
+tempco [1/K]; voltage_coefficient [1/V] (`voltage_coefficient`); cost [EUR, indicative, for all parts of the
+candidate]; placements (1, or 2 for a pair); first, second: the pair's two standard values, first >= second
+(second is 0 for a single part); pairing: 'series', 'parallel' or '' for a single part;
 rated_v: capacitor voltage rating chosen [V] (0 for resistors)."""
 
 VOLTAGE_DERATING = 0.8
@@ -73,21 +76,113 @@ def _class_range(role: "Role", part: "Part") -> tuple[float, float]:
     return max(role.lo, part.value("min_value", unit)), min(role.hi, part.value("max_value", unit))
 
 
-def _series_pairs(base: np.ndarray, lo: float, hi: float, singles: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(first, second) standard values of the series pairs first + second in [lo, hi], first >= second, one
-    pair per total (the first of the pairs in row order), totals a single part already gives left out."""
+PAIRINGS = {"resistor": ("series", "parallel"), "electrolytic": ("parallel",), "film": ("parallel", "series"),
+            "ceramic": ("parallel",)}
+"""Pairings offered per class kind, the one whose values add first (it wins a tie on the same total): series
+resistors and parallel capacitors add, parallel resistors and series capacitors combine as reciprocals.
+Electrolytic and ceramic parts are not paired in series: their leakage or DC bias would set the split."""
+
+def _one_per_gap(total: np.ndarray, edges: np.ndarray) -> np.ndarray:
+    """Positions in `total` of the one total per gap between adjacent `edges` (sorted) nearest the gap's
+    geometric middle (the lower on a tie), in ascending order."""
+    gap = np.searchsorted(edges, total, side="right") - 1
+    inside = (gap >= 0) & (gap < len(edges) - 1)
+    at = np.flatnonzero(inside)
+    middle = np.sqrt(edges[gap[at]] * edges[gap[at] + 1])
+    order = at[np.lexsort((np.abs(np.log(total[at] / middle)), gap[at]))]
+    return np.sort(order[np.unique(gap[order], return_index=True)[1]])
+
+
+PAIR_SPAN = 10.0
+"""A pair's parts lie within this factor of its total (of the role's lower limit for the smaller part of a series
+resistor pair): a far smaller part in series, or a far larger one in parallel, moves the total by less than the
+class's own tolerance (common practice)."""
+
+
+def significant(values, digits: int = 12) -> np.ndarray:
+    """`values` rounded to `digits` significant digits: equal totals compare equal at any scale (ohms or farads)."""
+    values = np.asarray(values, dtype=float)
+    scale = 10.0 ** (digits - 1 - np.floor(np.log10(np.where(values > 0, values, 1.0))))
+    return np.round(values * scale) / scale
+
+
+def pair_total(first, second, adds: bool) -> np.ndarray:
+    """Value of two parts [ohm or F]: their sum (`adds`: series resistors, parallel capacitors) or the
+    reciprocal of the sum of reciprocals (parallel resistors, series capacitors)."""
+    first, second = np.asarray(first, dtype=float), np.asarray(second, dtype=float)
+    return significant(first + second if adds else first * second / (first + second))
+
+
+def _pairs(base: np.ndarray, lo: float, hi: float, adds: bool,
+           near_total: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(first, second, total) of the pairs of standard values `base` with first >= second and total in
+    [lo, hi], one pair per total (the first in row order); `near_total`: both parts within `PAIR_SPAN` of it."""
     a, b = np.meshgrid(base, base, indexing="ij")
-    keep = (a >= b) & (a + b >= lo) & (a + b <= hi)
+    keep = a >= b
     firsts, seconds = a[keep], b[keep]
-    totals, first_index = np.unique(np.round(firsts + seconds, 12), return_index=True)
-    first_index = first_index[~np.isin(totals, singles)]
-    return firsts[first_index], seconds[first_index]
+    totals = pair_total(firsts, seconds, adds)
+    inside = (totals >= lo) & (totals <= hi)
+    if near_total:
+        inside &= (firsts <= PAIR_SPAN * totals) & (seconds * PAIR_SPAN >= totals)
+    totals, first_index = np.unique(totals[inside], return_index=True)
+    return firsts[inside][first_index], seconds[inside][first_index], totals
+
+
+def _class_pairs(role: "Role", part: "Part", brief: "Brief", series: str, lo: float, hi: float,
+                 rated: float) -> list[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
+    """(pairing, first, second, total) of every pairing of `part` the brief allows for `role`, the parts inside
+    the class's value range. Series resistor pairs give every total; the other pairings give one total per gap
+    between adjacent single values (`_one_per_gap`), which bounds their rows by the singles' count. Capacitor
+    pairs are kept only where the pair leaks no more than one part of its total
+    (`devices.capacitor.pair_leakage_limit_a`): the topologies evaluate leakage at the total."""
+    unit = "ohm" if role.kind == "resistor" else "F"
+    kind = role.kind if role.kind == "resistor" else part.fields["dielectric"]
+    made_lo, made_hi = part.value("min_value", unit), part.value("max_value", unit)
+    out = []
+    for pairing in PAIRINGS[kind]:
+        if pairing not in brief.series.pairs:
+            continue
+        adds, every_total = (pairing == "series") == (role.kind == "resistor"), (role.kind, pairing) == ("resistor", "series")
+        span = (max(made_lo, lo / PAIR_SPAN), hi) if adds else (lo, min(made_hi, hi * PAIR_SPAN))
+        if span[0] > span[1]:
+            continue
+        first, second, total = _pairs(np.asarray(eseries.values(series, *span), dtype=float), lo, hi, adds,
+                                      near_total=not every_total)
+        if role.kind == "capacitor":
+            single = capacitor.pair_leakage_limit_a(part, total, 0.0, rated, pairing)
+            keep = capacitor.pair_leakage_limit_a(part, first, second, rated, pairing) <= single * (1 + 1e-9)
+            first, second, total = first[keep], second[keep], total[keep]
+        if not every_total:
+            at = _one_per_gap(total, np.unique(np.concatenate([[lo], eseries.values(series, lo, hi), [hi]])))
+            first, second, total = first[at], second[at], total[at]
+        out.append((pairing, first, second, total))
+    return out
+
+
+def _realisations(role: "Role", part: "Part", brief: "Brief", series: str, lo: float, hi: float,
+                  rated: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(value, first, second, pairing) of `part` for `role`: every single standard value, then one pair per
+    total no single part gives (a single part of the class has the same tolerance at lower cost, and one
+    realisation per total and class: the first pairing of `PAIRINGS`)."""
+    singles = np.asarray(eseries.values(series, lo, hi), dtype=float)
+    values, firsts, seconds, pairings = [singles], [singles], [np.zeros(len(singles))], [np.full(len(singles), "")]
+    taken = significant(singles)
+    for pairing, first, second, total in _class_pairs(role, part, brief, series, lo, hi, rated):
+        new = ~np.isin(total, taken)
+        taken = np.concatenate([taken, total[new]])
+        values.append(total[new]), firsts.append(first[new]), seconds.append(second[new])
+        pairings.append(np.full(int(new.sum()), pairing))
+    return tuple(np.concatenate(column) for column in (values, firsts, seconds, pairings))
 
 
 def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: list["Part"] | None = None) -> pd.DataFrame:
     """Candidate table (columns `CANDIDATE_COLUMNS`) for `role`, sorted by value then cost.
 
     classes: restrict to these part classes (default: every class of the role's kind and dielectric).
+    A pair's tolerance, tempco and life drift are the class's fractions: both parts at their limit in the
+    same direction move the total by that fraction in either pairing. Both parts of a series capacitor pair
+    are rated for the whole supply: over a long hold the DC split follows the insulation resistances, which
+    the datasheets bound only from below, so either part may see nearly all of it.
     """
     tables = []
     for part in classes if classes is not None else allowed_classes(role, catalog):
@@ -101,21 +196,28 @@ def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: l
                 continue
             rated = chosen
         series = series_for(part, brief)
-        singles = np.asarray(eseries.values(series, lo, hi), dtype=float)
-        firsts, seconds = singles, np.zeros(len(singles))
-        if role.kind == "resistor" and brief.series.pairs:
-            pair_firsts, pair_seconds = _series_pairs(np.asarray(eseries.values(series, lo / 10, hi), dtype=float),
-                                                      lo, hi, singles)
-            firsts, seconds = np.concatenate([firsts, pair_firsts]), np.concatenate([seconds, pair_seconds])
+        values, firsts, seconds, pairings = _realisations(role, part, brief, series, lo, hi, rated)
         placements = np.where(seconds > 0, 2, 1)
         tables.append(pd.DataFrame({
-            "value": np.where(seconds > 0, np.round(firsts + seconds, 12), firsts), "part": part.id, "series": series,
+            "value": values, "part": part.id, "series": series,
             "tolerance": part.value("tolerance", ""), "tempco": part.value("tempco", "1/K"),
             "voltage_coefficient": voltage_coefficient(part),
             "cost": placements * part.cost, "placements": placements, "first": firsts, "second": seconds,
-            "rated_v": rated}, columns=list(CANDIDATE_COLUMNS)))
+            "pairing": pairings, "rated_v": rated}, columns=list(CANDIDATE_COLUMNS)))
     table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=list(CANDIDATE_COLUMNS))
     return table.sort_values(["value", "cost"], kind="stable").reset_index(drop=True)
+
+
+def pair_columns(role: str, table: pd.DataFrame, at) -> dict[str, np.ndarray]:
+    """Block columns <role>_first, <role>_second, <role>_pairing of the candidates table.iloc[at] (a role_candidates
+    table), read by the optimiser into `Design.pairs`."""
+    return {f"{role}_{name}": table[name].to_numpy()[at] for name in ("first", "second", "pairing")}
+
+
+def bom_lines(table: pd.DataFrame, at) -> np.ndarray:
+    """BOM lines of the candidates table.iloc[at]: 2 for a pair of two different values, else 1."""
+    first, second = table["first"].to_numpy(float)[at], table["second"].to_numpy(float)[at]
+    return np.where((second > 0) & (first != second), 2, 1)
 
 
 EVALUATION_CHUNK = 1 << 16

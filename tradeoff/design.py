@@ -27,6 +27,12 @@ accepted`. Shape:
                                           number, a quantity with the catalog's dimension, or a
                                           percentage where the catalog has one); bare numbers
                                           for a quantity are SI
+    pairs: {c_hold: {parallel: [330 uF, 150 uF]}, r_hold: [200 kohm, 20 kohm]}
+                                          optional: a value role made of two standard parts,
+                                          {series: [A, B]} or {parallel: [A, B]} (a plain list
+                                          [A, B] reads as a series pair of resistors); the pair
+                                          must make the role's value (within 1 ppm); the BOM
+                                          lists both parts
 
 After the checks the topology itself reads the design once (spread quantities, nominal delay,
 parts, supply current, rails), so a choice only the topology can judge (an oscillator that
@@ -48,7 +54,9 @@ from tradeoff.catalog import load_catalog
 from tradeoff.errors import BriefError, DesignError, DesignKeyError, InputError, Problem, UnitParseError
 from tradeoff.fields import SUGGESTED_KEYS, Problems, did_you_mean, show
 from tradeoff.parts import OVERRIDE_ORIGIN
-from tradeoff.topologies.base import Design
+from tradeoff.brief_sections import PAIRINGS
+from tradeoff.candidates import pair_total
+from tradeoff.topologies.base import Design, Pair
 from tradeoff.topologies.registry import build_topology, topology_class, topology_ids
 from tradeoff.units import LEADING_NUMBER_RE, dimension, format_quantity, parse_fraction, parse_quantity
 
@@ -59,7 +67,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = ["DESIGN_KEYS", "load_design"]
 
-DESIGN_KEYS = ("brief", "topology", "values", "options", "overrides")
+DESIGN_KEYS = ("brief", "topology", "values", "options", "overrides", "pairs")
 """Top-level keys of a design file."""
 
 _REQUIRED = ("brief", "topology")
@@ -335,6 +343,47 @@ def _read_text(path: Path, source: str) -> tuple[yaml.Node, dict]:
     return root, data
 
 
+def _read_pairs(r: _Reader, raw: object, topology: "Topology", values: Mapping[str, float]) -> dict[str, Pair]:
+    """Role -> Pair of the roles made of two parts; each pair must combine to the role's value."""
+    if raw is None:
+        return {}
+    roles = {role.name: role for role in topology.roles()}
+    pairs: dict[str, Pair] = {}
+    for name, item in r.mapping(("pairs",), raw, "value role -> pair").items():
+        if name not in roles:
+            r.unknown(("pairs",), name, "value role", list(roles), f" of {topology.id}")
+            continue
+        kind, path = roles[name].kind, ("pairs", name)
+        accepted = (f"accepted: {{series: [A, B]}} or {{parallel: [A, B]}}, two quantities in "
+                    f"{_ROLE_UNITS[kind]}" + (", or [A, B] for a series pair" if kind == "resistor" else ""))
+        if isinstance(item, list) and kind == "resistor":
+            pairing, parts = "series", item
+        elif isinstance(item, dict) and len(item) == 1:
+            pairing, parts = next(iter(item.items()))
+            if pairing not in PAIRINGS:
+                r.problem(path, f"got the pairing {show(pairing)}; {accepted}")
+                continue
+            path = path + (pairing,)
+        else:
+            r.problem(path, f"got {show(item)}; {accepted}")
+            continue
+        if not isinstance(parts, list) or len(parts) != 2:
+            r.problem(path, f"got {show(parts)}; {accepted}")
+            continue
+        first, second = (_quantity(r, path + (i,), v, _ROLE_UNITS[kind]) for i, v in enumerate(parts))
+        if first is None or second is None or name not in values:
+            continue
+        first, second = max(first, second), min(first, second)
+        total = float(pair_total(first, second, (pairing == "series") == (kind == "resistor")))
+        if not math.isclose(total, values[name], rel_tol=1e-6):
+            r.problem(path, f"the {pairing} pair makes {format_quantity(total, _ROLE_UNITS[kind])}, but values.{name} "
+                      f"is {format_quantity(values[name], _ROLE_UNITS[kind])}; accepted: two parts that make the "
+                      "role's value")
+            continue
+        pairs[name] = Pair(first, second, pairing)
+    return pairs
+
+
 def load_design(path: str | Path, catalog_files=(), *,
                 brief_changes: Mapping[str, object] | None = None) -> tuple["Brief", "Topology", Design]:
     """Read and validate the design file at `path`: (brief, topology built for it, design in SI).
@@ -371,7 +420,8 @@ def load_design(path: str | Path, catalog_files=(), *,
     overrides = _read_overrides(r, data.get("overrides"), catalog)
     topology = build_topology(cls.id, brief, catalog) if cls is not None and brief is not None else None
     values = _read_values(r, data.get("values"), topology) if topology is not None else {}
+    pairs = _read_pairs(r, data.get("pairs"), topology, values) if topology is not None else {}
     r.raise_if_any()
-    design = Design(topology=topology.id, values=values, options=options, overrides=overrides)
+    design = Design(topology=topology.id, values=values, options=options, overrides=overrides, pairs=pairs)
     _probe(topology, design, r)
     return brief, topology, design

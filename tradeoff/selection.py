@@ -35,9 +35,10 @@ class Block:
 
     roles: table columns holding component values the design takes (SI: ohm, F);
     options: table columns holding discrete choices (part class id, counter stage, ...);
-    series pairs: for a role `r`, optional columns `r_first` and `r_second` hold the two standard
-    values of a pair (candidates.py's `first`/`second`); a row with `r_second` > 0 becomes
-    `Design.pairs[r] = (first, second)`, a row with `r_second` = 0 is a single part;
+    pairs: for a role `r`, optional columns `r_first`, `r_second` and `r_pairing` hold the two standard
+    values of a pair and how they combine (candidates.py's `first`/`second`/`pairing`); a row with
+    `r_second` > 0 becomes `Design.pairs[r] = Pair(first, second, pairing)` (pairing 'series' when the
+    column is absent), a row with `r_second` = 0 is a single part;
     dropped: candidates the topology's own rules removed before the optimiser saw them,
     counted by reason in the designer's terms (used to explain infeasibility).
     """

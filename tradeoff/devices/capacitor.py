@@ -18,7 +18,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.catalog import Part
 
 __all__ = ["LEAKAGE_REFERENCE_C", "TEMPCO_REFERENCE_C", "INSULATION_TYPICAL_FRAC", "LEAK_LEVEL", "band_frac",
-           "electrolytic_leakage_a", "insulation_resistance_ohm", "power_sum", "level_weights", "leakage_level",
+           "electrolytic_leakage_a", "insulation_resistance_ohm", "pair_leakage_limit_a", "power_sum", "level_weights", "leakage_level",
            "CapacitorLeakage", "rc_discharge_time_s"]
 
 LEAKAGE_REFERENCE_C = 20.0
@@ -95,6 +95,33 @@ def insulation_resistance_ohm(c_f, part) -> np.ndarray:
         raise ValueError("c_f must be > 0 F")
     return np.minimum(part.value("insulation_resistance_min", "ohm"),
                       part.value("insulation_time_constant", "s") / c_f)
+
+
+def pair_leakage_limit_a(part, first_f, second_f, rated_v, pairing: str = "parallel") -> np.ndarray:
+    """Leakage limit at rated voltage and 20 degC of two capacitors of one class [A] (second_f = 0: one part).
+
+    first_f, second_f: the parts' capacitances [F]; rated_v [V]; pairing 'parallel' or 'series'.
+    Parallel: the parts leak side by side, so the limits add, each part's at its own value:
+        electrolytic  I = max(k·C1·Vr, I0) + max(k·C2·Vr, I0)  (the floor counts twice when both sit on it)
+        film, ceramic I = Vr/R1 + Vr/R2,  Ri = min(R_min, tau/Ci)
+    Series (film): the same DC current crosses both insulation resistances, I = Vr/(R1 + R2). In the
+    time-constant regime R1 + R2 = tau·(1/C1 + 1/C2) = tau/C_series: the single-part law at the series value;
+    on the fixed minimum the sum exceeds it, so the single law at the total is an upper bound.
+    Both limits are proportional to the total in the proportional regime (k·C·Vr above the floor, tau/C below
+    R_min), where a pair leaks exactly as one part of its total value; the voltage and temperature laws of
+    `electrolytic_leakage_a` scale every part alike.
+    """
+    first_f, second_f = np.asarray(first_f, dtype=float), np.asarray(second_f, dtype=float)
+    has_second = second_f > 0
+    if part.fields.get("dielectric") == "electrolytic":
+        def limit(c):
+            return np.maximum(part.value("leakage_k", "A/(F*V)") * c * rated_v, part.value("leakage_floor", "A"))
+        return limit(first_f) + np.where(has_second, limit(second_f), 0.0)
+    first_ohm = insulation_resistance_ohm(first_f, part)
+    second_ohm = insulation_resistance_ohm(np.where(has_second, second_f, 1.0), part)
+    if pairing == "series":
+        return rated_v / (first_ohm + np.where(has_second, second_ohm, 0.0))
+    return rated_v / first_ohm + np.where(has_second, rated_v / second_ohm, 0.0)
 
 
 _HORNER_MAX_EXPONENT = 4

@@ -13,7 +13,7 @@ import numpy as np
 
 from tradeoff.criteria import WEIGHT_NAMES, share
 from tradeoff.selection import SelectionModel
-from tradeoff.topologies.base import Design
+from tradeoff.topologies.base import Design, Pair
 from tradeoff.units import format_quantity
 
 __all__ = ["Requirement", "Scales", "Tables", "TOLERANCE", "LINEAR_TERMS", "DELAYS", "seconds", "gather", "extreme"]
@@ -328,9 +328,10 @@ class Tables:
             row = block.table.iloc[int(r)]
             for role in block.roles:
                 values[role] = float(row[role])
-                first, second = f"{role}_first", f"{role}_second"
+                first, second, pairing = f"{role}_first", f"{role}_second", f"{role}_pairing"
                 if first in row.index and second in row.index and float(row[second]) > 0:
-                    pairs[role] = (float(row[first]), float(row[second]))
+                    pairs[role] = Pair(float(row[first]), float(row[second]),
+                                       str(row[pairing]) if pairing in row.index else "series")
             for option in block.options:
                 v = row[option]
                 options[option] = v.item() if isinstance(v, np.generic) else v

@@ -15,7 +15,8 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain
-from tradeoff.candidates import leading_below, role_candidates, voltage_coefficient, window_rows
+from tradeoff.candidates import (bom_lines, leading_below, pair_columns, role_candidates, voltage_coefficient,
+                                 window_rows)
 from tradeoff.devices.capacitor import band_frac
 from tradeoff.devices.life import electrolytic_ageing, surface_conductance_s
 from tradeoff.units import format_quantity as fq
@@ -116,8 +117,8 @@ def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, 
     """Rows of the candidate pairs (r.iloc[ri], c.iloc[ci]) of two `role_tables`.
 
     Columns: <r_role>, <c_role> (values [ohm], [F]), r_part, c_part, r_spread, c_spread (band
-    fractions as in `component_band`), c_rated_v [V], cost [EUR], placements, first/second
-    series parts of the resistor (r_first, r_second).
+    fractions as in `component_band`), c_rated_v [V], cost [EUR], placements, BOM lines, and each role's pair
+    (<role>_first, <role>_second, <role>_pairing: `candidates.CANDIDATE_COLUMNS`).
     """
     ri, ci = np.asarray(ri, dtype=np.int64), np.asarray(ci, dtype=np.int64)
     column = {name: (r[name].to_numpy()[ri], c[name].to_numpy()[ci]) for name in
@@ -129,7 +130,8 @@ def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, 
         "c_rated_v": c["rated_v"].to_numpy(float)[ci],
         "cost": (column["cost"][0] + column["cost"][1]).astype(float),
         "placements": (column["placements"][0] + column["placements"][1]).astype(int),
-        "r_first": r["first"].to_numpy(float)[ri], "r_second": r["second"].to_numpy(float)[ri],
+        "lines": bom_lines(r, ri) + bom_lines(c, ci),
+        **pair_columns(r_role.name, r, ri), **pair_columns(c_role.name, c, ci),
     }).astype({"r_part": r["part"].dtype, "c_part": c["part"].dtype})   # also when no pair is listed
 
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from abc import ABC, abstractmethod
 from dataclasses import KW_ONLY, dataclass, field
-from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping
+from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping, NamedTuple
 
 import numpy as np
 
@@ -28,7 +28,7 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
     from tradeoff.selection import SelectionModel
 
 __all__ = [
-    "Role", "Design", "BomLine", "Standby", "Finding", "Waveform", "Evaluation", "Topology",
+    "Role", "Pair", "Design", "BomLine", "Standby", "Finding", "Waveform", "Evaluation", "Topology",
     "margin_shortfalls", "ENVIRONMENT", "NOMINAL_AMBIENT_C",
 ]
 
@@ -60,14 +60,23 @@ class Role:
     limit: str = ""
 
 
+class Pair(NamedTuple):
+    """Two standard parts of one class making a role's value: first >= second [ohm or F], pairing 'series' or
+    'parallel'."""
+
+    first: float
+    second: float
+    pairing: Literal["series", "parallel"] = "series"
+
+
 @dataclass(frozen=True)
 class Design:
     """A concrete design: topology id, component values [SI], discrete options, part overrides.
 
     values: role -> value [ohm, F]; options: e.g. {'darlington': 'darlington-npn-small', 'stage': 14};
     overrides: part id -> {param: SI value} replacing catalog parameters (for reference checks
-    against one specific transistor or capacitor); pairs: role -> the two standard values whose
-    series combination makes the role's value, when series pairs are used.
+    against one specific transistor or capacitor); pairs: role -> the `Pair` of two standard parts whose
+    series or parallel combination makes the role's value (roles of one part are absent).
     """
 
     topology: str
@@ -80,6 +89,10 @@ class Design:
         """Hashable identity used to tell designs apart (alternatives, no-good cuts)."""
         return (self.topology, tuple(sorted(self.values.items())), tuple(sorted(self.options.items())),
                 tuple(sorted(self.pairs.items())))
+
+    def pairs_dict(self) -> dict[str, dict[str, Any]]:
+        """JSON-ready pairs: role -> {first, second [ohm or F], pairing}."""
+        return {role: pair._asdict() for role, pair in sorted(self.pairs.items())}
 
 
 @dataclass(frozen=True)
@@ -219,6 +232,7 @@ class Evaluation:
             "topology": self.topology,
             "values": dict(self.design.values),
             "options": {k: (v if isinstance(v, (int, float, str)) else str(v)) for k, v in self.design.options.items()},
+            "pairs": self.design.pairs_dict(),
             "delay": {
                 "nominal_s": _finite_or_none(self.nominal_s),
                 "worst_min_s": _finite_or_none(self.worst.min_s),

@@ -80,7 +80,7 @@ def comparator_selection(topo: "Topology") -> SelectionModel:
                                    regulator=rail.option, comparator=comp.id, reference=ref.id,
                                    cost=pairs["cost"] + sum(b.cost for b in fixed),
                                    placements=pairs["placements"] + sum(b.quantity for b in fixed),
-                                   lines=len(fixed) + 2, during_a=during, after_a=after, rails=rail.rails - 1))
+                                   lines=pairs["lines"] + len(fixed), during_a=during, after_a=after, rails=rail.rails - 1))
     empty = bands.pair_rows(r_role, c_role, r, c, [], [])
     table = pd.concat(tables, ignore_index=True) if tables else empty.assign(
         delay_lo=0.0, delay_nom=0.0, delay_hi=0.0, regulator="", comparator="", reference="", lines=0,

@@ -29,6 +29,7 @@ from tradeoff.topologies.hold_spice import hold_netlist
 from tradeoff.topologies.hold_start import start_leakage_a, start_voltage
 from tradeoff.topologies.hold_state import HoldState, HoldWaveform, shunt_ohm
 from tradeoff.topologies.hold_tables import hold_selection
+from tradeoff.topologies.ic_common import value_lines
 
 __all__ = ["RcHoldTopology"]
 
@@ -254,9 +255,8 @@ class RcHoldTopology(RelayLoad, Topology):
         r_part = self.value_part(design, "r_hold", "res-metal-film-1pct")
         c_part = self.value_part(design, "c_hold", "cap-electrolytic-85c")
         driver, diode = self.driver(design), self.diode(design)
-        lines = [BomLine("R1", r_part.id, fq(design.values["r_hold"], "Ω"), 1, r_part.cost, "hold resistor"),
-                 BomLine("C1", c_part.id, f"{fq(design.values['c_hold'], 'F')} {fq(self.rated_v(design, 'c_hold'), 'V')}",
-                         1, c_part.cost, "hold capacitor"),
+        lines = [*value_lines(design, "r_hold", "R1", r_part, "hold resistor"),
+                 *value_lines(design, "c_hold", "C1", c_part, "hold capacitor", self.rated_v(design, "c_hold")),
                  BomLine("Q1", driver.id, driver.category, 1, driver.cost, "relay driver"),
                  BomLine("D1", diode.id, "flyback", 1, diode.cost, "across the relay coil")]
         if not self.power_on:
@@ -267,9 +267,8 @@ class RcHoldTopology(RelayLoad, Topology):
         cs_part = self.value_part(design, "c_start", "cap-ceramic-x7r")
         pnp = self.pnp(design)
         lines += [BomLine("Q2", pnp.id, "PNP", 1, pnp.cost, "power-on start pulse"),
-                  BomLine("R2", rs_part.id, fq(design.values["r_start"], "Ω"), 1, rs_part.cost, "start resistor"),
-                  BomLine("C2", cs_part.id, f"{fq(design.values['c_start'], 'F')} "
-                          f"{fq(self.rated_v(design, 'c_start'), 'V')}", 1, cs_part.cost, "start capacitor"),
+                  *value_lines(design, "r_start", "R2", rs_part, "start resistor"),
+                  *value_lines(design, "c_start", "C2", cs_part, "start capacitor", self.rated_v(design, "c_start")),
                   BomLine("R3", fixed.id, fq(self.fixed_ohm(design, "r_be"), "Ω"), 1, fixed.cost, "start PNP base pull-up"),
                   BomLine("R4", fixed.id, fq(self.fixed_ohm(design, "r_charge"), "Ω"), 1, fixed.cost, "charge resistor")]
         return lines

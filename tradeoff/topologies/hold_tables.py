@@ -153,7 +153,7 @@ def hold_selection(topo: "Topology") -> SelectionModel:
     dropped.count(reason, int((~ok).sum()) * len(c))
     rows = windowed_hold_rows(topo, design0, r[ok].reset_index(drop=True), c, dropped)
     rows = rows.rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part", "c_rated_v": "c_hold_rated_v"})
-    rows = rows.assign(lines=2, during_a=0.0, after_a=0.0,
+    rows = rows.assign(during_a=0.0, after_a=0.0,
                        log_need=np.log(CHARGE_TIME_CONSTANTS * topo.fixed_ohm(design0, "r_charge")
                                        * rows["c_hold"] * (1 + rows["c_spread"])) if topo.power_on else 0.0)
     blocks = [Block("hold", rows, roles=("r_hold", "c_hold"),
@@ -220,7 +220,7 @@ def start_block(topo: "Topology", design0: "Design", hold_table: pd.DataFrame) -
                                                  rated_v=sub["c_rated_v"].to_numpy(float))
     # delay_lo takes no credit for the pulse: while the PNP fades its tail may already drain a small hold
     # capacitor, so only the hold block's own minimum (from 95 % charge) is a guaranteed lower bound
-    table = rows.assign(delay_lo=0.0, delay_nom=nom, delay_hi=pulses.max(axis=0), lines=2,
+    table = rows.assign(delay_lo=0.0, delay_nom=nom, delay_hi=pulses.max(axis=0),
                         during_a=0.0, after_a=typical_leak,
                         log_window=np.log(np.maximum(window, 1e-300)))[keep]
     table = table.rename(columns={"r_part": "r_start_part", "c_part": "c_start_part", "c_rated_v": "c_start_rated_v"})

@@ -24,7 +24,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "TEMPCO_REFERENCE_C", "role_part", "value_spread", "at_temperature",
-    "typical_to_limit", "timing_candidates", "role_bom", "class_two_ceramic",
+    "typical_to_limit", "timing_candidates", "value_lines", "role_bom", "class_two_ceramic",
     "fixed_part", "drop_count", "supply_problem", "drop_dominated", "diode", "start_bom", "start_checks",
 ]
 
@@ -115,18 +115,25 @@ def timing_candidates(topo: "Topology", role: Role, dropped: dict[str, int]) -> 
     return table
 
 
-def role_bom(topo: "Topology", design: Design, role: Role, ref: str, note: str) -> list[BomLine]:
-    """BOM line(s) of a value role: one part, or the two parts of a series pair."""
-    part = role_part(topo, design, role)
-    unit = "ohm" if role.kind == "resistor" else "F"
-    pair = design.pairs.get(role.name)
+def value_lines(design: Design, role: str, ref: str, part: "Part", note: str, rated_v: float = 0.0) -> list[BomLine]:
+    """BOM line(s) of the value role `role` filled by `part`: one part, or the two parts of its pair (refs
+    <ref>a and <ref>b, one line with quantity 2 when both values are equal), the note naming the pairing;
+    rated_v [V] > 0 adds a capacitor's rating to the value text."""
+    unit = "ohm" if part.category == "resistor" else "F"
+    rating = f" {fq(rated_v, 'V')}" if rated_v > 0 else ""
+    pair = design.pairs.get(role)
     if not pair:
-        return [BomLine(ref, part.id, fq(design.values[role.name], unit), 1, part.cost, note)]
-    first, second = pair
-    if first == second:
-        return [BomLine(f"{ref}a, {ref}b", part.id, fq(first, unit), 2, part.cost, f"{note} (series pair)")]
-    return [BomLine(f"{ref}a", part.id, fq(first, unit), 1, part.cost, f"{note} (series pair)"),
-            BomLine(f"{ref}b", part.id, fq(second, unit), 1, part.cost, f"{note} (series pair)")]
+        return [BomLine(ref, part.id, fq(design.values[role], unit) + rating, 1, part.cost, note)]
+    note = f"{note} ({pair.pairing} pair)"
+    if pair.first == pair.second:
+        return [BomLine(f"{ref}a, {ref}b", part.id, fq(pair.first, unit) + rating, 2, part.cost, note)]
+    return [BomLine(f"{ref}a", part.id, fq(pair.first, unit) + rating, 1, part.cost, note),
+            BomLine(f"{ref}b", part.id, fq(pair.second, unit) + rating, 1, part.cost, note)]
+
+
+def role_bom(topo: "Topology", design: Design, role: Role, ref: str, note: str) -> list[BomLine]:
+    """BOM line(s) of a value role (`value_lines`) filled by its part class (`role_part`)."""
+    return value_lines(design, role.name, ref, role_part(topo, design, role), note)
 
 
 def fixed_part(topo: "Topology", kind: str, value: float, ref: str, note: str, timing: bool = False) -> BomLine:

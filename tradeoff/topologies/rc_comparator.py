@@ -42,6 +42,7 @@ from tradeoff.devices.quadrature import discharge_integral_s, evaluate_in_chunks
 from tradeoff.topologies import bands, hold_state, logic
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.comparator_tables import comparator_selection
+from tradeoff.topologies.ic_common import value_lines
 from tradeoff.units import format_quantity as fq
 
 __all__ = ["RcComparator", "R_TOP_OHM", "R_BOTTOM_OHM", "R_HYST_OHM", "HYSTERESIS_MIN_V"]
@@ -234,9 +235,8 @@ class RcComparator(Topology):
         rail = self._rail(design)
         r_part = self.option_part(design, "r_hold_part")
         c_part, rated = self._cap(design)
-        hold_lines = [BomLine("R4", r_part.id, fq(self.design_value(design, "r_hold"), "ohm"), 1, r_part.cost, "hold"),
-                      BomLine("C4", c_part.id, f"{fq(self.design_value(design, 'c_hold'), 'F')} {fq(rated, 'V')}", 1,
-                              c_part.cost, "hold")]
+        hold_lines = [*value_lines(design, "r_hold", "R4", r_part, "hold"),
+                      *value_lines(design, "c_hold", "C4", c_part, "hold", rated)]
         return self._fixed_bom(design, rail) + hold_lines
 
     def checks(self, design: Design) -> list[Finding]:

@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff import eseries
-from tradeoff.candidates import EVALUATION_CHUNK
+from tradeoff.candidates import EVALUATION_CHUNK, bom_lines, pair_columns
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.oscillator import rc_half_periods_s, rc_junction_v, rc_running_current_a, threshold_factor
 from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables
@@ -273,7 +273,8 @@ class RCCounter(CounterTimer):
                     groups.append((index, counter, plan.rail, f, rg, cg))
         columns = ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
                    "r_timing", "c_timing", "r_timing_part", "c_timing_part", "r_timing_first", "r_timing_second",
-                   "counter_index", "latch_path_ohm"]
+                   "r_timing_pairing", "c_timing_first", "c_timing_second", "c_timing_pairing", "counter_index",
+                   "latch_path_ohm"]
         if not groups:
             return pd.DataFrame(columns=columns)
         # the period's extremes grow with Rt·Ct: the longest shortest period at each group's largest pair, the
@@ -349,15 +350,14 @@ class RCCounter(CounterTimer):
             spreads["mos_vt_v"].nominal)
         running, latched = self._currents_of(latch_path, ct, nom, rail.nominal_v)
         rs_part_cost = fixed_part(self, "resistor", RS_MIN_OHM, "R2", "Rs").unit_cost
-        first, second = rg["first"].to_numpy()[ri], rg["second"].to_numpy()[ri]
         return pd.DataFrame({
             "delay_lo": lo, "delay_nom": nom, "delay_hi": hi,
             "cost": rg["cost"].to_numpy()[ri] + cg["cost"].to_numpy()[ci] + rs_part_cost,
-            "placements": rg["placements"].to_numpy()[ri] + 2,
-            "lines": np.where((second > 0) & (first != second), 2, 1) + 2,
+            "placements": rg["placements"].to_numpy()[ri] + cg["placements"].to_numpy()[ci] + 1,
+            "lines": bom_lines(rg, ri) + bom_lines(cg, ci) + 1,
             "during_a": running, "after_a": latched, "r_timing": rt, "c_timing": ct,
             "r_timing_part": rg["part"].iat[0], "c_timing_part": cg["part"].iat[0],
-            "r_timing_first": first, "r_timing_second": second, "counter_index": float(index),
+            **pair_columns("r_timing", rg, ri), **pair_columns("c_timing", cg, ci), "counter_index": float(index),
             "latch_path_ohm": latch_path,
         })
 

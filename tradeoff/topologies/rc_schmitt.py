@@ -40,6 +40,7 @@ from tradeoff.devices.quadrature import evaluate_in_chunks
 from tradeoff.devices.schmitt import bisect_arrays, charge_time_s, falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies import bands, hold_state
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
+from tradeoff.topologies.ic_common import value_lines
 from tradeoff.topologies.schmitt_tables import schmitt_selection
 from tradeoff.units import format_quantity as fq
 
@@ -214,9 +215,8 @@ class RcSchmitt(Topology):
     def bom(self, design: Design) -> list[BomLine]:
         """Charge R and C, two NPNs and their network, the P-MOSFET, reset and flyback diodes, the button."""
         r_part, leak = self.part(design, "r_hold_part"), self._leakage(design)
-        return [BomLine("R1", r_part.id, fq(self.design_value(design, "r_hold"), "Ω"), 1, r_part.cost, "charge resistor"),
-                BomLine("C1", leak.part.id, f"{fq(self.design_value(design, 'c_hold'), 'F')} {fq(float(leak.rated_v), 'V')}",
-                        1, leak.part.cost, "timing capacitor")] + self._fixed_bom(design)
+        return [*value_lines(design, "r_hold", "R1", r_part, "charge resistor"),
+                *value_lines(design, "c_hold", "C1", leak.part, "timing capacitor", float(leak.rated_v))] + self._fixed_bom(design)
 
     # ---- design rules ---------------------------------------------------------------------
     def checks(self, design: Design) -> list[Finding]:

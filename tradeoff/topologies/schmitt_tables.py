@@ -56,7 +56,7 @@ def schmitt_selection(topo: "Topology") -> SelectionModel:
     lo, nom, hi, after = table_delays(topo, rows, (-1, 0, 1), with_after=True, trips=trips)
     keep = dropped.drop(~np.isfinite(hi), lambda m: "at the longest-delay corner the capacitor's leakage "
                         "and Q1's base current reach the charge current below the trip point: never times out")
-    table = rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi, after_a=after, lines=2, during_a=0.0)
+    table = rows.assign(delay_lo=lo, delay_nom=nom, delay_hi=hi, after_a=after, during_a=0.0)
     table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part",
                                         "c_rated_v": "c_hold_rated_v"})
     design0 = Design(topo.id, {"r_hold": 10e6, "c_hold": 1e-6})

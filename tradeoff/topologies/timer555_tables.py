@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 
 from tradeoff.analysis import Uncertain
-from tradeoff.candidates import chunks, leading_below, window_rows
+from tradeoff.candidates import bom_lines, chunks, leading_below, pair_columns, window_rows
 from tradeoff.errors import CatalogError
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies.bands import BOARD_LEAK
@@ -97,7 +97,7 @@ def _columns() -> list[str]:
     """Columns of the timing block, in order."""
     return ["delay_lo", "delay_nom", "delay_hi", "cost", "placements", "lines", "during_a", "after_a",
             "r_timing", "c_timing", "timer", "r_timing_part", "c_timing_part", "r_timing_first",
-            "r_timing_second"]
+            "r_timing_second", "r_timing_pairing", "c_timing_first", "c_timing_second", "c_timing_pairing"]
 
 
 def _corners(topo: "Topology", q: Mapping[str, Uncertain], r, c, ambient_c: float, supply_v: float,
@@ -164,14 +164,13 @@ def _rows(topo: "Topology", timer: TimerClass, support: list[BomLine], rs: pd.Da
     ok = ~stuck
     r, ri, ci = r[ok], ri[ok], ci[ok]
     during, after = topo.currents_a(timer, r)
-    first, second = rs["first"].to_numpy()[ri], rs["second"].to_numpy()[ri]
     return pd.DataFrame({
         "delay_lo": lo[ok], "delay_nom": nom[ok], "delay_hi": hi[ok],
         "cost": rs["cost"].to_numpy()[ri] + cs["cost"].to_numpy()[ci] + sum(b.cost for b in support),
-        "placements": rs["placements"].to_numpy()[ri] + 1 + sum(b.quantity for b in support),
-        "lines": np.where((second > 0) & (first != second), 2, 1) + 1 + len(support),
+        "placements": rs["placements"].to_numpy()[ri] + cs["placements"].to_numpy()[ci] + sum(b.quantity for b in support),
+        "lines": bom_lines(rs, ri) + bom_lines(cs, ci) + len(support),
         "during_a": during, "after_a": after,
         "r_timing": r, "c_timing": c[ok],
         "timer": timer.part.id, "r_timing_part": r_part.id, "c_timing_part": c_part.id,
-        "r_timing_first": first, "r_timing_second": second,
+        **pair_columns("r_timing", rs, ri), **pair_columns("c_timing", cs, ci),
     }, columns=_columns())
