@@ -96,6 +96,13 @@ def test_pairs_combine_standard_values_one_per_total_and_never_a_singles_value(r
         assert np.allclose(np.where(adds, a + b, a * b / (a + b)), pairs["value"], rtol=1e-11)
         assert (a >= b).all() and (pairs["placements"] == 2).all() and np.allclose(pairs["cost"], 2 * part.cost)
         assert (rows["tolerance"] == part.value("tolerance", "")).all()
+        # but series resistors, pairs fill only gaps between adjacent standard values wider than the class's
+        # tolerance band (1 + t)², one total per gap and pairing (IEC 60063 spaces E12 for 10 %, E24 for 5 %)
+        edges = np.unique(np.concatenate([[made[0]], _oracle(series, *made), [made[1]]]))
+        for pairing in {"series", "parallel"} - ({"series"} if role.kind == "resistor" else set()):
+            gap = np.searchsorted(edges, pairs.loc[pairs["pairing"] == pairing, "value"].to_numpy()) - 1
+            assert len(set(gap)) == len(gap)
+            assert (edges[gap + 1] > edges[gap] * (1 + part.value("tolerance", "")) ** 2).all()
         if role.kind == "capacitor":
             dielectric = part.fields["dielectric"]
             assert set(pairs["pairing"]) <= ({"parallel", "series"} if dielectric == "film" else {"parallel"})

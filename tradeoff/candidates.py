@@ -82,11 +82,14 @@ PAIRINGS = {"resistor": ("series", "parallel"), "electrolytic": ("parallel",), "
 resistors and parallel capacitors add, parallel resistors and series capacitors combine as reciprocals.
 Electrolytic and ceramic parts are not paired in series: their leakage or DC bias would set the split."""
 
-def _one_per_gap(total: np.ndarray, edges: np.ndarray) -> np.ndarray:
+def _one_per_gap(total: np.ndarray, edges: np.ndarray, tolerance: float) -> np.ndarray:
     """Positions in `total` of the one total per gap between adjacent `edges` (sorted) nearest the gap's
-    geometric middle (the lower on a tie), in ascending order."""
+    geometric middle (the lower on a tie), in ascending order, in the gaps wider than a ratio (1 + tolerance)²
+    only: IEC 60063 spaces each series so that adjacent values' tolerance bands meet (E12 for 10 %, E24 for
+    5 %), and in a narrower gap every total already lies within a part's tolerance of a standard value."""
     gap = np.searchsorted(edges, total, side="right") - 1
     inside = (gap >= 0) & (gap < len(edges) - 1)
+    inside[inside] = edges[gap[inside] + 1] > edges[gap[inside]] * (1 + tolerance) ** 2
     at = np.flatnonzero(inside)
     middle = np.sqrt(edges[gap[at]] * edges[gap[at] + 1])
     order = at[np.lexsort((np.abs(np.log(total[at] / middle)), gap[at]))]
@@ -132,7 +135,8 @@ def _class_pairs(role: "Role", part: "Part", brief: "Brief", series: str, lo: fl
                  rated: float) -> list[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
     """(pairing, first, second, total) of every pairing of `part` the brief allows for `role`, the parts inside
     the class's value range. Series resistor pairs give every total; the other pairings give one total per gap
-    between adjacent single values (`_one_per_gap`), which bounds their rows by the singles' count. Capacitor
+    between adjacent single values wider than the class's tolerance band (`_one_per_gap`), which bounds their
+    rows by the singles' count. Capacitor
     pairs are kept only where the pair leaks no more than one part of its total
     (`devices.capacitor.pair_leakage_limit_a`): the topologies evaluate leakage at the total."""
     unit = "ohm" if role.kind == "resistor" else "F"
@@ -153,7 +157,8 @@ def _class_pairs(role: "Role", part: "Part", brief: "Brief", series: str, lo: fl
             keep = capacitor.pair_leakage_limit_a(part, first, second, rated, pairing) <= single * (1 + 1e-9)
             first, second, total = first[keep], second[keep], total[keep]
         if not every_total:
-            at = _one_per_gap(total, np.unique(np.concatenate([[lo], eseries.values(series, lo, hi), [hi]])))
+            at = _one_per_gap(total, np.unique(np.concatenate([[lo], eseries.values(series, lo, hi), [hi]])),
+                              part.value("tolerance", ""))
             first, second, total = first[at], second[at], total[at]
         out.append((pairing, first, second, total))
     return out
