@@ -55,8 +55,8 @@ def test_series_pairs_are_every_total_of_two_standard_values_a_single_lacks(seri
 
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.lists(st.floats(-1e3, 1e3), min_size=0, max_size=40), min_size=1, max_size=6),
-       st.floats(-1e3, 1e3), st.booleans(), st.sampled_from([1, 2, 7]))
-def test_bisection_counts_as_a_linear_scan(groups, threshold, inclusive, probes):
+       st.floats(-1e3, 1e3), st.booleans(), st.sampled_from([1, 2, 7]), st.booleans())
+def test_bisection_counts_as_a_linear_scan(groups, threshold, inclusive, probes, last_first):
     rows = [np.sort(np.array(g, dtype=float)) for g in groups]
     sizes = np.array([len(r) for r in rows])
     calls = []
@@ -66,11 +66,14 @@ def test_bisection_counts_as_a_linear_scan(groups, threshold, inclusive, probes)
         assert len(g) <= probes * len(rows)
         return np.array([rows[a][b] for a, b in zip(g, i)])
 
-    got = candidates.leading_below(evaluate, sizes, threshold, inclusive, probes)
+    got = candidates.leading_below(evaluate, sizes, threshold, inclusive, probes, last_first)
     expected = [int(np.sum(r <= threshold if inclusive else r < threshold)) for r in rows]
     assert got.tolist() == expected
     # each call shrinks every open window to at most 1/(probes + 1) of its length: a search, not a scan
-    assert len(calls) <= int(np.ceil(np.log(max(sizes.max(), 1) + 1) / np.log(probes + 1))) + 1
+    # (last_first: one more call, the last rows)
+    assert len(calls) <= int(np.ceil(np.log(max(sizes.max(), 1) + 1) / np.log(probes + 1))) + 1 + last_first
+    if last_first:   # a group lying wholly below costs one row
+        assert calls[0] == int((sizes > 0).sum())
 
 
 def test_window_rows_lists_each_window_in_order():

@@ -477,9 +477,35 @@ def test_oscillator_block_pruned_while_built_equals_the_full_table(rc, monkeypat
     brief = rc.brief.replace(changes)
     pruned = build_topology("rc-counter", brief, rc.catalog).selection()
     monkeypatch.setattr(RCCounter, "_reachable", lambda self, lo, hi, path, stages: np.arange(len(lo)))
+    monkeypatch.setattr(RCCounter, "_spread_fits", lambda self, counter, f, rg, cg, env, ri, ci: (ri, ci))
     full = build_topology("rc-counter", brief, rc.catalog).selection()
     assert len(full.blocks[0].table) > 1000
     for a, b in zip(pruned.blocks, full.blocks):
         pd.testing.assert_frame_equal(a.table, b.table)
     assert sum(pruned.blocks[0].dropped.values()) == sum(full.blocks[0].dropped.values())
     assert pruned.blocks[0].dropped != full.blocks[0].dropped   # the pairs pruned early are counted as such
+
+
+def test_pairs_dropped_for_their_period_spread_are_those_no_count_keeps(rc, monkeypatch):
+    # on a 12 min to 18 min band about half the (Rt, Ct) pairs spread their periods wider than max/min before
+    # N·S: dropping them before the interpolation leaves the blocks and the dropped counts of evaluating them all
+    from tradeoff.topologies.rc_counter import RCCounter
+
+    brief = rc.brief.replace({"delay.min": "12 min", "delay.max": "18 min"})
+    spread_fits, seen = RCCounter._spread_fits, []
+
+    def counted(self, *args):
+        ri, ci = spread_fits(self, *args)
+        seen.append((len(args[-1]), len(ci)))
+        return ri, ci
+
+    monkeypatch.setattr(RCCounter, "_spread_fits", counted)
+    early = build_topology("rc-counter", brief, rc.catalog).selection()
+    offered, passed = np.sum(seen, axis=0)
+    assert 0 < passed < offered
+    monkeypatch.setattr(RCCounter, "_spread_fits", lambda self, counter, f, rg, cg, env, ri, ci: (ri, ci))
+    late = build_topology("rc-counter", brief, rc.catalog).selection()
+    assert len(late.blocks[0].table) > 100
+    for a, b in zip(early.blocks, late.blocks):
+        pd.testing.assert_frame_equal(a.table, b.table)
+        assert a.dropped == b.dropped

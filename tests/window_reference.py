@@ -10,8 +10,8 @@ from __future__ import annotations
 import numpy as np
 
 
-def full_scan(evaluate, sizes, threshold, inclusive=False, probes=1):
-    """How many rows of each group lie below `threshold`, evaluating all of them (`probes` is ignored)."""
+def full_scan(evaluate, sizes, threshold, inclusive=False, probes=1, last_first=False):
+    """How many rows of each group lie below `threshold`, evaluating all of them (`probes`, `last_first` ignored)."""
     counts = []
     for g, n in enumerate(np.asarray(sizes)):
         values = np.asarray(evaluate(np.full(int(n), g), np.arange(int(n))), dtype=float)

@@ -15,9 +15,10 @@ from functools import lru_cache
 import numpy as np
 from scipy.interpolate import RegularGridInterpolator
 
+from tradeoff.devices.capacitor import TEMPCO_REFERENCE_C
 from tradeoff.devices.oscillator import clamped_period_factor, inverter_factor
 
-__all__ = ["RS_RATIO", "OscillatorTables", "oscillator_tables"]
+__all__ = ["RS_RATIO", "OscillatorTables", "oscillator_tables", "rc_extremes"]
 
 RS_RATIO = 2.0
 """Rs/Rt the datasheets' constant k holds for (4060-type datasheets: Rs about 2·Rt); the counter takes
@@ -46,6 +47,8 @@ class OscillatorTables:
         reference = clamped_period_factor(0.5, RS_RATIO, clamp_v / vref, 0.0, 0.0, 0.0)
         network = clamped_period_factor(0.5, rs, clamp_v / v, cp, 0.0, 0.0) / reference
         self._network = RegularGridInterpolator((np.log(_RS_NODES), _CP_NODES, vdd), network)
+        self.network_rises_with_cp = bool(np.all(np.diff(network, axis=1) >= 0))
+        """True when N/N_ref does not fall along Cp/Ct at any node: then (multilinear, clipped) nowhere."""
         vts = np.linspace(*vt_range, 5) if vt_range[1] > vt_range[0] else np.array([vt_range[0] - 1e-3, vt_range[0]])
         rt, v, vt = np.meshgrid(_RT_NODES, vdd, vts, indexing="ij")
         inverters = inverter_factor(v, vt, kp, rt) / inverter_factor(vref, vt[:, :1], kp, rt[:, :1])  # reference: no supply axis
@@ -76,3 +79,17 @@ def oscillator_tables(clamp_v: float, kp: float, vdd_range: tuple[float, float],
               vt_range: tuple[float, float]) -> OscillatorTables:
     """The tables for one set of class figures, built once per process (about a second)."""
     return OscillatorTables(clamp_v, kp, vdd_range, vref, vt_range)
+
+
+def rc_extremes(r, c, ri, ci, temps_c) -> tuple[np.ndarray, np.ndarray]:
+    """Smallest and largest Rt·Ct [s] of the pairs (r.iloc[ri], c.iloc[ci]) of two candidate tables over their
+    tolerances and tempcos at the ambient corners `temps_c` [°C]."""
+    rt, ct = r["value"].to_numpy()[ri], c["value"].to_numpy()[ci]
+    r_tol, r_tc = r["tolerance"].to_numpy()[ri], r["tempco"].to_numpy()[ri]
+    c_tol, c_tc = c["tolerance"].to_numpy()[ci], c["tempco"].to_numpy()[ci]
+    lo, hi = np.full(len(rt), np.inf), np.zeros(len(rt))
+    for t in temps_c:
+        dt = abs(t - TEMPCO_REFERENCE_C)
+        lo = np.minimum(lo, rt * ct * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt))
+        hi = np.maximum(hi, rt * ct * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt))
+    return lo, hi

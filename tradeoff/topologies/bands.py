@@ -146,7 +146,8 @@ def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,
     ('lo'), for example the worst-case longest and shortest delay; it must not decrease along the ascending
     values of one part class of the inner role (r where `inner_is_r`, else c) for a fixed candidate of the
     other. For every such group, bisection finds how many leading rows keep delay(.., 'hi') at most the
-    maximum and how many keep delay(.., 'lo') below the minimum, so only the rows between are listed. Rows
+    maximum and how many of those keep delay(.., 'lo') below the minimum, so only the rows between are listed
+    (each search first tries the group's last row: often the whole group lies on one side). Rows
     beyond are counted under the reason `above`, rows before under `below` (None: the minimum is not applied),
     each quoting the nearest (finite) delay its rows reach where `quote_nearest`.
     """
@@ -165,12 +166,12 @@ def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,
     def along(end):
         return lambda groups, rows: delay(*pairs(groups, rows), end)
 
-    stop = leading_below(along("hi"), sizes, band[1], inclusive=True)
+    stop = leading_below(along("hi"), sizes, band[1], inclusive=True, last_first=True)
     nearest = _nearest(along("hi"), stop < sizes, stop, np.min) if quote_nearest else None
     dropped.count(above + _beside(" (at least {})", nearest, band[1]), int((sizes - stop).sum()))
     start = np.zeros_like(stop)
-    if below is not None:
-        start = np.minimum(leading_below(along("lo"), sizes, band[0]), stop)
+    if below is not None:   # among the first `stop` rows only: the rows beyond are counted above
+        start = leading_below(along("lo"), stop, band[0], last_first=True)
         nearest = _nearest(along("lo"), start > 0, start - 1, np.max) if quote_nearest else None
         dropped.count(below + _beside(" (at most {})", nearest, band[0]), int(start.sum()))
     ri, ci = pairs(*window_rows(start, stop))

@@ -23,12 +23,11 @@ from tradeoff import eseries
 from tradeoff.candidates import EVALUATION_CHUNK, bom_lines, pair_columns
 from tradeoff.analysis import Uncertain
 from tradeoff.devices.oscillator import rc_half_periods_s, rc_junction_v, rc_running_current_a, threshold_factor
-from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables
+from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables, rc_extremes
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
 from tradeoff.topologies.counter_switch import CounterPlan
 from tradeoff.topologies.ic_common import (
     at_temperature, drop_count, drop_dominated, fixed_part, role_bom, role_part, timing_candidates, value_spread,
-    TEMPCO_REFERENCE_C,
 )
 from tradeoff.topologies.ripple_counter import CounterTimer
 from tradeoff.units import format_quantity as fq
@@ -292,10 +291,12 @@ class RCCounter(CounterTimer):
             for first in range(0, len(rg), step):
                 ri, ci = (a.ravel() for a in np.meshgrid(np.arange(first, min(first + step, len(rg))),
                                                          np.arange(len(cg)), indexing="ij"))
+                count = len(ri)
+                ri, ci = self._spread_fits(counter, f, rg, cg, env, ri, ci)
                 lo, hi = self._extremes(counter, rail, f, rg, cg, env, ri, ci)
                 path = latch_path[ri]
                 at = self._reachable(lo, hi, path, stages)
-                outside += len(ri) - len(at)
+                outside += count - len(at)
                 tables.append(self._rc_rows(index, counter, rail, rg, cg, ri[at], ci[at], lo[at], hi[at], path[at]))
         drop_count(dropped, self._no_output_reason(), outside)
         return drop_dominated(pd.concat(tables, ignore_index=True)[columns], ("delay_nom", "counter_index"),
@@ -317,25 +318,37 @@ class RCCounter(CounterTimer):
             ok[np.flatnonzero(eligible)[top > first]] = True
         return np.flatnonzero(ok)
 
+    def _spread_fits(self, counter, f_corners, rg, cg, env, ri, ci) -> tuple[np.ndarray, np.ndarray]:
+        """The pairs (ri, ci) whose longest over shortest period may stay within the band's max/min, the rest
+        dropped before N·S is interpolated: where N rises with Cp (checked on the table) the pair's N·S at its
+        longest corner is at least that at its shortest, so the ratio is at least that of the other factors, and
+        a ratio above max/min (by more than rounding) leaves no count that `_reachable` could keep."""
+        if not _terms(counter).network_rises_with_cp:
+            return ri, ci
+        lo, hi = rc_extremes(rg, cg, ri, ci, env["ambient_c"].corner_values())
+        k, band = _class_spreads(counter)["k"], self.brief.delay
+        ratio = hi / lo * (k.hi / k.lo) * (f_corners.max() / f_corners.min())
+        fits = ratio <= band.max_s / band.min_s * (1 + 1e-9)
+        return ri[fits], ci[fits]
+
     def _extremes(self, counter, rail, f_corners, rg, cg, env, ri, ci) -> tuple[np.ndarray, np.ndarray]:
         """Shortest and longest period [s] of the pairs (rg.iloc[ri], cg.iloc[ci]) of one Rt class and one Ct
         class over the corners: k's band, the threshold factors `f_corners`, the ambient with the parts'
         tolerances and tempcos, and N·S over the rail's corner values (N rises with Cp, so its extremes take
-        Cp's limits; S takes each transistor-threshold corner value)."""
-        rt, ct = rg["value"].to_numpy()[ri], cg["value"].to_numpy()[ci]
-        r_tol, r_tc = rg["tolerance"].to_numpy()[ri], rg["tempco"].to_numpy()[ri]
-        c_tol, c_tc = cg["tolerance"].to_numpy()[ci], cg["tempco"].to_numpy()[ci]
+        Cp's limits; S takes each transistor-threshold corner value). S and Rs/Rt depend on Rt alone, so they are
+        evaluated once per Rt, not per pair."""
+        ct = cg["value"].to_numpy()[ci]
         spreads = _class_spreads(counter)
         vdd = np.array(_rail_spread(rail).corner_values())[:, None, None]
         vt = np.array(spreads["mos_vt_v"].corner_values())[None, :, None]
-        rs_ratio, cp = self.rs_ohm(rt) / rt, spreads["pin_cap_f"]
-        n_lo = _network_and_inverters(counter, rs_ratio, cp.lo / ct, rt, vdd, vt).min(axis=(0, 1))
-        n_hi = _network_and_inverters(counter, rs_ratio, cp.hi / ct, rt, vdd, vt).max(axis=(0, 1))
-        lo, hi = np.full(len(rt), np.inf), np.zeros(len(rt))
-        for t in env["ambient_c"].corner_values():
-            dt = abs(t - TEMPCO_REFERENCE_C)
-            lo = np.minimum(lo, rt * ct * (1 - r_tol) * (1 - r_tc * dt) * (1 - c_tol) * (1 - c_tc * dt))
-            hi = np.maximum(hi, rt * ct * (1 + r_tol) * (1 + r_tc * dt) * (1 + c_tol) * (1 + c_tc * dt))
+        terms, cp = _terms(counter), spreads["pin_cap_f"]
+        each_rt, of_pair = np.unique(np.asarray(ri), return_inverse=True)
+        rt_once = rg["value"].to_numpy()[each_rt]
+        s = terms.inverters(rt_once, vdd, vt)[..., of_pair]
+        rs_ratio = (self.rs_ohm(rt_once) / rt_once)[of_pair]
+        n_lo = (terms.network(rs_ratio, cp.lo / ct, vdd) * s).min(axis=(0, 1))
+        n_hi = (terms.network(rs_ratio, cp.hi / ct, vdd) * s).max(axis=(0, 1))
+        lo, hi = rc_extremes(rg, cg, ri, ci, env["ambient_c"].corner_values())
         return (lo * spreads["k"].lo * f_corners.min() * n_lo, hi * spreads["k"].hi * f_corners.max() * n_hi)
 
     def _rc_rows(self, index, counter, rail, rg, cg, ri, ci, lo, hi, latch_path) -> pd.DataFrame:
