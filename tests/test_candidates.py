@@ -66,13 +66,16 @@ def test_bisection_counts_as_a_linear_scan(groups, threshold, inclusive, probes,
         assert len(g) <= probes * len(rows)
         return np.array([rows[a][b] for a, b in zip(g, i)])
 
-    got = candidates.leading_below(evaluate, sizes, threshold, inclusive, probes, last_first)
+    got, before, after = candidates.leading_below(evaluate, sizes, threshold, inclusive, probes, last_first, edges=True)
     expected = [int(np.sum(r <= threshold if inclusive else r < threshold)) for r in rows]
     assert got.tolist() == expected
+    # the values either side of each count, as a scan finds them
+    np.testing.assert_array_equal(before, [r[k - 1] if k else np.nan for r, k in zip(rows, expected)])
+    np.testing.assert_array_equal(after, [r[k] if k < len(r) else np.nan for r, k in zip(rows, expected)])
     # each call shrinks every open window to at most 1/(probes + 1) of its length: a search, not a scan
     # (last_first: one more call, the last rows)
     assert len(calls) <= int(np.ceil(np.log(max(sizes.max(), 1) + 1) / np.log(probes + 1))) + 1 + last_first
-    if last_first:   # a group lying wholly below costs one row
+    if last_first and (sizes > 0).any():   # a group lying wholly below costs one row
         assert calls[0] == int((sizes > 0).sum())
 
 

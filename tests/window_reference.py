@@ -10,13 +10,18 @@ from __future__ import annotations
 import numpy as np
 
 
-def full_scan(evaluate, sizes, threshold, inclusive=False, probes=1, last_first=False):
-    """How many rows of each group lie below `threshold`, evaluating all of them (`probes`, `last_first` ignored)."""
-    counts = []
+def full_scan(evaluate, sizes, threshold, inclusive=False, probes=1, last_first=False, edges=False):
+    """How many rows of each group lie below `threshold`, evaluating all of them (`probes`, `last_first` ignored);
+    `edges`: also the values at the last row below and the first not below (NaN where there is none)."""
+    counts, before, after = [], [], []
     for g, n in enumerate(np.asarray(sizes)):
         values = np.asarray(evaluate(np.full(int(n), g), np.arange(int(n))), dtype=float)
         finite = np.where(np.isnan(values), np.inf, values)
         rising = (finite[1:] >= finite[:-1]) | np.isclose(finite[1:], finite[:-1], rtol=1e-9, atol=0.0)
         assert rising.all(), f"group {g}: values decrease"
-        counts.append(int(np.sum(values <= threshold if inclusive else values < threshold)))
-    return np.array(counts, dtype=np.int64)
+        count = int(np.sum(values <= threshold if inclusive else values < threshold))
+        counts.append(count)
+        before.append(values[count - 1] if count > 0 else np.nan)
+        after.append(values[count] if count < n else np.nan)
+    counts = np.array(counts, dtype=np.int64)
+    return (counts, np.array(before, dtype=float), np.array(after, dtype=float)) if edges else counts

@@ -232,7 +232,7 @@ EVALUATION_CHUNK = 1 << 16
 
 
 def leading_below(evaluate, sizes: np.ndarray, threshold: float, inclusive: bool = False,
-                  probes: int = 1, last_first: bool = False) -> np.ndarray:
+                  probes: int = 1, last_first: bool = False, edges: bool = False):
     """Per group, how many leading rows have a value below `threshold` (at or below it when `inclusive`).
 
     Group g has sizes[g] rows whose value evaluate(groups, rows) (two integer arrays, one value each)
@@ -240,29 +240,35 @@ def leading_below(evaluate, sizes: np.ndarray, threshold: float, inclusive: bool
     probes `probes` evenly spaced rows of every group still open per call (1: bisection), so it
     needs about log(max size)/log(probes + 1) calls. `last_first`: one call first probes the last row
     of every group, which settles at once each group lying wholly below (one evaluation instead of a
-    search) and costs the others one row: worth it where most groups lie wholly below.
+    search) and costs the others one row: worth it where most groups lie wholly below. `edges`: return
+    (counts, before, after) with the values at the rows either side of each count, the last row below and
+    the first not below (NaN where there is none), as the search evaluated them.
     """
     lo = np.zeros(len(sizes), dtype=np.int64)
     hi = np.asarray(sizes, dtype=np.int64).copy()
+    before, after = np.full(len(lo), np.nan), np.full(len(lo), np.nan)
     if last_first:
         open_ = np.flatnonzero(hi > 0)
         if open_.size:
             value = np.asarray(evaluate(open_, hi[open_] - 1), dtype=float)
             below = value <= threshold if inclusive else value < threshold
-            lo[open_[below]] = hi[open_[below]]
-            hi[open_[~below]] -= 1
+            lo[open_[below]], before[open_[below]] = hi[open_[below]], value[below]
+            hi[open_[~below]], after[open_[~below]] = hi[open_[~below]] - 1, value[~below]
     steps = np.arange(1, probes + 1)
     while True:
         open_ = np.flatnonzero(lo < hi)
         if not open_.size:
-            return lo
+            return (lo, before, after) if edges else lo
         at = lo[open_, None] + ((hi - lo)[open_, None] * steps[None, :]) // (probes + 1)
         value = np.asarray(evaluate(np.repeat(open_, probes), at.ravel()), dtype=float).reshape(at.shape)
         below = value <= threshold if inclusive else value < threshold
         count = below.sum(axis=1)   # probes below the threshold: a prefix of the probes
-        last = np.where(count > 0, at[np.arange(len(open_)), np.maximum(count - 1, 0)] + 1, lo[open_])
-        first = np.where(count < probes, at[np.arange(len(open_)), np.minimum(count, probes - 1)], hi[open_])
+        rows, has_below, has_above = np.arange(len(open_)), count > 0, count < probes
+        last = np.where(has_below, at[rows, np.maximum(count - 1, 0)] + 1, lo[open_])
+        first = np.where(has_above, at[rows, np.minimum(count, probes - 1)], hi[open_])
         lo[open_], hi[open_] = last, first
+        before[open_[has_below]] = value[rows, np.maximum(count - 1, 0)][has_below]
+        after[open_[has_above]] = value[rows, np.minimum(count, probes - 1)][has_above]
 
 
 def window_rows(starts: np.ndarray, stops: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -152,7 +152,7 @@ def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,
     each quoting the nearest (finite) delay its rows reach where `quote_nearest`.
     """
     inner, outer = (r, c) if inner_is_r else (c, r)
-    by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in dict.fromkeys(inner["part"])]
+    by_part = [np.flatnonzero(inner["part"].to_numpy() == part) for part in pd.unique(inner["part"].to_numpy())]
     group_outer = np.repeat(np.arange(len(outer)), len(by_part))
     group_part = np.tile(np.arange(len(by_part)), len(outer))
     counts = np.array([len(rows) for rows in by_part], dtype=np.int64)
@@ -166,26 +166,25 @@ def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,
     def along(end):
         return lambda groups, rows: delay(*pairs(groups, rows), end)
 
-    stop = leading_below(along("hi"), sizes, band[1], inclusive=True, last_first=True)
-    nearest = _nearest(along("hi"), stop < sizes, stop, np.min) if quote_nearest else None
+    stop, _, first_above = leading_below(along("hi"), sizes, band[1], inclusive=True, last_first=True, edges=True)
+    nearest = _nearest(first_above[stop < sizes], np.min) if quote_nearest else None
     dropped.count(above + _beside(" (at least {})", nearest, band[1]), int((sizes - stop).sum()))
     start = np.zeros_like(stop)
     if below is not None:   # among the first `stop` rows only: the rows beyond are counted above
-        start = leading_below(along("lo"), stop, band[0], last_first=True)
-        nearest = _nearest(along("lo"), start > 0, start - 1, np.max) if quote_nearest else None
+        start, last_below, _ = leading_below(along("lo"), stop, band[0], last_first=True, edges=True)
+        nearest = _nearest(last_below[start > 0], np.max) if quote_nearest else None
         dropped.count(below + _beside(" (at most {})", nearest, band[0]), int(start.sum()))
     ri, ci = pairs(*window_rows(start, stop))
     order = np.lexsort((ci, ri))   # resistor-major: the order of the full (r, c) table
     return ri[order], ci[order]
 
 
-def _nearest(evaluate, groups: np.ndarray, rows: np.ndarray, reduce) -> float | None:
-    """reduce() of evaluate at one row of each group where `groups` is set [s]; None where none is or it is
-    not finite (the figure a dropped reason quotes: the nearest the dropped rows come to the band)."""
-    at = np.flatnonzero(groups)
-    if not at.size:
+def _nearest(values: np.ndarray, reduce) -> float | None:
+    """reduce() of the delays [s] the dropped groups reach at their row nearest the band; None where there are
+    none or it is not finite (the figure a dropped reason quotes)."""
+    if not values.size:
         return None
-    value = float(reduce(np.asarray(evaluate(at, rows[at]), dtype=float)))
+    value = float(reduce(values))
     return value if np.isfinite(value) else None
 
 
