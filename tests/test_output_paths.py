@@ -196,3 +196,30 @@ def test_a_review_killed_part_way_leaves_nothing_and_a_rerun_works(tmp_path, sig
     assert rerun.exit_code == 0, rerun.output
     assert (review / "review.html").is_file() and (review / "study.json").is_file()
     assert _leftovers(tmp_path) == []
+
+
+def test_a_staging_folder_left_by_a_killed_process_is_cleared_by_the_next_write(tmp_path):
+    # before: SIGKILL (no clean-up can run) left .tradeoff-partial-* folders in the output folder for good
+    out = tmp_path / "out"
+    out.mkdir()
+    script = ("import sys, time; from tradeoff.report.files import write_all\n"
+              "def slow():\n    time.sleep(60)\n    return 'never'\n"
+              "write_all([(sys.argv[1] + '/a.txt', 'first'), (sys.argv[1] + '/b.txt', slow)], force=False)\n")
+    process = subprocess.Popen([sys.executable, "-c", script, str(out)], cwd=ROOT,
+                               env={**os.environ, "PYTHONPATH": str(ROOT)})
+    deadline = time.monotonic() + 60
+    while not any(p.is_file() for p in out.rglob("a.txt")):
+        assert process.poll() is None and time.monotonic() < deadline
+        time.sleep(0.005)
+    process.kill()
+    process.wait(timeout=30)
+    abandoned = _leftovers(tmp_path)
+    assert len(abandoned) == 1 and f"-{process.pid}-" in abandoned[0].name
+    foreign = out / f"{STAGING_PREFIX}otherhost-{process.pid}-x"  # another machine's: never ours to remove
+    foreign.mkdir()
+    with subprocess.Popen([sys.executable, "-c", "import time; time.sleep(60)"]) as alive:
+        running = out / abandoned[0].name.replace(f"-{process.pid}-", f"-{alive.pid}-")
+        running.mkdir()
+        write_all([(out / "c.txt", "second")], force=False)
+        alive.kill()
+    assert sorted(p.name for p in out.iterdir()) == sorted(["c.txt", foreign.name, running.name])

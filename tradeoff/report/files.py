@@ -15,7 +15,8 @@ Every output (netlists, workbooks, CSV tables, plots, the review set) goes throu
   are first written into one hidden staging folder (`.tradeoff-partial-*`) beside the outputs; at
   the end a folder that did not exist (a new `--review DIR`) is renamed into place in one step, and
   files into folders that exist are moved in one by one (each complete). On an error, Ctrl-C or
-  SIGTERM the staging folder is removed, so no partial set is left and a rerun starts clean.
+  SIGTERM the staging folder is removed, so no partial set is left and a rerun starts clean; a
+  staging folder left by a process killed outright is removed by the next write into that folder.
 
 While files are written, SIGTERM and SIGHUP raise `Interrupted` (a BaseException, like Ctrl-C's
 KeyboardInterrupt), so the clean-up runs; the CLI reports it and exits 128 + the signal number.
@@ -236,13 +237,38 @@ def write_all(files: Mapping[str | Path, Contents] | Iterable[tuple[str | Path, 
 
 
 def _staging_folder(anchor: Path, cleanup: contextlib.ExitStack) -> Path:
-    """A new hidden folder in `anchor`, removed with everything in it when `cleanup` closes."""
+    """A new hidden folder in `anchor`, removed with everything in it when `cleanup` closes.
+
+    Its name carries this host and process id, so the next run removes a staging folder whose process
+    was killed outright (SIGKILL, a power cut) before its own clean-up could run (`_clear_abandoned`)."""
+    _clear_abandoned(anchor)
     try:
-        staging = Path(tempfile.mkdtemp(dir=anchor, prefix=STAGING_PREFIX))
+        staging = Path(tempfile.mkdtemp(dir=anchor, prefix=f"{STAGING_PREFIX}{_HOST}-{os.getpid()}-"))
     except OSError as exc:
         raise OutputError(f"{anchor}: cannot create the staging folder ({_reason(exc)})") from None
     cleanup.callback(shutil.rmtree, staging, ignore_errors=True)
     return staging
+
+
+_HOST = "".join(c if c.isalnum() else "_" for c in os.uname().nodename) or "host"
+"""This machine's name as it appears in staging folder names (letters and digits only)."""
+
+
+def _clear_abandoned(anchor: Path) -> None:
+    """Remove the staging folders in `anchor` left by a process of this host that no longer runs.
+
+    A folder of another host, of a process still running, or with a name this module did not make is
+    left alone: only our own abandoned staging is ever removed."""
+    for folder in anchor.glob(f"{STAGING_PREFIX}{_HOST}-*-*"):
+        pid = folder.name[len(f"{STAGING_PREFIX}{_HOST}-"):].split("-", 1)[0]
+        if not pid.isdigit() or not folder.is_dir() or folder.is_symlink():
+            continue
+        try:
+            os.kill(int(pid), 0)
+        except ProcessLookupError:
+            shutil.rmtree(folder, ignore_errors=True)
+        except OSError:
+            continue  # a process of another user: still running
 
 
 def _resolved(path: Path) -> Path:
