@@ -175,15 +175,20 @@ class FakeTopology:
     id = "fake"
 
     def __init__(self, model, rejected=()):
-        self.model, self.rejected, self.evaluated = model, set(rejected), []
+        self.model, self.rejected, self.evaluated, self.sampled = model, set(rejected), [], []
 
     def selection(self):
         return self.model
 
-    def evaluate(self, design):
+    def screen(self, design):
         self.evaluated.append(design.values["r"])
         bad = design.values["r"] in self.rejected
-        return NS(feasible=not bad, reasons=["worst-case longest delay 1 h exceeds the band's maximum 50 min"] * bad)
+        return NS(design=design, feasible=not bad,
+                  reasons=["worst-case longest delay 1 h exceeds the band's maximum 50 min"] * bad)
+
+    def with_monte_carlo(self, screened):
+        self.sampled.append(screened.design.values["r"])
+        return screened
 
 
 def brief_for(band, limits=NO_LIMITS):
@@ -198,6 +203,7 @@ def test_verification_failures_are_cut_and_counted():
     assert [d.selection.design.values["r"] for d in results] == [19.0, 21.0]
     assert [d.rounds for d in results] == [2, 1]
     assert topology.evaluated == [20.0, 19.0, 21.0]
+    assert topology.sampled == [19.0, 21.0]  # the rejected design never paid for a Monte Carlo
 
 
 def test_every_design_failing_verification_is_an_infeasibility():
@@ -205,8 +211,8 @@ def test_every_design_failing_verification_is_an_infeasibility():
     with pytest.raises(InfeasibleError) as caught:
         verified_designs(FakeTopology(model, rejected={18.0, 20.0}), brief_for((15, 26)), k=1)
     assert caught.value.reasons == {"fake": [
-        "the 2 best designs of the candidate tables all failed full verification (worst-case corners and Monte "
-        "Carlo); the best of them: worst-case longest delay 1 h exceeds the band's maximum 50 min"]}
+        "the 2 best designs of the candidate tables all failed full verification (worst-case corners, limits and "
+        "design rules); the best of them: worst-case longest delay 1 h exceeds the band's maximum 50 min"]}
 
 
 def test_the_search_without_the_margin_reuses_the_candidate_tables():

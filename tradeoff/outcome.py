@@ -2,7 +2,8 @@
 proven by the full model (worst-case corners and Monte Carlo), or the reasons it has none.
 
 Verification: the selection program proposes its best design; the topology's full model
-evaluates it; a design that fails the brief is excluded by a no-good cut and the program solved
+evaluates it (corners, limits and design rules first: a rejected design never pays for its Monte
+Carlo, which decides nothing); a design that fails the brief is excluded by a no-good cut and the program solved
 again, at most `MAX_ROUNDS` solves per design kept (`VerifiedDesign.rounds` counts them).
 
 A topology that cannot meet the brief raises nothing here: its outcome carries the reasons, in
@@ -142,15 +143,15 @@ def _search(topology: "Topology", tables: "SelectionModel", brief: Brief, k: int
         if result.design.key() in seen:
             continue
         seen.add(result.design.key())
-        evaluation = topology.evaluate(result.design)
-        if not accept(evaluation):
-            failed.append(evaluation)
+        screened = topology.screen(result.design)  # the Monte Carlo only for a design that is kept
+        if not accept(screened):
+            failed.append(screened)
             continue
-        found.append(VerifiedDesign(result, evaluation, rounds))
+        found.append(VerifiedDesign(result, topology.with_monte_carlo(screened), rounds))
         rounds = 0
     if not found:
         why = (f"the {len(failed)} best designs of the candidate tables all failed full verification (worst-case "
-               f"corners and Monte Carlo); the best of them: {'; '.join(failed[0].reasons)}" if failed else
+               f"corners, limits and design rules); the best of them: {'; '.join(failed[0].reasons)}" if failed else
                f"{max_rounds} solves proposed no design not already seen")
         raise InfeasibleError(f"{topology.id}: no design passes verification", {topology.id: [why]})
     return found

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from abc import ABC, abstractmethod
-from dataclasses import KW_ONLY, dataclass, field
+from dataclasses import KW_ONLY, dataclass, field, replace
 from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping, NamedTuple
 
 import numpy as np
@@ -153,7 +153,7 @@ class Evaluation:
     design: Design
     nominal_s: float
     worst: WorstCase
-    mc: MonteCarlo
+    mc: MonteCarlo | None  # None only in a screening evaluation (`Topology.screen`), which is never reported
     standby: Standby
     rails: int
     bom: list[BomLine]
@@ -449,9 +449,15 @@ class Topology(ABC):
 
     def evaluate(self, design: Design, samples: int | None = None, seed: int | None = None) -> Evaluation:
         """Full verification of `design` against the brief: corners, Monte Carlo, limits, design rules."""
+        return self.with_monte_carlo(self.screen(design), samples, seed)
+
+    def screen(self, design: Design) -> Evaluation:
+        """Verification of `design` without its Monte Carlo: the corners, limits and design rules, which alone
+        decide whether it meets the brief (the Monte Carlo reports the spread, it decides nothing). The
+        study screens each proposed design so a rejected one never pays for its samples."""
         ev = Evaluation(
             topology=self.id, design=design, nominal_s=self.nominal_delay(design),
-            worst=self.worst_case(design), mc=self.monte_carlo(design, samples, seed),
+            worst=self.worst_case(design), mc=None,
             standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
             findings=self.checks(design) + self.value_range_findings(design) + self.life_findings(design),
             band=(self.brief.delay.min_s, self.brief.delay.max_s),
@@ -462,6 +468,11 @@ class Topology(ABC):
         ev.production = unit_cost(ev.bom, self.id, self.engineering_hours(), self.brief.production, self.catalog)
         ev.reasons = self._shortfalls(ev)
         return ev
+
+    def with_monte_carlo(self, screened: Evaluation, samples: int | None = None,
+                         seed: int | None = None) -> Evaluation:
+        """`screened` (from `screen`) completed by the seeded Monte Carlo of its design: the full evaluation."""
+        return replace(screened, mc=self.monte_carlo(screened.design, samples, seed))
 
     def value_range_findings(self, design: Design) -> list[Finding]:
         """A violation for each value outside the limit the circuit sets for its role (`Role.lo` to `hi`),
