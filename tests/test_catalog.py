@@ -357,6 +357,16 @@ def test_all_problems_of_a_file_are_reported_at_once(tmp_path):
     assert any(m.startswith(f"{path}:8:5: parts[1].id: duplicate id 'my-res' (first at line 2)") for m in messages)
 
 
+def test_an_errors_reason_is_its_message_whole_whatever_the_file_name_holds(tmp_path):
+    # A folder named with ": " inside: the reason a topology reports must not be cut at the first ": ".
+    folder = tmp_path / "bench: spare"
+    folder.mkdir()
+    part = load_catalog(shipped=[], extra=[write(folder, GOOD)]).part("my-res")
+    with pytest.raises(CatalogError) as caught:
+        part.value("tolerance", "V")
+    assert caught.value.reason == "'1 %' is a plain number; accepted: a voltage, e.g. '12 V', '600 mV'"
+    assert str(caught.value) == f"{folder / 'mine.yaml'}:6:26: my-res.params.tolerance: {caught.value.reason}"
+
 SCALARS = st.one_of(st.none(), st.booleans(), st.integers(), st.floats(allow_nan=True), st.text(max_size=12),
                     st.sampled_from(["resistor", "capacitor", "film", "20 %", "3 uA", "2.2M ohm", "47k", "id",
                                      "value", "source", "parts", "params", "category", "description"]))

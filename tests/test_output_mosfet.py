@@ -61,6 +61,10 @@ def test_a_class_whose_loss_exceeds_its_derated_rating_is_not_chosen(mat, tmp_pa
     with pytest.raises(CatalogError) as exc:
         logic.output_mosfet(mat, catalog, rail_of(mat, catalog))
     assert "on-state loss its dissipation rating covers" in str(exc.value)
+    # The topology's finding is the whole reason, ": " inside it included, without file or key.
+    findings = logic.output_driver_checks(mat, catalog, rail_of(mat, catalog))
+    assert [(f.severity, f.message) for f in findings] == [("violation", exc.value.reason)]
+    assert exc.value.reason.startswith("no mosfet class fits: an N-MOSFET for 1.7 A at ")
 
 
 def test_the_propagator_mat_is_not_ruled_out_by_the_mosfet_catalog(mat):

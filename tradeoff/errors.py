@@ -77,6 +77,12 @@ class InputError(TradeoffError, ValueError):
         """Build an error holding one problem."""
         return cls(Problem(str(file), line, column, key, message))
 
+    @property
+    def reason(self) -> str:
+        """What is wrong and what is accepted, without file, line or key (the problems' messages, '; ' between),
+        for a caller that reports it in its own words."""
+        return "; ".join(p.message for p in self.problems)
+
 
 class BriefError(InputError):
     """A brief (requirement file) is malformed or contradictory."""

@@ -98,7 +98,7 @@ def pnp_switch(topo: "Topology", vf_v: float) -> LoadSwitch:
         pnp = logic.cheapest(topo.catalog, "pnp", lambda p: p.value("vceo_max", "V") >= s.max_v,
                              f"a PNP rated {fq(s.max_v, 'V')} to switch the load")
     except CatalogError as exc:
-        return LoadSwitch("pnp", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
+        return LoadSwitch("pnp", (), 1.0, None, 0.0, 0.0, (exc.reason,))
     need_a = BASE_OVERDRIVE * load_max_a / pnp.value("hfe_min", "")
     target = (s.min_v - pnp.value("vbe_on_max", "V") - vf_v) / need_a
     if not target > 0:  # the supply minimum is below the base-emitter and diode drops
@@ -133,7 +133,7 @@ def pmos_switch(topo: "Topology", vf_v: float) -> LoadSwitch:
                              and p.value("id_max", "A") >= i,
                              f"a P-channel MOSFET for {fq(i, 'A')} with drain and gate rated {fq(s.max_v, 'V')}")
     except CatalogError as exc:
-        return LoadSwitch("p-mosfet", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
+        return LoadSwitch("p-mosfet", (), 1.0, None, 0.0, 0.0, (exc.reason,))
     problems = []
     vgs = s.min_v - vf_v
     if vgs < fet.value("vgs_on", "V"):
@@ -166,7 +166,7 @@ def inverted_switch(topo: "Topology", rail: logic.LogicRail) -> LoadSwitch:
         pnp = logic.cheapest(topo.catalog, "pnp", lambda p: p.value("vceo_max", "V") >= rail.max_v,
                              f"a PNP rated {fq(rail.max_v, 'V')} for the gate drive")
     except CatalogError as exc:
-        return LoadSwitch("inverted-n-mosfet", (), 1.0, None, 0.0, 0.0, (str(exc).split(": ", 2)[-1],))
+        return LoadSwitch("inverted-n-mosfet", (), 1.0, None, 0.0, 0.0, (exc.reason,))
     drop = pnp.value("vce_sat", "V")
     gate = dataclasses.replace(rail, nominal_v=rail.nominal_v - drop, min_v=rail.min_v - drop,
                                max_v=rail.max_v - drop)

@@ -259,7 +259,7 @@ def output_driver_checks(brief: "Brief", catalog: "Catalog", rail: LogicRail) ->
     try:
         fet = output_mosfet(brief, catalog, rail)
     except CatalogError as exc:
-        return [Finding("violation", "output-driver", str(exc).split(": ", 2)[-1])]
+        return [Finding("violation", "output-driver", exc.reason)]
     current = load_current_max(brief)
     drop, loss = on_state(fet, brief, rail)
     if brief.load.kind != "relay":

@@ -76,7 +76,7 @@ def timer_selection(topo: "Topology") -> SelectionModel:
         try:
             support = topo.support_bom(timer)
         except CatalogError as exc:
-            drop_count(dropped, f"{timer_id}: {str(exc).split(': ', 2)[-1]}", len(rs) * len(cs))
+            drop_count(dropped, f"{timer_id}: {exc.reason}", len(rs) * len(cs))
             continue
         for rg in r_groups:
             fits = rg["value"].to_numpy() <= timer.r_max_ohm * (1 + 1e-9)
