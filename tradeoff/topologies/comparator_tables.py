@@ -15,6 +15,7 @@ from tradeoff.devices.quadrature import DELAY_CHUNK
 from tradeoff.selection import Block, SelectionModel
 from tradeoff.topologies import bands, hold_state, logic
 from tradeoff.topologies.base import Design
+from tradeoff.topologies.corners import corner_arrays, extreme_corners, role_end
 from tradeoff.units import format_quantity as fq
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -27,6 +28,9 @@ DIRECTION = {"r_hold": 1, "c_hold": 1, "rail_v": 1, capacitor.LEAK_LEVEL: -1, "b
              "v_ref": -1, "r_top": 1, "r_bottom": -1, "r_hyst": -1, "offset_v": -1, "drain_v": -1,
              bands.BOARD_LEAK: -1}
 """Sign of each quantity's effect on the delay; the ambient has none (both ends are tried, see rc_comparator)."""
+
+_MOVING = (*DIRECTION, "ambient_c")
+"""The quantities that move the delay: the supply does not (the comparator runs from its logic rail, rail_v)."""
 
 
 def comparator_selection(topo: "Topology") -> SelectionModel:
@@ -135,11 +139,9 @@ def pair_delays(topo: "Topology", rails: list[logic.LogicRail], comp, ref, r: pd
                 out[rows_at] = delay({**x, "r_hold": r_value[rows_at], "c_hold": c_value[rows_at]})
                 continue
             sign = 1 if kind == "hi" else -1
-            corner = {n: np.full(len(rows_at), u.hi if DIRECTION.get(n, 1) * sign > 0 else u.lo)
-                      for n, u in q.items()}
-            corner["r_hold"] = r_value[rows_at] * (1 + sign * DIRECTION["r_hold"] * r_spread[rows_at])
-            corner["c_hold"] = c_value[rows_at] * (1 + sign * DIRECTION["c_hold"] * c_spread[rows_at])
-            ends = [delay({**corner, "ambient_c": np.full(len(rows_at), t)})
-                    for t in q["ambient_c"].corner_values()]
+            ends = [delay({**corner_arrays(q, corner, len(rows_at)),
+                           "r_hold": role_end(r_value[rows_at], r_spread[rows_at], DIRECTION["r_hold"], sign),
+                           "c_hold": role_end(c_value[rows_at], c_spread[rows_at], DIRECTION["c_hold"], sign)})
+                    for corner in extreme_corners(q, DIRECTION, sign, [n for n in _MOVING if n in q])]
             out[rows_at] = np.maximum.reduce(ends) if sign > 0 else np.minimum.reduce(ends)
     return out

@@ -1,16 +1,21 @@
 """The corner shortcut of the optimiser tables, written once: from the sign of d(delay)/d(quantity) each
 topology declares, the corners that hold the shortest and the longest delay, so a table evaluates a few
-corners per candidate instead of every one. `tests/test_table_directions.py` checks every topology's
+corners per candidate instead of every one, and the closed forms of a delay that is a product of positive
+factors (`product_ends`). `tests/test_table_directions.py` checks every topology's
 tables against an exhaustive search over all corners.
 """
 from __future__ import annotations
 
+import functools
 import itertools
+import operator
 from typing import Iterable, Mapping
+
+import numpy as np
 
 from tradeoff.analysis import Uncertain
 
-__all__ = ["extreme_corners", "corner_sets", "corner_values"]
+__all__ = ["extreme_corners", "corner_sets", "corner_values", "corner_arrays", "role_end", "product_ends"]
 
 
 def extreme_corners(q: Mapping[str, Uncertain], directions: Mapping[str, float], sign: int,
@@ -44,3 +49,21 @@ def corner_sets(directions: Mapping[str, float], q: Mapping[str, Uncertain],
 def corner_values(q: Mapping[str, Uncertain], corner: Mapping[str, str]) -> dict[str, float]:
     """Every quantity of `q` at the end `corner` names for it ('lo' | 'hi'), else at its nominal value."""
     return {n: {"lo": u.lo, "hi": u.hi}[corner[n]] if n in corner else u.nominal for n, u in q.items()}
+
+
+def corner_arrays(q: Mapping[str, Uncertain], corner: Mapping[str, str], size: int) -> dict[str, np.ndarray]:
+    """`corner_values` as arrays of `size` equal entries, for a delay model vectorised over candidates."""
+    return {n: np.full(size, v) for n, v in corner_values(q, corner).items()}
+
+
+def role_end(value, spread_frac, direction: float, sign: int) -> np.ndarray:
+    """Candidate values [ohm or F] at the end of their band value·(1 ± spread_frac) that moves the delay in
+    `sign`'s direction (-1 shortest, +1 longest), for a value whose d(delay)/d(value) has the sign of `direction`."""
+    return np.asarray(value, dtype=float) * (1 + sign * np.sign(direction) * np.asarray(spread_frac, dtype=float))
+
+
+def product_ends(factors: Iterable[tuple]) -> tuple[np.ndarray, np.ndarray]:
+    """(smallest, largest) of a product of positive factors of separate quantities, each given as its
+    (smallest, largest): the product rises with every factor, so its ends are the products of theirs."""
+    los, his = zip(*factors)
+    return functools.reduce(operator.mul, los), functools.reduce(operator.mul, his)

@@ -25,6 +25,7 @@ from tradeoff.analysis import Uncertain
 from tradeoff.devices.oscillator import rc_half_periods_s, rc_junction_v, rc_running_current_a, threshold_factor
 from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables, rc_extremes
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
+from tradeoff.topologies.corners import product_ends
 from tradeoff.topologies.counter_switch import CounterPlan
 from tradeoff.topologies.ic_common import (
     at_temperature, drop_count, drop_dominated, fixed_part, role_bom, role_part, timing_candidates, value_spread,
@@ -349,7 +350,8 @@ class RCCounter(CounterTimer):
         n_lo = (terms.network(rs_ratio, cp.lo / ct, vdd) * s).min(axis=(0, 1))
         n_hi = (terms.network(rs_ratio, cp.hi / ct, vdd) * s).max(axis=(0, 1))
         lo, hi = rc_extremes(rg, cg, ri, ci, env["ambient_c"].corner_values())
-        return (lo * spreads["k"].lo * f_corners.min() * n_lo, hi * spreads["k"].hi * f_corners.max() * n_hi)
+        return product_ends([(lo, hi), (spreads["k"].lo, spreads["k"].hi), (f_corners.min(), f_corners.max()),
+                             (n_lo, n_hi)])
 
     def _rc_rows(self, index, counter, rail, rg, cg, ri, ci, lo, hi, latch_path) -> pd.DataFrame:
         """Block rows of the pairs (rg.iloc[ri], cg.iloc[ci]) with their shortest and longest periods lo, hi [s] and
