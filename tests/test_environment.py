@@ -18,6 +18,7 @@ from tradeoff.devices.life import crystal_ageing_frac, life_used_frac
 from tradeoff.errors import BriefError
 from tradeoff.topologies.bands import BOARD_LEAK
 from tradeoff.topologies.base import Design
+from tradeoff.topologies.shared_checks import life_findings
 from tradeoff.topologies.registry import build_topology
 
 from conftest import EXAMPLES
@@ -157,7 +158,7 @@ def test_electrolytic_life_against_the_10_k_rule(fan, catalog):
     assert (aged.hi - new.hi) / 220e-6 == pytest.approx(change, rel=1e-9)
     assert (new.lo - aged.lo) / 220e-6 == pytest.approx(change, rel=1e-9)
     assert aged_topo.worst_case(design).min_s < build_topology("rc-mosfet", fan, catalog).worst_case(design).min_s
-    info = [f for f in aged_topo.life_findings(design) if f.code == "service-life"]
+    info = [f for f in life_findings(aged_topo.brief, catalog, aged_topo.bom(design)) if f.code == "service-life"]
     assert [f.severity for f in info] == ["info"] and "5.16 years at 40 °C" in info[0].message
 
 
@@ -165,7 +166,7 @@ def test_a_life_beyond_the_endurance_is_a_violation_and_leaves_the_class_out(fan
     brief = fan.replace({"environment.life": "10 years"})   # beyond 5.16 years at 40 °C
     design = Design("rc-mosfet", {"r_hold": 4.7e6, "c_hold": 220e-6}, {"c_hold_part": "cap-electrolytic-85c"})
     topo = build_topology("rc-mosfet", brief, catalog)
-    found = [f for f in topo.life_findings(design) if f.code == "service-life"]
+    found = [f for f in life_findings(brief, catalog, topo.bom(design)) if f.code == "service-life"]
     assert [f.severity for f in found] == ["violation"] and "shorter than the 10-year service life" in found[0].message
     short = {"delay.nominal": "60 s", "delay.min": "40 s", "delay.max": "80 s"}
     for life, electrolytics in ((None, True), ("10 years", False)):

@@ -21,7 +21,7 @@ from tradeoff.catalog import Catalog
 from tradeoff.plain import schematic_values
 from tradeoff.errors import CatalogError, InfeasibleError, TradeoffError
 from tradeoff.optimise import SelectionProblem, SelectionResult
-from tradeoff.topologies.base import margin_shortfalls
+from tradeoff.topologies.shared_checks import margin_shortfalls
 from tradeoff.topologies.registry import build_topology
 from tradeoff.units import format_quantity
 
@@ -108,8 +108,8 @@ def verified_designs(topology: "Topology", brief: Brief, k: int = 1, solver: str
         if margin == 0:
             raise
         try:  # the band alone: a design short only of the margin is reported, not dropped
-            near = _search(topology, tables, brief, 1, solver, max_rounds, 0.0,
-                           lambda ev: set(ev.reasons) <= set(margin_shortfalls(ev)), step)[0].evaluation
+            near = _search(topology, tables, brief, 1, solver, max_rounds, 0.0, lambda ev: set(ev.reasons) <= set(
+                margin_shortfalls(ev.band, ev.margin_required_frac, ev.worst.min_s, ev.worst.max_s)), step)[0].evaluation
         except InfeasibleError:
             raise exc from None
         why = (f"no design keeps the brief's margin of {format_quantity(margin, '%')} of the band at both ends; "

@@ -3,14 +3,15 @@
 A topology subclass implements the physics (`uncertain`, `delay`), the parts (`bom`,
 `standby`, `rails`), its design rules (`checks`) and what the optimiser chooses from
 (`roles`, `selection`). Corner search, Monte Carlo, yield, feasibility against the brief
-and the result object are written here, once, for all of them.
+and the result object are written here, once, for all of them; the value objects that name
+no design live in `records` and the rules every design gets in `shared_checks`.
 """
 from __future__ import annotations
 
 import math
 from abc import ABC, abstractmethod
-from dataclasses import KW_ONLY, dataclass, field, replace
-from typing import TYPE_CHECKING, Any, ClassVar, Literal, Mapping, NamedTuple
+from dataclasses import dataclass, field, replace
+from typing import TYPE_CHECKING, Any, ClassVar, Mapping
 
 import numpy as np
 
@@ -18,7 +19,9 @@ from tradeoff.analysis import MonteCarlo, Uncertain, WorstCase, monte_carlo, wor
 from tradeoff.costing import UnitCost, unit_cost
 from tradeoff.errors import CatalogError, DesignKeyError
 from tradeoff.parts import OVERRIDE_ORIGIN
-from tradeoff.units import format_quantity
+from tradeoff.topologies.records import BomLine, Finding, Pair, Role, Standby, Waveform, finite_or_none
+from tradeoff.topologies.shared_checks import (band_shortfalls, life_findings, limit_shortfalls, margin_shortfalls,
+                                               value_range_findings)
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
     import pandas as pd
@@ -37,36 +40,6 @@ ENVIRONMENT = ("ambient_c", "supply_v")
 
 NOMINAL_AMBIENT_C = 25.0
 """Ambient used for the nominal delay when the brief's range includes it [degC]; else the range's midpoint."""
-
-
-@dataclass(frozen=True)
-class Role:
-    """A component value the optimiser picks.
-
-    kind: 'resistor' or 'capacitor'; dielectrics: for capacitors, which dielectrics ('electrolytic',
-    'film', 'ceramic') may fill it; description in the designer's words. The values searched are those
-    the allowed part classes make (their min_value to max_value at the brief's series,
-    `candidates.role_candidates`); lo, hi [ohm] or [F] narrow that only where the circuit itself sets a limit
-    (a datasheet's recommended range), and `limit` says which, for the designer (empty: no such limit).
-    """
-
-    name: str
-    kind: Literal["resistor", "capacitor"]
-    description: str
-    dielectrics: tuple[str, ...] = ()
-    _: KW_ONLY
-    lo: float = 0.0
-    hi: float = math.inf
-    limit: str = ""
-
-
-class Pair(NamedTuple):
-    """Two standard parts of one class making a role's value: first >= second [ohm or F], pairing 'series' or
-    'parallel'."""
-
-    first: float
-    second: float
-    pairing: Literal["series", "parallel"] = "series"
 
 
 @dataclass(frozen=True)
@@ -93,56 +66,6 @@ class Design:
     def pairs_dict(self) -> dict[str, dict[str, Any]]:
         """JSON-ready pairs: role -> {first, second [ohm or F], pairing}."""
         return {role: pair._asdict() for role, pair in sorted(self.pairs.items())}
-
-
-@dataclass(frozen=True)
-class BomLine:
-    """One bill-of-materials line: reference designators, part class id, value text, quantity, unit cost [EUR]."""
-
-    refs: str
-    part: str
-    value: str
-    quantity: int
-    unit_cost: float
-    note: str = ""
-
-    @property
-    def cost(self) -> float:
-        """Line cost [EUR, indicative]."""
-        return self.quantity * self.unit_cost
-
-
-@dataclass(frozen=True)
-class Standby:
-    """Supply current while timing and after the timeout, at nominal supply [A]."""
-
-    during_a: float
-    after_a: float
-
-
-@dataclass(frozen=True)
-class Finding:
-    """A design-rule result. severity 'violation' makes the design infeasible; 'warning' is reported."""
-
-    severity: Literal["info", "warning", "violation"]
-    code: str
-    message: str
-
-
-@dataclass(frozen=True)
-class Waveform:
-    """Control signal against time for plots: time [s], signal [unit], the level where the delay ends."""
-
-    time_s: np.ndarray
-    signal: np.ndarray
-    signal_label: str
-    unit: str
-    threshold: float
-    threshold_label: str
-
-
-def _finite_or_none(value: float) -> float | None:
-    return float(value) if math.isfinite(value) else None
 
 
 @dataclass
@@ -226,7 +149,7 @@ class Evaluation:
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready result (SI units in key suffixes, no dots in keys: percentile 0.5 % is `p0_5_s`;
         never NaN or infinity: null with a reason)."""
-        pct = {f"p{100 * q:g}_s".replace(".", "_"): _finite_or_none(v) for q, v in sorted(self.mc.percentiles.items())}
+        pct = {f"p{100 * q:g}_s".replace(".", "_"): finite_or_none(v) for q, v in sorted(self.mc.percentiles.items())}
         adapter = self.adapter_no_load_w
         return {
             "topology": self.topology,
@@ -234,20 +157,20 @@ class Evaluation:
             "options": {k: (v if isinstance(v, (int, float, str)) else str(v)) for k, v in self.design.options.items()},
             "pairs": self.design.pairs_dict(),
             "delay": {
-                "nominal_s": _finite_or_none(self.nominal_s),
-                "worst_min_s": _finite_or_none(self.worst.min_s),
-                "worst_max_s": _finite_or_none(self.worst.max_s),
+                "nominal_s": finite_or_none(self.nominal_s),
+                "worst_min_s": finite_or_none(self.worst.min_s),
+                "worst_max_s": finite_or_none(self.worst.max_s),
                 "band_s": list(self.band),
-                "margin_short_frac": _finite_or_none(self.margin_short_frac),
-                "margin_long_frac": _finite_or_none(self.margin_long_frac),
+                "margin_short_frac": finite_or_none(self.margin_short_frac),
+                "margin_long_frac": finite_or_none(self.margin_long_frac),
                 "margin_required_frac": self.margin_required_frac,
                 "corner_method": self.worst.method,
                 "worst_min_corner": self.worst.at_min,
                 "worst_max_corner": self.worst.at_max,
                 "percentiles": pct,
                 "coverage": self.coverage,
-                "mean_s": _finite_or_none(self.mc.mean_s),
-                "std_s": _finite_or_none(self.mc.std_s),
+                "mean_s": finite_or_none(self.mc.mean_s),
+                "std_s": finite_or_none(self.mc.std_s),
                 "yield_frac": self.mc.yield_frac,
                 "yield_ci95_frac": list(self.mc.yield_ci),
                 "never_ends_frac": self.mc.never_ends_frac,
@@ -280,22 +203,6 @@ class Evaluation:
 
         return pd.DataFrame([{**headline(self), "feasible": self.feasible, "reasons": "; ".join(self.reasons)}]
                             ).replace([math.inf, -math.inf], math.nan)
-
-
-def margin_shortfalls(ev: Evaluation) -> list[str]:
-    """Band edges the worst case meets but without the brief's margin (fraction of the band's width)."""
-    lo, hi = ev.band
-    need = ev.margin_required_frac
-    width = hi - lo
-    out = []
-    for name, edge, kept, side, worst in (("minimum", lo, ev.margin_short_frac, "above", ev.worst.min_s),
-                                          ("maximum", hi, ev.margin_long_frac, "below", ev.worst.max_s)):
-        if 0 <= kept < need:
-            out.append(f"the worst-case {'shortest' if name == 'minimum' else 'longest'} delay "
-                       f"{format_quantity(worst, 's')} lies only {format_quantity(kept, '%', 2)} of the band {side} "
-                       f"the band's {name}; the brief asks for a margin of {format_quantity(need, '%')} of the band "
-                       f"({format_quantity(need * width, 's')}) at each end")
-    return out
 
 
 class Topology(ABC):
@@ -459,7 +366,8 @@ class Topology(ABC):
             topology=self.id, design=design, nominal_s=self.nominal_delay(design),
             worst=self.worst_case(design), mc=None,
             standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
-            findings=self.checks(design) + self.value_range_findings(design) + self.life_findings(design),
+            findings=self.checks(design) + value_range_findings(self.roles(), design.values, design.options, self.catalog)
+            + life_findings(self.brief, self.catalog, self.bom(design)),
             band=(self.brief.delay.min_s, self.brief.delay.max_s),
             coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
@@ -474,93 +382,10 @@ class Topology(ABC):
         """`screened` (from `screen`) completed by the seeded Monte Carlo of its design: the full evaluation."""
         return replace(screened, mc=self.monte_carlo(screened.design, samples, seed))
 
-    def value_range_findings(self, design: Design) -> list[Finding]:
-        """A violation for each value outside the limit the circuit sets for its role (`Role.lo` to `hi`),
-        each value on a capacitor class of a dielectric the role does not take, and each value outside the
-        practical range (`min_value` to `max_value`) of the part class the design names for it (option
-        '<role>_part'): the same rules the study's candidate tables apply, so analyze and the study agree on
-        what can be built."""
-        out = []
-        for role in self.roles():
-            part_id = design.options.get(f"{role.name}_part")
-            value = design.values.get(role.name)
-            if value is None:
-                continue
-            unit = "ohm" if role.kind == "resistor" else "F"
-            if not role.lo * (1 - 1e-9) <= value <= role.hi * (1 + 1e-9):
-                accepted = (f"at least {format_quantity(role.lo, unit)}" if math.isinf(role.hi) else
-                            f"{format_quantity(role.lo, unit)} to {format_quantity(role.hi, unit)}")
-                out.append(Finding("violation", "value-range", f"{role.description} {format_quantity(value, unit)} "
-                                   f"is outside what the circuit allows ({role.limit}); accepted: {accepted}"))
-            if not isinstance(part_id, str) or part_id not in self.catalog:
-                continue
-            part = self.catalog.part(part_id)
-            dielectric = part.fields.get("dielectric")
-            if role.kind == "capacitor" and role.dielectrics and dielectric not in role.dielectrics:
-                out.append(Finding("violation", "value-range", f"{role.description} on {part.id}: a {dielectric} "
-                                   f"capacitor; accepted: {' or '.join(role.dielectrics)} classes"))
-            if not (part.has("min_value") and part.has("max_value")):
-                continue
-            lo, hi = part.value("min_value", unit), part.value("max_value", unit)
-            if not lo * (1 - 1e-9) <= value <= hi * (1 + 1e-9):
-                out.append(Finding("violation", "value-range",
-                                   f"{role.description} {format_quantity(value, unit)} is outside the {part.id} "
-                                   f"class's range {format_quantity(lo, unit)} to {format_quantity(hi, unit)} "
-                                   f"({part.source('max_value')}); accepted: a value within it, or a class "
-                                   "that makes it"))
-        return out
-
-    def life_findings(self, design: Design) -> list[Finding]:
-        """With a service life in the brief, each capacitor class on the parts list that has an endurance
-        rating, against it at the hottest ambient (`devices.life`): information while the rating covers the
-        life, a violation when it does not."""
-        from tradeoff.devices.life import HOURS_PER_YEAR, LIFE_DOUBLING_K, electrolytic_ageing, rated_life_h
-
-        years, hot = self.brief.environment.life_years, self.brief.ambient.max_c
-        if years is None:
-            return []
-        out = []
-        for part_id in dict.fromkeys(line.part for line in self.bom(design)):
-            part = self.catalog.part(part_id) if part_id in self.catalog else None
-            if part is None or not part.has("endurance"):
-                continue
-            endurance_h, t_max = part.value("endurance", "s") / 3600.0, part.value("temp_max", "degC")
-            lasts = rated_life_h(endurance_h, t_max, hot) / HOURS_PER_YEAR
-            ageing = electrolytic_ageing(part, years, hot)
-            text = (f"{part.id}: rated {endurance_h:.0f} h at {t_max:g} °C ({part.source('endurance')}), about "
-                    f"{lasts:.3g} years at {hot:g} °C (life doubles every {LIFE_DOUBLING_K:g} K cooler, common "
-                    f"practice)")
-            if ageing.used_frac > 1:
-                out.append(Finding("violation", "service-life", f"{text}: shorter than the {years:g}-year service "
-                                   "life; accepted: a class rated for longer or hotter, or a shorter life"))
-            else:
-                out.append(Finding("info", "service-life", f"{text}: the {years:g}-year service life uses "
-                                   f"{ageing.used_frac * 100:.3g} % of it, so its value band widens by ±"
-                                   f"{ageing.capacitance_change_frac * 100:.3g} % (leakage stays within its limit)"))
-        return out
-
     def _shortfalls(self, ev: Evaluation) -> list[str]:
         """Why `ev` fails the brief, in the designer's terms with numbers; empty when it meets it."""
-        from tradeoff.units import format_quantity as fq
-
-        out = []
-        lo, hi = ev.band
-        if ev.worst.min_s < lo:
-            out.append(f"worst-case shortest delay {fq(ev.worst.min_s, 's')} is below the band's minimum {fq(lo, 's')}")
-        if not math.isfinite(ev.worst.max_s):
-            out.append("at some corners the unit never times out (the end condition is never reached)")
-        elif ev.worst.max_s > hi:
-            out.append(f"worst-case longest delay {fq(ev.worst.max_s, 's')} exceeds the band's maximum {fq(hi, 's')}")
-        out.extend(margin_shortfalls(ev))
-        lim = self.brief.limits
-        if lim.standby_after_a is not None and ev.standby.after_a > lim.standby_after_a:
-            out.append(f"standby current after the timeout {fq(ev.standby.after_a, 'A')} exceeds the limit "
-                       f"{fq(lim.standby_after_a, 'A')}")
-        if lim.rails is not None and ev.rails > lim.rails:
-            out.append(f"needs {ev.rails} supply rails; the limit is {lim.rails}")
-        if lim.parts is not None and ev.placements > lim.parts:
-            out.append(f"needs {ev.placements} parts; the limit is {lim.parts}")
-        if lim.cost is not None and ev.cost > lim.cost:
-            out.append(f"indicative cost {ev.cost:.2f} EUR exceeds the limit {lim.cost:.2f} EUR")
+        out = band_shortfalls(ev.band, ev.worst.min_s, ev.worst.max_s)
+        out.extend(margin_shortfalls(ev.band, ev.margin_required_frac, ev.worst.min_s, ev.worst.max_s))
+        out.extend(limit_shortfalls(self.brief.limits, ev.standby.after_a, ev.rails, ev.placements, ev.cost))
         out.extend(f.message for f in ev.findings if f.severity == "violation")
         return out
