@@ -176,6 +176,7 @@ def test_bom_lists_both_parts_of_a_pair_with_its_pairing(catalog):
     assert [(l.refs, l.value, l.quantity, l.note) for l in lines] == [
         ("C1a", "100 µF 25 V", 1, "hold capacitor (parallel pair)"),
         ("C1b", "47 µF 25 V", 1, "hold capacitor (parallel pair)")]
+    assert {l.role for l in lines} == {"c_hold"}  # the optimiser's fixed cost leaves out a role's lines by this
     equal = Design("rc-mosfet", {"c_hold": 200e-6}, pairs={"c_hold": Pair(100e-6, 100e-6, "parallel")})
     (line,) = value_lines(equal, "c_hold", "C1", part, "hold capacitor", 25.0)
     assert (line.refs, line.quantity, line.cost) == ("C1a, C1b", 2, pytest.approx(2 * part.cost))
@@ -208,10 +209,12 @@ def test_a_centred_mosfet_hold_takes_pairs_into_its_design_bom_and_json(catalog)
     bom = topo.bom(design)
     hold = [line for line in bom if line.refs.startswith(("R1", "C1"))]
     assert sum(line.quantity for line in hold) == 4 and all("pair)" in line.note for line in hold)
+    assert [line for line in bom if line.role] == hold  # the lines the blocks choose, found by role
     evaluation = topo.evaluate(design, samples=200)
     assert evaluation.to_dict()["pairs"] == design.pairs_dict()
     # the placements the program counted are the parts the BOM lists
     assert result.totals["placements"] == sum(line.quantity for line in bom)
+    assert result.totals["cost"] == pytest.approx(evaluation.cost)  # fixed parts + the chosen rows = the BOM
 
 
 # ---- design files -----------------------------------------------------------------------------

@@ -164,7 +164,7 @@ def hold_selection(topo: "Topology") -> SelectionModel:
         links.append(Link((("start", "log_window", 1.0), ("hold", "log_need", -1.0)), ">=", 0.0,
                           f"start pulse keeps the PNP saturated for {CHARGE_TIME_CONSTANTS:.0f} time constants "
                           f"of r_charge·c_hold (hold capacitor charged to {CHARGE_FRACTION_MIN:.0%})"))
-    fixed = [line for line in topo.bom(design0) if line.refs not in ("R1", "C1", "R2", "C2")]
+    fixed = [line for line in topo.bom(design0) if line.role not in roles]  # the parts no block chooses
     standby = topo.standby(design0)
     return SelectionModel(
         topology=topo.id, combine="sum", blocks=blocks, links=links,

@@ -123,12 +123,12 @@ def value_lines(design: Design, role: str, ref: str, part: "Part", note: str, ra
     rating = f" {fq(rated_v, 'V')}" if rated_v > 0 else ""
     pair = design.pairs.get(role)
     if not pair:
-        return [BomLine(ref, part.id, fq(design.values[role], unit) + rating, 1, part.cost, note)]
+        return [BomLine(ref, part.id, fq(design.values[role], unit) + rating, 1, part.cost, note, role)]
     note = f"{note} ({pair.pairing} pair)"
     if pair.first == pair.second:
-        return [BomLine(f"{ref}a, {ref}b", part.id, fq(pair.first, unit) + rating, 2, part.cost, note)]
-    return [BomLine(f"{ref}a", part.id, fq(pair.first, unit) + rating, 1, part.cost, note),
-            BomLine(f"{ref}b", part.id, fq(pair.second, unit) + rating, 1, part.cost, note)]
+        return [BomLine(f"{ref}a, {ref}b", part.id, fq(pair.first, unit) + rating, 2, part.cost, note, role)]
+    return [BomLine(f"{ref}a", part.id, fq(pair.first, unit) + rating, 1, part.cost, note, role),
+            BomLine(f"{ref}b", part.id, fq(pair.second, unit) + rating, 1, part.cost, note, role)]
 
 
 def role_bom(topo: "Topology", design: Design, role: Role, ref: str, note: str) -> list[BomLine]:

@@ -45,7 +45,8 @@ class Pair(NamedTuple):
 
 @dataclass(frozen=True)
 class BomLine:
-    """One bill-of-materials line: reference designators, part class id, value text, quantity, unit cost [EUR]."""
+    """One bill-of-materials line: reference designators, part class id, value text, quantity, unit cost [EUR],
+    note, and the value role it fills."""
 
     refs: str
     part: str
@@ -53,6 +54,9 @@ class BomLine:
     quantity: int
     unit_cost: float
     note: str = ""
+    role: str = ""
+    """The value role this line fills (a `Role` name, e.g. 'c_hold'); empty for a fixed part. The optimiser's
+    fixed cost is the BOM less the lines of its roles, found by this field, never by reference designator."""
 
     @property
     def cost(self) -> float:
