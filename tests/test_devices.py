@@ -285,3 +285,20 @@ def test_power_on_release_against_integration():
         assert sol.t_events[0][0] == pytest.approx(power_on_release_s(tau, rise, frac), rel=1e-4)
     # step supply: ln(1/(1 − 1/3)) = 0.405 tau (standard circuit analysis)
     assert power_on_release_s(1.0, 0.0, 1 / 3) == pytest.approx(math.log(1.5))
+
+
+def test_bisection_on_arrays_matches_scipy_brentq():
+    # reference: scipy.optimize.brentq (Brent's method) on each element alone; the bisection must bracket
+    # each root within its width (hi - lo)/2**steps, arithmetic and geometric
+    from scipy.optimize import brentq
+
+    from tradeoff.devices.roots import bisect_arrays
+
+    targets = np.array([0.3, 2.0, 7.5, 40.0])
+    lo, hi = bisect_arrays(lambda x: x ** 3 + x >= targets, np.zeros(4), np.full(4, 5.0), 50)
+    for t, a, b in zip(targets, lo, hi):
+        root = brentq(lambda x: x ** 3 + x - t, 0.0, 5.0, xtol=1e-15)
+        assert a <= root <= b and b - a <= 5.0 / 2 ** 50
+    glo, ghi = bisect_arrays(lambda r: np.log10(r) >= np.array([0.5, 3.2]), np.full(2, 1.0), np.full(2, 1e6), 60,
+                             geometric=True)
+    assert glo == pytest.approx([10 ** 0.5, 10 ** 3.2], rel=1e-12) and ghi == pytest.approx(glo, rel=1e-12)

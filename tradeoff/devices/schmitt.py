@@ -14,10 +14,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from tradeoff.devices.roots import bisect_arrays
 from tradeoff.devices.junction import thermal_voltage_v
 from tradeoff.devices.quadrature import discharge_integral_s
 
-__all__ = ["saturation_current_a", "transfer_curve", "bisect_arrays", "rising_trip", "falling_trip_v",
+__all__ = ["saturation_current_a", "transfer_curve", "rising_trip", "falling_trip_v",
            "charge_time_s"]
 
 _FOLD_GRID = np.geomspace(1e-7, 0.6, 64)
@@ -81,15 +82,6 @@ def _on_curve(curve: _Curve, w):
     ie1, ie2 = curve.currents(w)
     slope, safe = curve.slope(w, ie1, ie2)
     return ie1, ie2, curve.input_v(ie1, ie2, safe), slope
-
-
-def bisect_arrays(rises, lo, hi, steps: int, geometric: bool = False):
-    """Bisection where the boolean array rises(mid) says the root lies below mid (arrays, vectorised)."""
-    for _ in range(steps):
-        mid = np.sqrt(lo * hi) if geometric else 0.5 * (lo + hi)
-        below = rises(mid)
-        lo, hi = np.where(below, lo, mid), np.where(below, mid, hi)
-    return lo, hi
 
 
 def _cutoff_w(curve: _Curve, shape) -> np.ndarray:

@@ -22,6 +22,7 @@ import pandas as pd
 from tradeoff import eseries
 from tradeoff.candidates import EVALUATION_CHUNK, bom_lines, pair_columns
 from tradeoff.analysis import Uncertain
+from tradeoff.devices.roots import bisect_arrays
 from tradeoff.devices.oscillator import rc_half_periods_s, rc_junction_v, rc_running_current_a, threshold_factor
 from tradeoff.devices.oscillator_tables import RS_RATIO, OscillatorTables, oscillator_tables, rc_extremes
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Waveform
@@ -111,11 +112,8 @@ def _network_and_inverters(counter: "Part", rs_ratio, cp_ratio, rt_ohm, vdd_v, m
 
 def _threshold_for(factor: float) -> float:
     """Threshold v in [1/2, 0.95] with F(v) = factor (F rises from 2·ln 3 at 1/2); 1/2 below 2·ln 3."""
-    lo, hi = 0.5, 0.95
-    for _ in range(60):
-        mid = 0.5 * (lo + hi)
-        lo, hi = (mid, hi) if threshold_factor(mid) < factor else (lo, mid)
-    return 0.5 * (lo + hi)
+    lo, hi = bisect_arrays(lambda v: threshold_factor(v) >= factor, 0.5, 0.95, 60)
+    return float(0.5 * (lo + hi))
 
 
 def oscillator_netlist(rt_ohm: float, ct_f: float, rs_ohm: float, vdd_v: float, vt_frac: float, title: str,

@@ -37,7 +37,8 @@ from tradeoff.selection import SelectionModel
 from tradeoff.devices.capacitor import LEAK_LEVEL, CapacitorLeakage
 from tradeoff.devices.junction import hfe_at, thermal_voltage_v, vbe_at_v
 from tradeoff.devices.quadrature import evaluate_in_chunks
-from tradeoff.devices.schmitt import bisect_arrays, charge_time_s, falling_trip_v, rising_trip, saturation_current_a
+from tradeoff.devices.roots import bisect_arrays
+from tradeoff.devices.schmitt import charge_time_s, falling_trip_v, rising_trip, saturation_current_a
 from tradeoff.topologies import bands, hold_state
 from tradeoff.topologies.base import BomLine, Design, Finding, Role, Standby, Topology, Waveform
 from tradeoff.topologies.ic_common import value_lines
