@@ -22,7 +22,7 @@ from tradeoff.devices.life import electrolytic_ageing, surface_conductance_s
 from tradeoff.units import format_quantity as fq
 
 __all__ = ["BOARD_LEAK", "board_leak", "board_conductance_s", "life_change_frac", "outlived", "component_band",
-           "hold_pairs", "role_tables", "pair_rows", "window_pairs", "Dropped"]
+           "hold_pairs", "role_tables", "pair_rows", "pair_columns_of", "window_pairs", "Dropped"]
 
 if TYPE_CHECKING:  # pragma: no cover
     from tradeoff.brief import Brief
@@ -114,25 +114,36 @@ def role_tables(r_role: "Role", c_role: "Role", brief: "Brief", catalog: "Catalo
 
 def pair_rows(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, ri: np.ndarray,
               ci: np.ndarray) -> pd.DataFrame:
-    """Rows of the candidate pairs (r.iloc[ri], c.iloc[ci]) of two `role_tables`.
+    """Rows of the candidate pairs (r.iloc[ri], c.iloc[ci]) of two `role_tables` (columns `pair_columns_of`)."""
+    return pd.DataFrame(pair_columns_of(r_role, c_role, r, c, ri, ci), copy=False)
+
+
+def pair_columns_of(r_role: "Role", c_role: "Role", r: pd.DataFrame, c: pd.DataFrame, ri: np.ndarray,
+                    ci: np.ndarray) -> dict[str, np.ndarray | pd.api.extensions.ExtensionArray]:
+    """Columns of the candidate pairs (r.iloc[ri], c.iloc[ci]) of two `role_tables`, one array each, for a table
+    built once (a table's columns are not copied again).
 
     Columns: <r_role>, <c_role> (values [ohm], [F]), r_part, c_part, r_spread, c_spread (band
     fractions as in `component_band`), c_rated_v [V], cost [EUR], placements, BOM lines, and each role's pair
     (<role>_first, <role>_second, <role>_pairing: `candidates.CANDIDATE_COLUMNS`).
     """
     ri, ci = np.asarray(ri, dtype=np.int64), np.asarray(ci, dtype=np.int64)
-    column = {name: (r[name].to_numpy()[ri], c[name].to_numpy()[ci]) for name in
-              ("value", "part", "spread", "cost", "placements")}
-    return pd.DataFrame({
-        r_role.name: column["value"][0].astype(float), c_role.name: column["value"][1].astype(float),
-        "r_part": column["part"][0], "c_part": column["part"][1],
-        "r_spread": column["spread"][0].astype(float), "c_spread": column["spread"][1].astype(float),
-        "c_rated_v": c["rated_v"].to_numpy(float)[ci],
-        "cost": (column["cost"][0] + column["cost"][1]).astype(float),
-        "placements": (column["placements"][0] + column["placements"][1]).astype(int),
-        "lines": bom_lines(r, ri) + bom_lines(c, ci),
+
+    def both(name, dtype):   # the two candidates' figures, summed
+        total = r[name].to_numpy(dtype)[ri]
+        total += c[name].to_numpy(dtype)[ci]
+        return total
+
+    lines = bom_lines(r, slice(None))[ri]   # per candidate first, then per pair: no pair-sized intermediates
+    lines += bom_lines(c, slice(None))[ci]
+    return {
+        r_role.name: r["value"].to_numpy(float)[ri], c_role.name: c["value"].to_numpy(float)[ci],
+        "r_part": r["part"].array.take(ri), "c_part": c["part"].array.take(ci),
+        "r_spread": r["spread"].to_numpy(float)[ri], "c_spread": c["spread"].to_numpy(float)[ci],
+        "c_rated_v": c["rated_v"].to_numpy(float)[ci], "cost": both("cost", float),
+        "placements": both("placements", int), "lines": lines,
         **pair_columns(r_role.name, r, ri), **pair_columns(c_role.name, c, ci),
-    }).astype({"r_part": r["part"].dtype, "c_part": c["part"].dtype})   # also when no pair is listed
+    }
 
 
 def window_pairs(r: pd.DataFrame, c: pd.DataFrame, inner_is_r: bool,

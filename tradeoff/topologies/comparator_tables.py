@@ -74,25 +74,11 @@ def comparator_selection(topo: "Topology") -> SelectionModel:
     order = np.lexsort((at, ri, at // max(len(c), 1)))   # rail-major, then the (r, c) table's order
     ri, at = ri[order], at[order]
     lo, nom, hi = (delays(ri, at, kind) for kind in ("lo", "nom", "hi"))
-    tables = []
-    for i, rail in enumerate(rails):
-        fixed = topo._fixed_bom(Design(topo.id, {}, {"regulator": rail.option}), rail)
-        during, after = topo._currents(Design(topo.id), rail)
-        mine = at // len(c) == i
-        pairs = bands.pair_rows(r_role, c_role, r, c, ri[mine], at[mine] % len(c))
-        tables.append(pairs.assign(delay_lo=lo[mine], delay_nom=nom[mine], delay_hi=hi[mine],
-                                   regulator=rail.option, comparator=comp.id, reference=ref.id,
-                                   cost=pairs["cost"] + sum(b.cost for b in fixed),
-                                   placements=pairs["placements"] + sum(b.quantity for b in fixed),
-                                   lines=pairs["lines"] + len(fixed), during_a=during, after_a=after, rails=rail.rails - 1))
-    empty = bands.pair_rows(r_role, c_role, r, c, [], [])
-    table = pd.concat(tables, ignore_index=True) if tables else empty.assign(
-        delay_lo=0.0, delay_nom=0.0, delay_hi=0.0, regulator="", comparator="", reference="", lines=0,
-        during_a=0.0, after_a=0.0, rails=0)
-    never = ~np.isfinite(table["delay_hi"].to_numpy(float))
-    keep = dropped.drop(never, lambda m: "at the longest-delay corner the comparator's bias current into the "
-                        "capacitor exceeds the hold resistor's current at the trip voltage: never times out")
-    table = table[keep].rename(columns={"r_part": "r_hold_part", "c_part": "c_hold_part"})
+    keep = dropped.drop(~np.isfinite(hi), lambda m: "at the longest-delay corner the comparator's bias current "
+                        "into the capacitor exceeds the hold resistor's current at the trip voltage: never times out")
+    index = pd.RangeIndex(len(keep))[keep]   # the rows' positions before the never-ending ones left
+    ri, at, lo, nom, hi = (column[keep] for column in (ri, at, lo, nom, hi))
+    table = pd.DataFrame(_rail_table(topo, rails, r, c, ri, at, (lo, nom, hi), comp, ref), index=index, copy=False)
     block = Block("hold", table, roles=("r_hold", "c_hold"),
                   options=("r_hold_part", "c_hold_part", "c_rated_v", "regulator", "comparator", "reference"),
                   dropped=dict(dropped))
@@ -100,6 +86,28 @@ def comparator_selection(topo: "Topology") -> SelectionModel:
                           notes=["threshold divider fixed; the delay is monotone in each spread quantity but the "
                                  "ambient, so the table's extremes are the two extreme corners, each at the worse "
                                  "ambient end"])
+
+
+def _rail_table(topo: "Topology", rails: list[logic.LogicRail], r: pd.DataFrame, c: pd.DataFrame, ri: np.ndarray,
+                at: np.ndarray, delays: tuple[np.ndarray, np.ndarray, np.ndarray], comp, ref) -> dict[str, object]:
+    """Columns of the hold block's rows (r.iloc[ri], c.iloc[at % len(c)]) on the rail rails[at // len(c)]: the
+    pair's columns (`bands.pair_columns_of`) with each rail's fixed parts added to cost, placements and lines,
+    the delays (lo, nom, hi) [s], the rail's options and its currents during and after the hold [A]."""
+    rail_of = at // max(len(c), 1)
+    fixed = [topo._fixed_bom(Design(topo.id, {}, {"regulator": rail.option}), rail) for rail in rails]
+    currents = np.array([topo._currents(Design(topo.id), rail) for rail in rails], dtype=float).reshape(-1, 2)
+    pairs = bands.pair_columns_of(*topo.roles(), r, c, ri, at % max(len(c), 1))
+    pairs["cost"] += np.array([sum(b.cost for b in f) for f in fixed], dtype=float)[rail_of]
+    pairs["placements"] += np.array([sum(b.quantity for b in f) for f in fixed], dtype=np.int64)[rail_of]
+    pairs["lines"] += np.array([len(f) for f in fixed], dtype=np.int64)[rail_of]
+    renamed = {"r_part": "r_hold_part", "c_part": "c_hold_part"}
+    return {**{renamed.get(name, name): column for name, column in pairs.items()},
+            "delay_lo": delays[0], "delay_nom": delays[1], "delay_hi": delays[2],
+            "regulator": pd.array([rail.option for rail in rails], dtype="str").take(rail_of),
+            **{role: pd.array([part.id], dtype="str").take(np.zeros(len(at), dtype=np.int64))
+               for role, part in (("comparator", comp), ("reference", ref))},
+            "during_a": currents[rail_of, 0], "after_a": currents[rail_of, 1],
+            "rails": np.array([rail.rails - 1 for rail in rails], dtype=np.int64)[rail_of]}
 
 
 def pair_delays(topo: "Topology", rails: list[logic.LogicRail], comp, ref, r: pd.DataFrame, c: pd.DataFrame,
@@ -116,10 +124,13 @@ def pair_delays(topo: "Topology", rails: list[logic.LogicRail], comp, ref, r: pd
     ci, rail_of = at % max(len(c), 1), at // max(len(c), 1)
     r_value, r_spread = r["value"].to_numpy(float)[ri], r["spread"].to_numpy(float)[ri]
     c_value, c_spread = c["value"].to_numpy(float)[ci], c["spread"].to_numpy(float)[ci]
-    c_part, rated = c["part"].to_numpy()[ci], c["rated_v"].to_numpy(float)[ci]
-    for (rail_index, part_id), rows in pd.DataFrame({"rail": rail_of, "part": c_part}).groupby(
-            ["rail", "part"], sort=False).indices.items():
+    rated = c["rated_v"].to_numpy(float)[ci]
+    part_code, part_ids = pd.factorize(c["part"])
+    group = rail_of * max(len(part_ids), 1) + part_code[ci]   # one group per (rail, capacitor class)
+    by_group = np.argsort(group, kind="stable")
+    for rows in np.split(by_group, np.flatnonzero(np.diff(group[by_group])) + 1) if len(by_group) else []:
         first = rows[0]
+        rail_index, part_id = int(rail_of[first]), part_ids[part_code[ci[first]]]
         design = Design(topo.id, {"r_hold": float(r_value[first]), "c_hold": float(c_value[first])},
                         {"regulator": rails[rail_index].option, "c_hold_part": part_id,
                          "c_rated_v": float(rated[first]), "r_hold_part": r["part"].iat[int(ri[first])],
