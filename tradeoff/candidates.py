@@ -189,7 +189,7 @@ def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: l
     are rated for the whole supply: over a long hold the DC split follows the insulation resistances, which
     the datasheets bound only from below, so either part may see nearly all of it.
     """
-    tables = []
+    columns: dict[str, list] = {name: [] for name in CANDIDATE_COLUMNS}
     for part in classes if classes is not None else allowed_classes(role, catalog):
         lo, hi = _class_range(role, part)
         if lo > hi:
@@ -203,14 +203,19 @@ def role_candidates(role: "Role", brief: "Brief", catalog: "Catalog", classes: l
         series = series_for(part, brief)
         values, firsts, seconds, pairings = _realisations(role, part, brief, series, lo, hi, rated)
         placements = np.where(seconds > 0, 2, 1)
-        tables.append(pd.DataFrame({
-            "value": values, "part": part.id, "series": series,
-            "tolerance": part.value("tolerance", ""), "tempco": part.value("tempco", "1/K"),
-            "voltage_coefficient": voltage_coefficient(part),
-            "cost": placements * part.cost, "placements": placements, "first": firsts, "second": seconds,
-            "pairing": pairings, "rated_v": rated}, columns=list(CANDIDATE_COLUMNS)))
-    table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=list(CANDIDATE_COLUMNS))
-    return table.sort_values(["value", "cost"], kind="stable").reset_index(drop=True)
+        each = {"value": values, "part": part.id, "series": series, "tolerance": part.value("tolerance", ""),
+                "tempco": part.value("tempco", "1/K"), "voltage_coefficient": voltage_coefficient(part),
+                "cost": placements * part.cost, "placements": placements, "first": firsts, "second": seconds,
+                "pairing": pairings.astype(object), "rated_v": rated}
+        for name, column in each.items():
+            columns[name].append(np.broadcast_to(np.asarray(column, dtype=object if isinstance(column, str) else None),
+                                                 values.shape))
+    if not columns["value"]:
+        return pd.DataFrame(columns=list(CANDIDATE_COLUMNS))
+    joined = {name: np.concatenate(parts) for name, parts in columns.items()}
+    order = np.lexsort((joined["cost"], joined["value"]))   # by value then cost, stable: the classes' order on a tie
+    return pd.DataFrame({name: pd.array(column[order], dtype="str") if column.dtype == object else column[order]
+                         for name, column in joined.items()}, copy=False)
 
 
 def pair_columns(role: str, table: pd.DataFrame, at) -> dict[str, np.ndarray]:
