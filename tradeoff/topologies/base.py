@@ -362,12 +362,14 @@ class Topology(ABC):
         """Verification of `design` without its Monte Carlo: the corners, limits and design rules, which alone
         decide whether it meets the brief (the Monte Carlo reports the spread, it decides nothing). The
         study screens each proposed design so a rejected one never pays for its samples."""
+        bom = self.bom(design)
+        findings = [*self.checks(design),
+                    *value_range_findings(self.roles(), design.values, design.options, self.catalog),
+                    *life_findings(self.brief, self.catalog, bom)]
         ev = Evaluation(
             topology=self.id, design=design, nominal_s=self.nominal_delay(design),
             worst=self.worst_case(design), mc=None,
-            standby=self.standby(design), rails=self.rails(design), bom=self.bom(design),
-            findings=self.checks(design) + value_range_findings(self.roles(), design.values, design.options, self.catalog)
-            + life_findings(self.brief, self.catalog, self.bom(design)),
+            standby=self.standby(design), rails=self.rails(design), bom=bom, findings=findings,
             band=(self.brief.delay.min_s, self.brief.delay.max_s),
             coverage=self.brief.analysis.coverage, supply_v=self.brief.supply.nominal_v,
             adapter_no_load_w=self.brief.supply.no_load_power_w, effort=self.effort(design),
